@@ -29,7 +29,31 @@ File File::open(const std::string& path) {
       why = "not a NetCDF or HDF5 file (or the file is truncated or damaged)";
     throw DataError(path + ": cannot open: " + why);
   }
-  return File(ncid, path);
+  File f(ncid, path);
+  f.check_classic_size();
+  return f;
+}
+
+// netCDF-C reads a truncated NetCDF-3 file without complaint (missing bytes
+// come back as fill values), so compare the file's size with the bytes its
+// variables need. HDF5-based files fail at open or read on their own.
+void File::check_classic_size() const {
+  int fmt = 0;
+  check(nc_inq_format(ncid_, &fmt), "nc_inq_format", path_);
+  if (fmt != NC_FORMAT_CLASSIC && fmt != NC_FORMAT_64BIT_OFFSET && fmt != NC_FORMAT_64BIT_DATA) return;
+  std::uintmax_t need = 0;
+  for (const Var& v : vars()) {
+    std::size_t size = 0;
+    check(nc_inq_type(ncid_, v.type, nullptr, &size), "nc_inq_type", path_, v.name);
+    std::uintmax_t n = size;
+    for (int d : v.dims) n *= dim(d).length;
+    need += (n + 3) / 4 * 4;
+  }
+  std::error_code ec;
+  std::uintmax_t have = std::filesystem::file_size(path_, ec);
+  if (!ec && have < need)
+    throw DataError(path_ + ": the file is truncated (" + std::to_string(have) + " bytes, but its variables need at least " +
+                    std::to_string(need) + ")");
 }
 
 File File::create(const std::string& path, bool classic, bool offset64) {

@@ -101,6 +101,7 @@ public:
 private:
   File(int ncid, std::string path) : ncid_(ncid), path_(std::move(path)) {}
   std::string var_label(int varid) const;
+  void check_classic_size() const;
   int ncid_ = -1;
   std::string path_;
 };

@@ -1,0 +1,134 @@
+// One NetCDF/HDF5 file seen as 500 hPa heights: which variable, which level,
+// the grid, the time axis and the ensemble members, and hyperslab reads of
+// just the domain, level, member and time steps asked for.
+//
+// What it handles (CF Conventions 1.10; NetCDF User Guide app. B):
+//  - NetCDF-3 classic and 64-bit offset, NetCDF-4 and NetCDF-4 classic (HDF5)
+//    through netCDF-C;
+//  - the height variable found by standard_name (geopotential,
+//    geopotential_height), then units, then common names, or named by the
+//    user; an ambiguous choice is refused, listing the candidates;
+//  - the level picked from a pressure dimension in hPa, Pa or mbar; a file
+//    without a level dimension is taken as single-level (its `lev`/`level`
+//    attribute, if any, must match);
+//  - packing: value = packed * scale_factor + add_offset, after _FillValue,
+//    missing_value and valid_min/valid_max/valid_range (in packed units)
+//    turned into NaN; geopotential (m2 s-2) / g0 (9.80665 m s-2) -> metres,
+//    "dam" -> metres;
+//  - latitudes returned ascending, the domain's longitudes contiguous for
+//    files in 0..360 or -180..180 and domains across the dateline or the
+//    prime meridian;
+//  - CF time in every CF calendar (see calendar.hpp).
+// Every error names the file. Not thread-safe (netCDF-C is not): use one
+// dataset from one thread.
+#pragma once
+
+#include <armadillo>
+#include <memory>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "isohypse/calendar.hpp"
+#include "isohypse/field.hpp"
+
+namespace isohypse {
+
+// Standard gravity (WMO), m s-2.
+inline constexpr double kStandardGravity = 9.80665;
+
+// A variable that could hold 500 hPa heights, with why it qualifies.
+struct HeightCandidate {
+  std::string name;
+  std::string standard_name;
+  std::string units;
+  std::string long_name;
+  std::vector<std::string> dims;
+  bool geopotential = false;  // m2 s-2 (true) or metres of height (false)
+  int score = 0;              // 3 standard_name, +2 units, +1 common name
+};
+
+struct Packing {
+  bool packed = false;
+  double scale_factor = 1.0;
+  double add_offset = 0.0;
+  std::vector<double> missing;  // _FillValue and missing_value, packed units
+  std::optional<double> valid_min, valid_max;
+  std::string stored_type;  // "short", "float", ...
+};
+
+// What a file holds, in the file's own order, decoded.
+struct DatasetInfo {
+  std::string path;
+  std::string format;                 // e.g. "NetCDF-4 classic model"
+  std::vector<HeightCandidate> candidates;
+  std::string variable;               // the chosen one
+  std::string units;                  // as in the file
+  double to_metres = 1.0;             // multiply unpacked values by this
+  bool geopotential = false;
+  Packing packing;
+  arma::vec file_lat;                 // as stored (maybe descending)
+  arma::vec file_lon;                 // as stored
+  std::vector<double> levels;         // hPa, empty when no level dimension
+  std::string level_note;             // how the level was chosen
+  std::size_t level_index = 0;
+  Calendar calendar = Calendar::Standard;
+  std::string time_units;
+  std::vector<Instant> times;         // decoded, file order
+  std::optional<Instant> reference_time;  // forecast_reference_time, if any
+  std::size_t members = 1;            // length of the member dimension (1 if none)
+  std::string member_dim;             // empty if none
+  std::string time_dim;
+
+  bool lat_descending() const { return file_lat.n_elem > 1 && file_lat(0) > file_lat(file_lat.n_elem - 1); }
+  // "0..360", "-180..180" or "regional"
+  std::string lon_convention() const;
+  bool global_in_lon() const;
+};
+
+// Which part of the file's grid a domain takes, and in what order.
+struct DomainSelection {
+  Grid grid;                               // the output grid (ascending lat, contiguous lon)
+  std::size_t lat_start = 0, lat_count = 0;  // file index range
+  struct Run { std::size_t start, count, out_offset; };
+  std::vector<Run> lon_runs;               // contiguous file index runs, in output order
+};
+
+class HeightDataset {
+public:
+  // Opens `path`, chooses the variable (`variable` if given) and the level.
+  // Throws InputError (missing file, unknown variable name) or DataError
+  // (not NetCDF, truncated, no height variable, ambiguous, no such level,
+  // unknown units, undecodable time), each naming the file.
+  static HeightDataset open(const std::string& path, const std::string& variable = "", double level_hpa = 500.0);
+  // Like open() but only lists candidates when no variable qualifies
+  // (for `inspect`, which describes files it cannot use too).
+  HeightDataset(HeightDataset&&) noexcept;
+  HeightDataset& operator=(HeightDataset&&) noexcept;
+  ~HeightDataset();
+
+  const DatasetInfo& info() const;
+
+  // The selection for `domain` (the whole grid when empty). Throws InputError
+  // naming the file when the grid does not cover the domain, listing both.
+  DomainSelection select(const std::optional<Domain>& domain) const;
+
+  // Heights in metres, n_points x count, for time steps [t0, t0+count) of
+  // member `member`: NaN where missing.
+  arma::fmat read(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member = 0) const;
+
+  // Number of values equal to a fill/missing/out-of-range code in the chosen
+  // variable at the chosen level over the whole grid and all steps.
+  std::size_t count_missing() const;
+
+private:
+  struct Impl;
+  explicit HeightDataset(std::unique_ptr<Impl> impl);
+  std::unique_ptr<Impl> impl_;
+};
+
+// Lists the candidate height variables of a file without choosing (for
+// inspect on a file that fails open()).
+std::vector<HeightCandidate> list_height_candidates(const std::string& path);
+
+}  // namespace isohypse

@@ -1,0 +1,53 @@
+// isohypse inspect FILE...: describe what a file holds, the first command a
+// user runs on a file they were sent.
+#include <nlohmann/json.hpp>
+
+#include <iostream>
+
+#include "cli/commands.hpp"
+#include "isohypse/dataset.hpp"
+#include "isohypse/error.hpp"
+#include "isohypse/inspect.hpp"
+#include "isohypse/reader.hpp"
+
+namespace isohypse::cli {
+
+void add_inspect(CLI::App& app) {
+  struct Args {
+    std::vector<std::string> files;
+    std::string variable;
+    double level = 500.0;
+    bool json = false;
+  };
+  auto args = std::make_shared<Args>();
+  CLI::App* sub = app.add_subcommand("inspect", "Describe height files: variables, grid, levels, time, packing, gaps");
+  sub->add_option("files", args->files, "Files or quoted globs (e.g. 'data/hgt500_*.nc')")->required();
+  sub->add_option("--variable", args->variable, "Height variable to describe (default: found automatically)");
+  sub->add_option("--level", args->level, "Pressure level in hPa")->capture_default_str();
+  sub->add_flag("--json", args->json, "Print JSON instead of text");
+  sub->callback([args] {
+    std::vector<std::string> paths = expand_paths(args->files);
+    nlohmann::json all = nlohmann::json::array();
+    int failures = 0;
+    nlohmann::json last_failure;
+    for (const std::string& p : paths) {
+      nlohmann::json j = describe_file(p, args->variable, args->level);
+      if (j.contains("error")) {
+        ++failures;
+        last_failure = j;
+      }
+      if (args->json) all.push_back(j);
+      else if (!j.contains("error") || paths.size() > 1) std::cout << describe_text(j) << "\n";
+    }
+    if (args->json) std::cout << (paths.size() == 1 ? all[0] : all).dump(2) << "\n";
+    if (failures == 1 && paths.size() == 1) {
+      std::string msg = last_failure["error"];
+      if (last_failure["error_kind"] == "input") throw InputError(msg);
+      throw DataError(msg);
+    }
+    if (failures) throw DataError(std::to_string(failures) + " of " + std::to_string(paths.size()) +
+                                  " files cannot be used (see above)");
+  });
+}
+
+}  // namespace isohypse::cli

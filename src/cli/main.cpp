@@ -1,0 +1,45 @@
+// isohypse: circulation-regime guidance from 500 hPa heights.
+// The front end only parses flags, calls the library, prints and maps errors
+// to exit codes: 0 ok, 1 usage, 2 bad input, 3 bad data, 4 numerical failure.
+#include <spdlog/spdlog.h>
+
+#include <iostream>
+
+#include "cli/commands.hpp"
+#include "isohypse/error.hpp"
+
+int main(int argc, char** argv) {
+  CLI::App app{
+      "isohypse " ISOHYPSE_VERSION
+      ": circulation-regime guidance from 500 hPa heights.\n"
+      "Regime guidance supports, and never replaces, official warnings and the judgement of licensed forecasters."};
+  app.require_subcommand(1);
+  app.set_version_flag("--version", "isohypse " ISOHYPSE_VERSION);
+  std::string log_level = "info";
+  app.add_option("--log-level", log_level, "trace, debug, info, warn, error or off")
+      ->check(CLI::IsMember({"trace", "debug", "info", "warn", "error", "off"}));
+  app.parse_complete_callback([&] { spdlog::set_level(spdlog::level::from_str(log_level)); });
+  spdlog::set_pattern("%^%l%$: %v");
+
+  using namespace isohypse;
+  cli::add_inspect(app);
+
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::ParseError& e) {
+    return app.exit(e);
+  } catch (const InputError& e) {
+    std::cerr << "isohypse: error: " << e.what() << "\n";
+    return 2;
+  } catch (const DataError& e) {
+    std::cerr << "isohypse: error: " << e.what() << "\n";
+    return 3;
+  } catch (const NumericalError& e) {
+    std::cerr << "isohypse: error: " << e.what() << "\n";
+    return 4;
+  } catch (const std::exception& e) {
+    std::cerr << "isohypse: internal error: " << e.what() << "\n";
+    return 5;
+  }
+  return 0;
+}
