@@ -248,7 +248,8 @@ HeightDataset HeightDataset::open(const std::string& path, const std::string& va
   if (auto fv = f.num_att(vid, "_FillValue"); fv && !fv->empty()) pk.missing.push_back((*fv)[0]);
   else if (auto d = default_fill(impl->var.type)) pk.missing.push_back(*d);
   if (auto mv = f.num_att(vid, "missing_value"))
-    for (double x : *mv) pk.missing.push_back(x);
+    for (double x : *mv)
+      if (std::find(pk.missing.begin(), pk.missing.end(), x) == pk.missing.end()) pk.missing.push_back(x);
   if (auto vr = f.num_att(vid, "valid_range"); vr && vr->size() == 2) { pk.valid_min = (*vr)[0]; pk.valid_max = (*vr)[1]; }
   if (auto vmin = f.num_att(vid, "valid_min"); vmin && !vmin->empty()) pk.valid_min = (*vmin)[0];
   if (auto vmax = f.num_att(vid, "valid_max"); vmax && !vmax->empty()) pk.valid_max = (*vmax)[0];

@@ -23,6 +23,7 @@ int main(int argc, char** argv) {
 
   using namespace isohypse;
   cli::add_inspect(app);
+  cli::add_derive(app);
 
   try {
     app.parse(argc, argv);

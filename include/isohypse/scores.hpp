@@ -1,0 +1,127 @@
+// Verification scores for regime guidance: pure functions, no file I/O.
+//
+// Formulas follow Wilks (2011), Statistical Methods in the Atmospheric
+// Sciences, 3rd ed., ch. 8. Conventions shared by every function here:
+// - A binary event: forecast probabilities p in [0, 1], outcomes o in {0, 1},
+//   one case per element, p and o of equal, non-zero length. NaN, values
+//   outside [0, 1], or outcomes other than 0 and 1 throw InputError; the
+//   caller removes missing cases first.
+// - Categories (regimes, with "no regime" as one more category if used) are
+//   labelled 0 .. K-1. Regimes are not ordered, so no ranked score (RPS) is
+//   offered.
+// - A score that is undefined for the data (a skill score against a perfect
+//   reference, a ROC area with one class only) is NaN, not an exception.
+#pragma once
+
+#include <armadillo>
+#include <cstddef>
+#include <cstdint>
+#include <functional>
+#include <vector>
+
+namespace isohypse {
+
+// Brier (1950) score: mean of (p - o)^2 over the cases. 0 is perfect, 1 the
+// worst. Throws InputError naming both sizes when they differ or are 0.
+double brier_score(const arma::vec& p, const arma::vec& o);
+
+// Murphy (1973) decomposition of the Brier score:
+//   reliability = (1/N) sum_k n_k (pbar_k - obar_k)^2
+//   resolution  = (1/N) sum_k n_k (obar_k - obar)^2
+//   uncertainty = obar (1 - obar),   obar = base_rate = mean(o)
+// brier is always the Brier score of the cases themselves.
+struct BrierParts {
+  double brier, reliability, resolution, uncertainty;
+  double base_rate;
+};
+// With empty bin_edges, the cases are grouped by distinct forecast value
+// (pbar_k is that value) and brier = reliability - resolution + uncertainty
+// holds exactly (to rounding). With bin_edges (strictly increasing, covering
+// every p; bins [e_i, e_i+1), the last one closed), pbar_k is the bin's mean
+// forecast and empty bins are skipped; the within-bin variance and covariance
+// terms are IGNORED, so reliability - resolution + uncertainty then differs
+// from brier by them: the parts are reported as computed, not adjusted.
+// Throws InputError as brier_score does, and for unusable bin edges.
+BrierParts brier_decomposition(const arma::vec& p, const arma::vec& o,
+                               const arma::vec& bin_edges = {});
+
+// Skill score 1 - score / reference for a negatively oriented score (Brier,
+// multi-category Brier): 1 is perfect, 0 no better than the reference,
+// negative worse. NaN when reference is 0 (a perfect reference leaves no room
+// for skill).
+double skill_score(double score, double reference);
+
+// Multi-category Brier score of one forecast: sum_k (p_k - o_k)^2 with o the
+// one-hot vector of the observed category (0-based). 0 is perfect, 2 the
+// worst. p is not required to sum to 1 (callers may round). Throws InputError
+// for an empty p, a p_k outside [0, 1], or observed outside 0 .. K-1.
+double multicategory_brier(const arma::rowvec& p, int observed);
+// Mean of the above over the rows of p (n cases x K categories), row i
+// observed in category observed[i]. A separate name, because a matrix
+// converts to a row vector and would make an overload ambiguous. Throws
+// InputError naming both sizes when p.n_rows != observed.size() or either is
+// 0, and as above per row.
+double mean_multicategory_brier(const arma::mat& p, const std::vector<int>& observed);
+
+// Area under the ROC curve as the Mann-Whitney statistic (Mason & Graham
+// 2002): the fraction of (event, non-event) pairs in which the event case
+// has the higher probability, ties counted half. 1 is perfect, 0.5 no
+// discrimination. Exact pair counting, O(N log N). NaN when only one class
+// is present. Throws InputError as brier_score does.
+double roc_area(const arma::vec& p, const arma::vec& o);
+
+// One bin of a reliability diagram.
+struct ReliabilityBin {
+  double lower, upper;        // bin edges: [lower, upper), the last one closed
+  double mean_forecast;       // mean p of the bin's cases; NaN if count == 0
+  double observed_frequency;  // mean o of the bin's cases; NaN if count == 0
+  std::size_t count;          // number of cases in the bin
+};
+// n_bins equal-width bins over [0, 1], all reported (empty ones with count 0).
+// Consistency bars (Broecker & Smith 2007) are left to the caller, which has
+// the counts. Throws InputError as brier_score does and for n_bins < 1.
+std::vector<ReliabilityBin> reliability_diagram(const arma::vec& p, const arma::vec& o,
+                                                int n_bins = 10);
+
+// K x K contingency table of categorical forecasts against observations:
+// ROWS are forecast categories, COLUMNS observed categories; entry (i, j)
+// counts cases forecast i and observed j. Throws InputError when the sizes
+// differ or are 0, K < 1, or a label lies outside 0 .. K-1 (naming the case).
+arma::umat contingency(const std::vector<int>& forecast, const std::vector<int>& observed, int K);
+
+// Heidke skill score (PC - E) / (1 - E), PC = sum_k n_kk / N,
+// E = sum_k n_k. n_.k / N^2 (the proportion correct by chance). Identical to
+// Cohen's kappa. NaN when E == 1 (one category used by both). The functions
+// on tables throw InputError for a non-square or all-zero table.
+double heidke_skill(const arma::umat& table);
+// Frequency bias per category, B_k = n_k. / n_.k (forecast count over
+// observed count): 1 unbiased, > 1 over-forecast. Inf when a category is
+// forecast but never observed, NaN when neither.
+arma::vec frequency_bias(const arma::umat& table);
+// Proportion correct sum_k n_kk / N.
+double proportion_correct(const arma::umat& table);
+
+// A point estimate with a confidence interval.
+struct Interval {
+  double estimate, lower, upper;
+  // Resamples whose statistic was finite (the others are left out of the
+  // percentiles); lower and upper are NaN when none was.
+  std::size_t finite_resamples = 0;
+};
+// Block bootstrap percentile interval. Cases that share a block label (e.g.
+// the initialisation date, whose lead times and members are correlated) are
+// resampled together: each resample draws as many blocks as there are
+// distinct labels, uniformly with replacement, and calls statistic on the
+// concatenation of their case indices (0-based indices into block_of_case;
+// a block drawn twice appears twice). estimate = statistic on all cases in
+// their original order; lower and upper are the (1 - level)/2 and
+// (1 + level)/2 quantiles of the resampled statistics (linear interpolation
+// between order statistics, numpy's default). Single-threaded and
+// deterministic for a seed (own integer mapping of std::mt19937_64, so the
+// same on every standard library). Throws InputError for an empty
+// block_of_case, resamples < 1, or level outside (0, 1).
+Interval block_bootstrap(const std::vector<int>& block_of_case,
+                         const std::function<double(const std::vector<std::size_t>& case_indices)>& statistic,
+                         int resamples, double level, std::uint64_t seed);
+
+}  // namespace isohypse

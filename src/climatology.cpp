@@ -1,0 +1,110 @@
+#include "isohypse/climatology.hpp"
+
+#include <cmath>
+
+#include "isohypse/error.hpp"
+
+namespace isohypse {
+
+arma::rowvec Climatology::basis(const Date& d) const {
+  arma::rowvec b(1 + 2 * harmonics + (detrend ? 1 : 0));
+  const double f = (day_of_year(d) - 1.0) / days_in_year(d.year, d.calendar);
+  b(0) = 1.0;
+  for (int n = 1; n <= harmonics; ++n) {
+    b(2 * n - 1) = std::cos(2.0 * M_PI * n * f);
+    b(2 * n) = std::sin(2.0 * M_PI * n * f);
+  }
+  if (detrend) {
+    Date real = to_real_calendar(d);
+    b(b.n_elem - 1) = static_cast<double>(day_number(real) - day_number(trend_origin));
+  }
+  return b;
+}
+
+arma::fmat Climatology::evaluate(const std::vector<Date>& dates) const {
+  arma::mat B(dates.size(), coefficients.n_cols);
+  for (std::size_t t = 0; t < dates.size(); ++t) B.row(t) = basis(dates[t]);
+  return arma::conv_to<arma::fmat>::from(coefficients * B.t());
+}
+
+Climatology fit_climatology(const Field& h, const ClimatologyOptions& opt) {
+  if (opt.harmonics < 0 || opt.harmonics > 6)
+    throw InputError("climatology.harmonics = " + std::to_string(opt.harmonics) + " (allowed 0..6)");
+  Climatology c;
+  c.harmonics = opt.harmonics;
+  c.detrend = opt.detrend;
+  if (h.dates.empty()) throw InputError("no days to fit a climatology to");
+  c.trend_origin = to_real_calendar(h.dates.front());
+  const arma::uword nt = h.n_times(), np = h.n_points();
+  arma::mat B(nt, 1 + 2 * opt.harmonics + (opt.detrend ? 1 : 0));
+  for (arma::uword t = 0; t < nt; ++t) B.row(t) = c.basis(h.dates[t]);
+  if (opt.detrend) B.col(B.n_cols - 1) /= 3652.5;  // per decade: better conditioned
+  const arma::uword ncoef = B.n_cols;
+  if (nt < 2 * ncoef)
+    throw NumericalError("only " + std::to_string(nt) + " days for a climatology of " + std::to_string(ncoef) +
+                         " coefficients; give a longer record or fewer harmonics");
+  c.coefficients.set_size(np, ncoef);
+  const arma::mat BtB_inv = arma::inv_sympd(B.t() * B);
+
+  // Points without missing values share one solve; others get their own.
+  const arma::uword block = 1024;
+  for (arma::uword p0 = 0; p0 < np; p0 += block) {
+    arma::uword p1 = std::min(np, p0 + block) - 1;
+    arma::mat Y = arma::conv_to<arma::mat>::from(h.values.rows(p0, p1));  // points x time
+    arma::mat coef = (BtB_inv * (B.t() * Y.t())).t();
+    for (arma::uword i = 0; i <= p1 - p0; ++i) {
+      if (Y.row(i).is_finite()) continue;
+      arma::uvec ok = arma::find_finite(Y.row(i));
+      if (ok.n_elem < 2 * ncoef)
+        throw NumericalError("grid point " + std::to_string(p0 + i) + " (lat " +
+                             std::to_string(h.grid.lat((p0 + i) / h.grid.n_lon())) + ", lon " +
+                             std::to_string(h.grid.lon((p0 + i) % h.grid.n_lon())) + ") has only " +
+                             std::to_string(ok.n_elem) + " valid days");
+      arma::mat Bi = B.rows(ok);
+      arma::rowvec y = Y.row(i);
+      coef.row(i) = arma::solve(Bi, arma::vec(y.cols(ok).t())).t();
+    }
+    c.coefficients.rows(p0, p1) = coef;
+  }
+  if (opt.detrend) c.coefficients.col(ncoef - 1) /= 3652.5;
+  return c;
+}
+
+void subtract_climatology(Field& h, const Climatology& clim) {
+  const arma::uword chunk = 512;
+  for (arma::uword t0 = 0; t0 < h.n_times(); t0 += chunk) {
+    arma::uword t1 = std::min<arma::uword>(h.n_times(), t0 + chunk);
+    std::vector<Date> dates(h.dates.begin() + t0, h.dates.begin() + t1);
+    h.values.cols(t0, t1 - 1) -= clim.evaluate(dates);
+  }
+  h.units = "m (anomaly)";
+}
+
+void running_mean(arma::fmat& v, const std::vector<Date>& dates, int days) {
+  if (days <= 1) return;
+  const std::vector<char> next = consecutive_flags(dates);
+  const int half_lo = (days - 1) / 2, half_hi = days / 2;
+  const arma::uword nt = v.n_cols;
+  arma::fmat out(v.n_rows, nt);
+  arma::uword run_start = 0;
+  for (arma::uword t = 0; t < nt; ++t) {
+    if (!next[t]) run_start = t;
+    arma::uword run_end = t;
+    while (run_end + 1 < nt && next[run_end + 1] && run_end + 1 <= t + half_hi) ++run_end;
+    arma::uword lo = t >= run_start + half_lo ? t - half_lo : run_start;
+    arma::fvec sum(v.n_rows, arma::fill::zeros);
+    arma::fvec cnt(v.n_rows, arma::fill::zeros);
+    for (arma::uword s = lo; s <= run_end; ++s) {
+      const float* col = v.colptr(s);
+      for (arma::uword p = 0; p < v.n_rows; ++p)
+        if (!std::isnan(col[p])) {
+          sum(p) += col[p];
+          cnt(p) += 1;
+        }
+    }
+    for (arma::uword p = 0; p < v.n_rows; ++p) out(p, t) = cnt(p) > 0 ? sum(p) / cnt(p) : arma::datum::nan;
+  }
+  v = std::move(out);
+}
+
+}  // namespace isohypse

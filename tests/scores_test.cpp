@@ -1,0 +1,275 @@
+// Verification scores against worked values. Check values from
+// ../shared/METHODS.md §6, which recomputed them as exact fractions from the
+// formulas in Wilks (2011), Statistical Methods in the Atmospheric Sciences,
+// 3rd ed.; each case names the original source.
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <numeric>
+
+#include "isohypse/error.hpp"
+#include "isohypse/scores.hpp"
+
+using namespace isohypse;
+
+namespace {
+
+// The ten-case example of METHODS §6.
+const arma::vec kP = {1.0, 0.8, 0.8, 0.6, 0.4, 0.4, 0.2, 0.0, 0.6, 0.2};
+const arma::vec kO = {1, 1, 0, 1, 0, 1, 0, 0, 0, 0};
+
+// Mean of per-case values over the given case indices (a bootstrap statistic).
+double mean_of(const std::vector<double>& values, const std::vector<std::size_t>& cases) {
+  double sum = 0.0;
+  for (std::size_t i : cases) sum += values[i];
+  return sum / static_cast<double>(cases.size());
+}
+
+}  // namespace
+
+TEST_CASE("scores: Brier score and Murphy decomposition of the worked example") {
+  // Brier (1950), Mon. Wea. Rev. 78, 1-3; Murphy (1973), J. Appl. Meteor. 12,
+  // 595-600, binned at the distinct forecast values: BS = REL - RES + UNC.
+  CHECK(brier_score(kP, kO) == doctest::Approx(0.18).epsilon(1e-12));
+  const BrierParts parts = brier_decomposition(kP, kO);
+  CHECK(parts.brier == doctest::Approx(0.18).epsilon(1e-12));
+  CHECK(parts.reliability == doctest::Approx(0.03).epsilon(1e-12));
+  CHECK(parts.resolution == doctest::Approx(0.09).epsilon(1e-12));
+  CHECK(parts.uncertainty == doctest::Approx(0.24).epsilon(1e-12));
+  CHECK(parts.base_rate == doctest::Approx(0.4).epsilon(1e-12));
+  CHECK(parts.reliability - parts.resolution + parts.uncertainty == doctest::Approx(parts.brier).epsilon(1e-12));
+  // BSS against the sample climatology, whose Brier score is the uncertainty.
+  CHECK(skill_score(parts.brier, parts.uncertainty) == doctest::Approx(0.25).epsilon(1e-12));
+}
+
+TEST_CASE("scores: Brier decomposition with bins") {
+  // Bins that separate every distinct value reproduce the exact decomposition.
+  const BrierParts fine = brier_decomposition(kP, kO, arma::vec{0.0, 0.1, 0.3, 0.5, 0.7, 0.9, 1.0});
+  CHECK(fine.reliability == doctest::Approx(0.03).epsilon(1e-12));
+  CHECK(fine.resolution == doctest::Approx(0.09).epsilon(1e-12));
+  // Two bins [0, 0.5) and [0.5, 1], worked by hand from Murphy's (1973) terms:
+  // low bin n 5, mean p 0.24, obs freq 0.2; high bin n 5, mean p 0.76, obs 0.6.
+  // REL = (5 * 0.04^2 + 5 * 0.16^2) / 10 = 0.0136, RES = (5 * 0.2^2 * 2) / 10 = 0.04.
+  const BrierParts coarse = brier_decomposition(kP, kO, arma::vec{0.0, 0.5, 1.0});
+  CHECK(coarse.brier == doctest::Approx(0.18).epsilon(1e-12));
+  CHECK(coarse.reliability == doctest::Approx(0.0136).epsilon(1e-12));
+  CHECK(coarse.resolution == doctest::Approx(0.04).epsilon(1e-12));
+  CHECK(coarse.uncertainty == doctest::Approx(0.24).epsilon(1e-12));
+  // The ignored within-bin terms leave a documented gap (0.2136 vs 0.18).
+  CHECK(coarse.reliability - coarse.resolution + coarse.uncertainty != doctest::Approx(coarse.brier));
+
+  CHECK_THROWS_AS(brier_decomposition(kP, kO, arma::vec{0.0, 0.5, 0.5, 1.0}), InputError);
+  CHECK_THROWS_AS(brier_decomposition(kP, kO, arma::vec{0.1, 1.0}), InputError);  // misses p = 0
+  CHECK_THROWS_AS(brier_decomposition(kP, kO, arma::vec{0.5}), InputError);
+}
+
+TEST_CASE("scores: perfect and climatological forecasts") {
+  const arma::vec o = {1, 0, 0, 0, 1, 0, 0, 0};  // base rate 0.25
+  const BrierParts perfect = brier_decomposition(o, o);
+  CHECK(perfect.brier == 0.0);
+  CHECK(skill_score(perfect.brier, perfect.uncertainty) == 1.0);
+  CHECK(roc_area(o, o) == 1.0);
+
+  // Always the climatological frequency: BS equals the uncertainty, so its
+  // skill against that climatology is 0, with no reliability or resolution.
+  const arma::vec clim(o.n_elem, arma::fill::value(0.25));
+  const BrierParts c = brier_decomposition(clim, o);
+  CHECK(c.brier == doctest::Approx(0.1875).epsilon(1e-14));
+  CHECK(skill_score(c.brier, c.uncertainty) == doctest::Approx(0.0).epsilon(1e-14));
+  CHECK(c.reliability == 0.0);
+  CHECK(c.resolution == 0.0);
+  CHECK(roc_area(clim, o) == 0.5);  // one tie for every pair
+
+  CHECK(std::isnan(skill_score(0.1, 0.0)));
+  CHECK(skill_score(0.3, 0.2) == doctest::Approx(-0.5));
+}
+
+TEST_CASE("scores: input contracts of the binary scores") {
+  const arma::vec p3 = {0.1, 0.2, 0.3};
+  const arma::vec o2 = {0, 1};
+  try {
+    brier_score(p3, o2);
+    FAIL("expected InputError");
+  } catch (const InputError& e) {
+    const std::string what = e.what();
+    CHECK(what.find("3 probabilities") != std::string::npos);
+    CHECK(what.find("2 outcomes") != std::string::npos);
+  }
+  CHECK_THROWS_AS(brier_score(arma::vec{}, arma::vec{}), InputError);
+  CHECK_THROWS_AS(brier_score(arma::vec{1.2}, arma::vec{1}), InputError);
+  CHECK_THROWS_AS(brier_score(arma::vec{arma::datum::nan}, arma::vec{1}), InputError);
+  CHECK_THROWS_AS(roc_area(arma::vec{0.5}, arma::vec{0.5}), InputError);
+  CHECK_THROWS_AS(reliability_diagram(p3, arma::vec{0, 1, 1}, 0), InputError);
+}
+
+TEST_CASE("scores: ROC area as Mann-Whitney with ties counted half") {
+  // Mason & Graham (2002), QJRMS 128, 2145-2166: 13 of 16 (event, non-event)
+  // pairs ranked correctly, ties half -> 0.8125; ROC skill 2A - 1 = 0.625.
+  const double area = roc_area(kP, kO);
+  CHECK(area == doctest::Approx(0.8125).epsilon(1e-14));
+  CHECK(2.0 * area - 1.0 == doctest::Approx(0.625).epsilon(1e-14));
+  // Reversed forecasts swap the roles: 1 - A.
+  CHECK(roc_area(1.0 - kP, kO) == doctest::Approx(0.1875).epsilon(1e-14));
+  CHECK(std::isnan(roc_area(kP, arma::vec(kP.n_elem, arma::fill::zeros))));
+  CHECK(std::isnan(roc_area(kP, arma::vec(kP.n_elem, arma::fill::ones))));
+}
+
+TEST_CASE("scores: multi-category Brier score") {
+  // METHODS §6 (sum_k (p_k - o_k)^2, Wilks 2011 ch. 8): (0.5, 0.3, 0.1, 0.1)
+  // with the second category observed (0-based label 1) -> 0.76; uniform -> 0.75.
+  CHECK(multicategory_brier(arma::rowvec{0.5, 0.3, 0.1, 0.1}, 1) == doctest::Approx(0.76).epsilon(1e-14));
+  CHECK(multicategory_brier(arma::rowvec{0.25, 0.25, 0.25, 0.25}, 1) == doctest::Approx(0.75).epsilon(1e-14));
+  CHECK(multicategory_brier(arma::rowvec{0.0, 1.0, 0.0}, 1) == 0.0);
+  CHECK(multicategory_brier(arma::rowvec{1.0, 0.0, 0.0}, 1) == 2.0);
+
+  const arma::mat p = {{0.5, 0.3, 0.1, 0.1}, {0.25, 0.25, 0.25, 0.25}};
+  CHECK(mean_multicategory_brier(p, {1, 3}) == doctest::Approx((0.76 + 0.75) / 2).epsilon(1e-14));
+  // Skill of the first forecast against the uniform one: 1 - 0.76/0.75.
+  CHECK(skill_score(0.76, 0.75) == doctest::Approx(-1.0 / 75.0).epsilon(1e-12));
+
+  CHECK_THROWS_AS(multicategory_brier(arma::rowvec{0.5, 0.5}, 2), InputError);
+  CHECK_THROWS_AS(multicategory_brier(arma::rowvec{0.5, 0.5}, -1), InputError);
+  CHECK_THROWS_AS(multicategory_brier(arma::rowvec{}, 0), InputError);
+  CHECK_THROWS_AS(mean_multicategory_brier(p, {1}), InputError);
+  CHECK_THROWS_AS(mean_multicategory_brier(p, {1, 4}), InputError);
+}
+
+TEST_CASE("scores: reliability diagram") {
+  // Five bins of width 0.2 over the worked example; 0.6 starts bin 3.
+  const auto bins = reliability_diagram(kP, kO, 5);
+  REQUIRE(bins.size() == 5);
+  const std::size_t counts[] = {1, 2, 2, 2, 3};
+  const double mean_p[] = {0.0, 0.2, 0.4, 0.6, 2.6 / 3.0};
+  const double freq[] = {0.0, 0.0, 0.5, 0.5, 2.0 / 3.0};
+  for (std::size_t b = 0; b < 5; ++b) {
+    CAPTURE(b);
+    CHECK(bins[b].lower == doctest::Approx(0.2 * static_cast<double>(b)));
+    CHECK(bins[b].upper == doctest::Approx(0.2 * static_cast<double>(b + 1)));
+    CHECK(bins[b].count == counts[b]);
+    CHECK(bins[b].mean_forecast == doctest::Approx(mean_p[b]).epsilon(1e-12));
+    CHECK(bins[b].observed_frequency == doctest::Approx(freq[b]).epsilon(1e-12));
+  }
+  // Default ten bins: p = 1 goes into the closed last bin, 0.1-0.2 is empty.
+  const auto ten = reliability_diagram(kP, kO);
+  REQUIRE(ten.size() == 10);
+  CHECK(ten[9].count == 1);
+  CHECK(ten[9].observed_frequency == 1.0);
+  CHECK(ten[1].count == 0);
+  CHECK(std::isnan(ten[1].mean_forecast));
+  CHECK(std::isnan(ten[1].observed_frequency));
+  std::size_t total = 0;
+  for (const auto& b : ten) total += b.count;
+  CHECK(total == kP.n_elem);
+}
+
+TEST_CASE("scores: Heidke skill, frequency bias and proportion correct") {
+  // METHODS §6 (Wilks 2011, ch. 8.3): HSS = 69/124, biases 31/30, 1, 0.95, 1.
+  const arma::umat table = {{20, 6, 3, 2}, {4, 15, 4, 2}, {3, 3, 12, 1}, {3, 1, 1, 20}};
+  CHECK(proportion_correct(table) == doctest::Approx(0.67).epsilon(1e-14));
+  CHECK(heidke_skill(table) == doctest::Approx(69.0 / 124.0).epsilon(1e-12));
+  CHECK(heidke_skill(table) == doctest::Approx(0.556452).epsilon(1e-6));
+  const arma::vec bias = frequency_bias(table);
+  REQUIRE(bias.n_elem == 4);
+  CHECK(bias[0] == doctest::Approx(1.033333).epsilon(1e-6));
+  CHECK(bias[1] == doctest::Approx(1.0).epsilon(1e-14));
+  CHECK(bias[2] == doctest::Approx(0.95).epsilon(1e-14));
+  CHECK(bias[3] == doctest::Approx(1.0).epsilon(1e-14));
+
+  // A perfect categorical forecast scores 1; one category everywhere is NaN.
+  CHECK(heidke_skill(arma::umat{{5, 0, 0}, {0, 3, 0}, {0, 0, 2}}) == doctest::Approx(1.0));
+  CHECK(std::isnan(heidke_skill(arma::umat{{4, 0}, {0, 0}})));
+  const arma::vec b = frequency_bias(arma::umat{{1, 1}, {0, 0}});  // category 1 observed once, never forecast
+  CHECK(b[0] == 2.0);
+  CHECK(b[1] == 0.0);
+  CHECK(std::isinf(frequency_bias(arma::umat{{1, 0}, {1, 0}})[1]));
+
+  CHECK_THROWS_AS(heidke_skill(arma::umat(2, 3, arma::fill::ones)), InputError);
+  CHECK_THROWS_AS(proportion_correct(arma::umat(2, 2, arma::fill::zeros)), InputError);
+}
+
+TEST_CASE("scores: contingency table orientation and checks") {
+  // Rows forecast, columns observed: forecast 0 observed 2 lands at (0, 2).
+  const arma::umat t = contingency({0, 0, 1, 2, 2}, {2, 0, 1, 2, 1}, 3);
+  const arma::uword expected[3][3] = {{1, 0, 1}, {0, 1, 0}, {0, 1, 1}};
+  REQUIRE(t.n_rows == 3);
+  REQUIRE(t.n_cols == 3);
+  for (arma::uword i = 0; i < 3; ++i) {
+    for (arma::uword j = 0; j < 3; ++j) CHECK(t(i, j) == expected[i][j]);
+  }
+  CHECK(proportion_correct(t) == doctest::Approx(0.6));
+  CHECK_THROWS_AS(contingency({0, 1}, {0}, 2), InputError);
+  CHECK_THROWS_AS(contingency({}, {}, 2), InputError);
+  CHECK_THROWS_AS(contingency({0, 2}, {0, 1}, 2), InputError);
+  CHECK_THROWS_AS(contingency({0, 1}, {0, -1}, 2), InputError);
+  CHECK_THROWS_AS(contingency({0}, {0}, 0), InputError);
+}
+
+TEST_CASE("scores: block bootstrap interval") {
+  // Planted data: per-case values with spread, grouped in blocks of 4 cases.
+  auto make = [](int n_blocks, std::vector<int>& block_of_case, std::vector<double>& values) {
+    block_of_case.clear();
+    values.clear();
+    for (int b = 0; b < n_blocks; ++b) {
+      for (int c = 0; c < 4; ++c) {
+        block_of_case.push_back(1000 + 7 * b);  // labels need not be 0..B-1
+        values.push_back(std::sin(1.7 * b + 0.3 * c) + 0.1 * c);
+      }
+    }
+  };
+  std::vector<int> blocks;
+  std::vector<double> values;
+  make(10, blocks, values);
+  auto mean_stat = [&](const std::vector<std::size_t>& cases) { return mean_of(values, cases); };
+
+  const Interval small = block_bootstrap(blocks, mean_stat, 2000, 0.9, 42);
+  CHECK(small.finite_resamples == 2000);
+  std::vector<std::size_t> all(values.size());
+  std::iota(all.begin(), all.end(), std::size_t{0});
+  CHECK(small.estimate == doctest::Approx(mean_of(values, all)).epsilon(1e-14));
+  CHECK(small.lower < small.estimate);
+  CHECK(small.estimate < small.upper);
+
+  // Deterministic for a seed; another seed gives another interval.
+  const Interval again = block_bootstrap(blocks, mean_stat, 2000, 0.9, 42);
+  CHECK(again.lower == small.lower);
+  CHECK(again.upper == small.upper);
+  const Interval other = block_bootstrap(blocks, mean_stat, 2000, 0.9, 43);
+  CHECK((other.lower != small.lower || other.upper != small.upper));
+
+  // Whole blocks are drawn: every resample has as many cases as the data,
+  // made of complete runs of 4 consecutive cases of one block.
+  auto whole_blocks = [&](const std::vector<std::size_t>& cases) {
+    if (cases.size() != blocks.size()) return arma::datum::nan;
+    for (std::size_t i = 0; i < cases.size(); i += 4) {
+      if (cases[i] % 4 != 0) return arma::datum::nan;
+      for (std::size_t c = 1; c < 4; ++c) {
+        if (cases[i + c] != cases[i] + c) return arma::datum::nan;
+      }
+    }
+    return 0.0;
+  };
+  CHECK(block_bootstrap(blocks, whole_blocks, 200, 0.9, 1).finite_resamples == 200);
+  // Non-finite statistics are left out of the percentiles.
+  const Interval none = block_bootstrap(blocks, [](const auto&) { return arma::datum::nan; }, 50, 0.9, 1);
+  CHECK(none.finite_resamples == 0);
+  CHECK(std::isnan(none.lower));
+  CHECK(std::isnan(none.upper));
+
+  // With 16 times as many blocks the interval narrows about 4-fold (the
+  // standard error of a mean falls as 1/sqrt(blocks)); require at least 2-fold.
+  make(160, blocks, values);
+  const Interval large = block_bootstrap(blocks, mean_stat, 2000, 0.9, 42);
+  CHECK(large.lower <= large.estimate);
+  CHECK(large.estimate <= large.upper);
+  CHECK(large.upper - large.lower < 0.5 * (small.upper - small.lower));
+
+  // One block: every resample is the data itself, so the interval collapses.
+  const std::vector<int> one(8, 5);
+  const Interval flat = block_bootstrap(one, [](const auto& c) { return static_cast<double>(c.size()); }, 20, 0.9, 3);
+  CHECK(flat.lower == 8.0);
+  CHECK(flat.upper == 8.0);
+
+  CHECK_THROWS_AS(block_bootstrap({}, mean_stat, 10, 0.9, 1), InputError);
+  CHECK_THROWS_AS(block_bootstrap(blocks, mean_stat, 0, 0.9, 1), InputError);
+  CHECK_THROWS_AS(block_bootstrap(blocks, mean_stat, 10, 1.0, 1), InputError);
+}
