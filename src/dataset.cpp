@@ -378,6 +378,17 @@ HeightDataset HeightDataset::open(const std::string& path, const std::string& va
     nc::Dim d = f.dim(impl->var.dims[imem]);
     info.member_dim = d.name;
     info.members = d.length;
+  } else {
+    for (const char* name : {"realization", "number", "member", "ensemble_member"}) {
+      if (auto mv = f.find_var(name); mv && mv->dims.empty()) {
+        info.member_number = static_cast<int>(f.read_all(mv->id).at(0));
+        break;
+      }
+      if (auto a = f.num_att(NC_GLOBAL, name); a && !a->empty()) {
+        info.member_number = static_cast<int>((*a)[0]);
+        break;
+      }
+    }
   }
   return HeightDataset(std::move(impl));
 }

@@ -24,6 +24,7 @@ int main(int argc, char** argv) {
   using namespace isohypse;
   cli::add_inspect(app);
   cli::add_derive(app);
+  cli::add_classify(app);
 
   try {
     app.parse(argc, argv);

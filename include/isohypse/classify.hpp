@@ -1,0 +1,55 @@
+// The daily stage: lagged-ensemble forecasts in, regime guidance out.
+//   scan forecasts (metadata) | choose the lagged ensemble | [model climate
+//   from reforecasts by lead] | read members | regrid | anomalies | [running
+//   mean] | sqrt(cos lat) weights | project on the EOFs | nearest centroid
+//   with the no-regime threshold | probabilities, windows, persistence,
+//   transitions | guidance JSON (config/guidance.schema.json) [| CSV]
+#pragma once
+
+#include <functional>
+#include <nlohmann/json.hpp>
+#include <optional>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "isohypse/calendar.hpp"
+#include "isohypse/ensemble_stats.hpp"
+#include "isohypse/regime_model.hpp"
+
+namespace isohypse {
+
+inline constexpr int kGuidanceFormatVersion = 1;
+
+struct ClassifyConfig {
+  std::vector<std::string> forecasts;     // files or globs (all are scanned; only the chosen are read)
+  std::vector<std::string> reforecasts;   // empty: no bias correction
+  std::vector<std::string> analysis;      // optional: the latest observed regime and its age
+  std::string variable;                   // empty: automatic
+  int lag = 0;                            // latest N initialisations up to the issue date; 0 = all given
+  Weighting weights;                      // equal | linear | exp:DAYS
+  std::optional<Date> issue_date;         // real calendar; default: the latest initialisation
+  bool member_detail = false;             // member-level assignments in the output
+  std::vector<std::pair<int, int>> windows = {{1, 3}, {4, 7}, {8, 14}, {15, 28}, {29, 45}};
+  int reforecast_window_days = 7;         // reforecasts initialised within +-N days of the year
+  int lead_smoothing_days = 5;            // running mean of the model climate along lead
+
+  // "1-3,4-7,8-14": throws InputError naming the flag.
+  static std::vector<std::pair<int, int>> parse_windows(const std::string& text);
+};
+
+using ClassifyProgress = std::function<void(const std::string& stage, int done, int total)>;
+
+// Runs the stage; returns the guidance document. Throws InputError /
+// DataError naming the file and the problem.
+nlohmann::json classify_forecasts(const RegimeModel& model, const ClassifyConfig& config,
+                                  const ClassifyProgress& progress = {});
+
+// For impact models: DIR/daily.csv and DIR/windows.csv (atomically).
+void write_guidance_csv(const nlohmann::json& guidance, const std::string& dir);
+
+// A few lines for the terminal: the most likely regime by window, with
+// probabilities, and whether bias correction was applied.
+std::string guidance_text(const nlohmann::json& guidance);
+
+}  // namespace isohypse

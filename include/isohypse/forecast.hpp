@@ -1,0 +1,76 @@
+// Forecast and reforecast files: scanning their metadata, grouping them into
+// initialisations, and reading members' daily heights onto the regime grid.
+//
+// Accepted layouts (CF): one file per initialisation with a member dimension
+// (member x time x lat x lon, any order of the leading dimensions), or one
+// file per member (the member number from a scalar `realization`/`number`
+// variable or a global attribute `realization`/`ensemble_member`/`member`).
+// The initialisation is the scalar `forecast_reference_time` if present,
+// else the first time step. Valid times may be in any CF calendar; lead day
+// L is the steps on the L-th day after the initialisation day (sub-daily
+// steps are averaged). The date a forecast verifies on is the real-calendar
+// initialisation date plus L days; the model-calendar date is kept beside it.
+#pragma once
+
+#include <armadillo>
+#include <string>
+#include <vector>
+
+#include "isohypse/calendar.hpp"
+#include "isohypse/field.hpp"
+
+namespace isohypse {
+
+struct MemberSource {
+  std::size_t file = 0;    // index into Initialisation::files
+  std::size_t index = 0;   // index along the file's member dimension (0 if none)
+  int number = 0;          // member number as labelled
+};
+
+struct Initialisation {
+  Date init;                 // model calendar
+  Date init_real;            // real (proleptic Gregorian) calendar
+  std::vector<std::string> files;
+  std::vector<MemberSource> members;
+  int n_leads = 0;           // lead days 0..n_leads-1, all present
+  // Time indices per lead day (same in every file of the initialisation).
+  std::vector<std::vector<std::size_t>> lead_steps;
+  Grid native_grid;          // the files' grid over the selection read
+  Domain read_domain;        // the domain read from the files (the regime domain plus a margin when available)
+  std::string id() const { return to_string(init); }
+  Date valid_model(int lead) const { return add_days(init, lead); }
+  Date valid_real(int lead) const { return add_days(init_real, lead); }
+};
+
+// Reads only metadata. Groups files into initialisations (sorted by date),
+// checks that each has every lead day from 0 (a gap is refused, naming the
+// file and the missing lead days), no duplicate members, and one grid and
+// calendar. Throws InputError/DataError naming the file.
+std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths, const std::string& variable,
+                                           const Domain& domain);
+
+// Bilinear interpolation from one regular grid to another (weights computed
+// once). A target point outside the source grid is refused (InputError
+// naming `what`, usually the file, and both extents).
+class Regridder {
+public:
+  Regridder() = default;
+  Regridder(const Grid& from, const Grid& to, const std::string& what);
+  bool identity() const { return identity_; }
+  // n_from_points x n -> n_to_points x n
+  arma::fmat apply(const arma::fmat& values) const;
+
+private:
+  bool identity_ = true;
+  arma::uvec idx_[4];
+  arma::fvec w_[4];
+};
+
+// Every member's daily heights in metres on the target grid, in the order of
+// init.members: each n_target_points x n_leads (lead 0 first). Each file is
+// opened once. Throws DataError naming the file, member and lead when a
+// value is missing.
+std::vector<arma::fmat> read_members(const Initialisation& init, const Regridder& to_target,
+                                     const std::string& variable);
+
+}  // namespace isohypse

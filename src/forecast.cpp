@@ -1,0 +1,226 @@
+#include "isohypse/forecast.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <map>
+#include <set>
+
+#include "isohypse/dataset.hpp"
+#include "isohypse/error.hpp"
+
+namespace isohypse {
+
+namespace {
+
+// The regime domain widened by one native grid step on every side, so that
+// bilinear interpolation has neighbours at the edges.
+Domain widened(const Domain& d, double lat_step, double lon_step) {
+  Domain w = d;
+  w.lat_min = std::max(-90.0, d.lat_min - lat_step);
+  w.lat_max = std::min(90.0, d.lat_max + lat_step);
+  if (d.lon_extent() + 2 * lon_step < 360.0) {
+    w.lon_west = d.lon_west - lon_step;
+    w.lon_east = d.lon_west + d.lon_extent() + lon_step;
+  }
+  return w;
+}
+
+DomainSelection select_for(const HeightDataset& ds, const Domain& domain, Domain& used) {
+  const DatasetInfo& in = ds.info();
+  double lat_step = in.file_lat.n_elem > 1 ? std::abs(in.file_lat(1) - in.file_lat(0)) : 0.0;
+  double lon_step = in.file_lon.n_elem > 1 ? std::abs(in.file_lon(1) - in.file_lon(0)) : 0.0;
+  Domain wide = widened(domain, lat_step, lon_step);
+  try {
+    used = wide;
+    return ds.select(wide);
+  } catch (const InputError&) {
+    used = domain;
+    return ds.select(domain);  // throws the coverage message if even this fails
+  }
+}
+
+std::string list_leads(const std::vector<int>& leads) {
+  std::string s;
+  for (std::size_t i = 0; i < leads.size() && i < 12; ++i) s += (i ? ", " : "") + std::to_string(leads[i]);
+  if (leads.size() > 12) s += ", ...";
+  return s;
+}
+
+}  // namespace
+
+std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths, const std::string& variable,
+                                           const Domain& domain) {
+  if (paths.empty()) throw InputError("no forecast files given");
+  std::map<std::int64_t, Initialisation> by_init;
+  std::map<std::int64_t, std::set<int>> numbers;
+  std::optional<Calendar> calendar;
+  std::string first_path;
+  Grid first_grid;
+  for (const std::string& p : paths) {
+    HeightDataset ds = HeightDataset::open(p, variable);
+    const DatasetInfo& in = ds.info();
+    if (in.times.empty()) throw DataError(p + ": no time steps");
+    if (calendar && *calendar != in.calendar)
+      throw DataError(p + ": calendar " + calendar_name(in.calendar) + " differs from " + calendar_name(*calendar) +
+                      " in " + first_path);
+    Date init = in.reference_time ? in.reference_time->date : in.times.front().date;
+    // Lead day of each step.
+    std::map<int, std::vector<std::size_t>> steps;
+    for (std::size_t i = 0; i < in.times.size(); ++i) {
+      std::int64_t lead = days_between(init, in.times[i].date);
+      if (lead < 0)
+        throw DataError(p + ": time step " + std::to_string(i) + " (" + to_string(in.times[i].date) +
+                        ") is before the initialisation " + to_string(init));
+      steps[static_cast<int>(lead)].push_back(i);
+    }
+    std::vector<int> missing;
+    const int n_leads = steps.rbegin()->first + 1;
+    for (int l = 0; l < n_leads; ++l)
+      if (!steps.count(l)) missing.push_back(l);
+    if (!missing.empty())
+      throw DataError(p + ": lead days missing: " + list_leads(missing) + " (of 0.." + std::to_string(n_leads - 1) + ")");
+
+    Domain used;
+    DomainSelection sel = select_for(ds, domain, used);
+    if (!calendar) {
+      calendar = in.calendar;
+      first_path = p;
+      first_grid = sel.grid;
+    } else if (!sel.grid.same_as(first_grid)) {
+      throw DataError(p + ": its grid (" + std::to_string(sel.grid.n_lat()) + " x " + std::to_string(sel.grid.n_lon()) +
+                      " points over the domain) differs from that of " + first_path + " (" +
+                      std::to_string(first_grid.n_lat()) + " x " + std::to_string(first_grid.n_lon()) + ")");
+    }
+
+    const std::int64_t key = day_number(init);
+    Initialisation& it = by_init[key];
+    if (it.files.empty()) {
+      it.init = init;
+      it.init_real = to_real_calendar(init);
+      it.n_leads = n_leads;
+      it.native_grid = sel.grid;
+      it.read_domain = used;
+      it.lead_steps.clear();
+      for (auto& [l, idx] : steps) it.lead_steps.push_back(idx);
+    } else if (it.n_leads != n_leads) {
+      throw DataError(p + ": " + std::to_string(n_leads) + " lead days, but " + it.files.front() + " of the same " +
+                      "initialisation has " + std::to_string(it.n_leads));
+    }
+    const std::size_t file_index = it.files.size();
+    it.files.push_back(p);
+    std::vector<int> file_numbers;
+    if (!in.member_dim.empty()) {
+      for (std::size_t m = 0; m < in.members; ++m) file_numbers.push_back(static_cast<int>(m));
+      if (file_index > 0)  // several multi-member files of one initialisation: number them on
+        for (auto& n : file_numbers) n += static_cast<int>(it.members.size());
+    } else {
+      file_numbers.push_back(in.member_number.value_or(static_cast<int>(it.members.size())));
+    }
+    for (std::size_t m = 0; m < file_numbers.size(); ++m) {
+      if (!numbers[key].insert(file_numbers[m]).second)
+        throw DataError(p + ": member " + std::to_string(file_numbers[m]) + " of the initialisation " + to_string(init) +
+                        " appears twice (duplicate member)");
+      it.members.push_back({file_index, in.member_dim.empty() ? 0 : m, file_numbers[m]});
+    }
+  }
+  std::vector<Initialisation> out;
+  for (auto& [k, v] : by_init) out.push_back(std::move(v));
+  return out;
+}
+
+Regridder::Regridder(const Grid& from, const Grid& to, const std::string& what) {
+  identity_ = from.same_as(to);
+  if (identity_) return;
+  const arma::uword nt = to.n_points();
+  for (auto& i : idx_) i.set_size(nt);
+  for (auto& w : w_) w.set_size(nt);
+  const double eps = 1e-6;
+  auto bracket = [&](const arma::vec& axis, double x, arma::uword& i0, double& frac) {
+    if (axis.n_elem == 1) {
+      if (std::abs(axis(0) - x) > eps) return false;
+      i0 = 0;
+      frac = 0;
+      return true;
+    }
+    if (x < axis(0) - eps || x > axis(axis.n_elem - 1) + eps) return false;
+    arma::uword hi = static_cast<arma::uword>(std::upper_bound(axis.begin(), axis.end(), x) - axis.begin());
+    hi = std::clamp<arma::uword>(hi, 1, axis.n_elem - 1);
+    i0 = hi - 1;
+    frac = std::clamp((x - axis(i0)) / (axis(hi) - axis(i0)), 0.0, 1.0);
+    return true;
+  };
+  for (arma::uword a = 0; a < to.n_lat(); ++a) {
+    arma::uword i0 = 0;
+    double fy = 0;
+    if (!bracket(from.lat, to.lat(a), i0, fy))
+      throw InputError(what + ": the grid (latitudes " + std::to_string(from.lat.min()) + ".." +
+                       std::to_string(from.lat.max()) + ") does not cover the regime grid's latitude " +
+                       std::to_string(to.lat(a)));
+    for (arma::uword b = 0; b < to.n_lon(); ++b) {
+      // Target longitude shifted by whole turns into the source's range.
+      double x = to.lon(b);
+      while (x < from.lon(0) - eps) x += 360.0;
+      while (x > from.lon(from.n_lon() - 1) + eps && x - 360.0 >= from.lon(0) - eps) x -= 360.0;
+      arma::uword j0 = 0;
+      double fx = 0;
+      if (!bracket(from.lon, x, j0, fx))
+        throw InputError(what + ": the grid (longitudes " + std::to_string(from.lon.min()) + ".." +
+                         std::to_string(from.lon.max()) + ") does not cover the regime grid's longitude " +
+                         std::to_string(to.lon(b)));
+      const arma::uword i1 = std::min<arma::uword>(i0 + 1, from.n_lat() - 1);
+      const arma::uword j1 = std::min<arma::uword>(j0 + 1, from.n_lon() - 1);
+      const arma::uword t = a * to.n_lon() + b;
+      idx_[0](t) = i0 * from.n_lon() + j0;
+      idx_[1](t) = i0 * from.n_lon() + j1;
+      idx_[2](t) = i1 * from.n_lon() + j0;
+      idx_[3](t) = i1 * from.n_lon() + j1;
+      w_[0](t) = static_cast<float>((1 - fy) * (1 - fx));
+      w_[1](t) = static_cast<float>((1 - fy) * fx);
+      w_[2](t) = static_cast<float>(fy * (1 - fx));
+      w_[3](t) = static_cast<float>(fy * fx);
+    }
+  }
+}
+
+arma::fmat Regridder::apply(const arma::fmat& v) const {
+  if (identity_) return v;
+  arma::fmat out(idx_[0].n_elem, v.n_cols);
+  for (arma::uword c = 0; c < v.n_cols; ++c) {
+    const float* src = v.colptr(c);
+    float* dst = out.colptr(c);
+    for (arma::uword t = 0; t < out.n_rows; ++t)
+      dst[t] = w_[0](t) * src[idx_[0](t)] + w_[1](t) * src[idx_[1](t)] + w_[2](t) * src[idx_[2](t)] +
+               w_[3](t) * src[idx_[3](t)];
+  }
+  return out;
+}
+
+std::vector<arma::fmat> read_members(const Initialisation& init, const Regridder& to_target,
+                                     const std::string& variable) {
+  std::vector<arma::fmat> out(init.members.size());
+  for (std::size_t f = 0; f < init.files.size(); ++f) {
+    const std::string& path = init.files[f];
+    HeightDataset ds = HeightDataset::open(path, variable);
+    DomainSelection sel = ds.select(init.read_domain);
+    const std::size_t nt = ds.info().times.size();
+    for (std::size_t m = 0; m < init.members.size(); ++m) {
+      const MemberSource& ms = init.members[m];
+      if (ms.file != f) continue;
+      arma::fmat raw = ds.read(sel, 0, nt, ms.index);
+      arma::fmat daily(raw.n_rows, init.n_leads);
+      for (int l = 0; l < init.n_leads; ++l) {
+        const auto& steps = init.lead_steps[static_cast<std::size_t>(l)];
+        arma::fvec acc(raw.n_rows, arma::fill::zeros);
+        for (std::size_t s : steps) acc += raw.col(s);
+        daily.col(l) = acc / static_cast<float>(steps.size());
+        if (!daily.col(l).is_finite())
+          throw DataError(path + ": member " + std::to_string(ms.number) + " has missing values on lead day " +
+                          std::to_string(l) + " (" + to_string(init.valid_model(l)) + ")");
+      }
+      out[m] = to_target.apply(daily);
+    }
+  }
+  return out;
+}
+
+}  // namespace isohypse
