@@ -14,6 +14,7 @@
 #include "isohypse/eof.hpp"
 #include "isohypse/error.hpp"
 #include "isohypse/forecast.hpp"
+#include "isohypse/observed.hpp"
 #include "isohypse/reader.hpp"
 
 namespace isohypse {
@@ -66,19 +67,6 @@ json by_state(const std::vector<std::string>& states, const arma::vec& v) {
   json o = json::object();
   for (std::size_t s = 0; s < states.size(); ++s) o[states[s]] = std::isfinite(v(s)) ? json(v(s)) : json();
   return o;
-}
-
-// Labels (state k = no regime) of anomalies n_points x n_days.
-std::vector<int> label_anomalies(const RegimeModel& model, arma::fmat anomalies, arma::vec* correlation = nullptr) {
-  anomalies.each_col() %= arma::conv_to<arma::fvec>::from(model.weights);
-  arma::mat pcs = project_onto_eofs(anomalies, model.eof_mean, model.eofs);
-  std::vector<int> labels;
-  arma::vec cor;
-  assign_regimes(pcs, model.centroids, model.no_regime_threshold, labels, cor);
-  for (int& l : labels)
-    if (l < 0) l = model.k();
-  if (correlation) *correlation = cor;
-  return labels;
 }
 
 struct ModelClimateCache {
@@ -269,43 +257,20 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
   // 5. The latest observed regime and its age.
   json observed = nullptr;
   {
-    std::vector<int> labels;
-    std::vector<Date> dates;
-    std::string source;
-    if (!cfg.analysis.empty()) {
-      ReadOptions ro;
-      ro.variable = cfg.variable;
-      ro.domain = model.domain;
-      Field f = read_heights(expand_paths(cfg.analysis), ro);
-      std::vector<std::size_t> keep;
-      for (std::size_t t = 0; t < f.dates.size(); ++t)
-        if (days_between(to_real_calendar(f.dates[t]), issue) >= 0) keep.push_back(t);
-      if (!keep.empty()) {
-        arma::fmat v = f.values.cols(arma::conv_to<arma::uvec>::from(keep));
-        Regridder rg(f.grid, model.grid, f.sources.front());
-        v = rg.apply(v);
-        for (auto t : keep) dates.push_back(f.dates[t]);
-        v -= model.climatology.evaluate(dates);
-        v.replace(arma::datum::nan, 0.0f);
-        running_mean(v, dates, model.running_mean_days);
-        labels = label_anomalies(model, std::move(v));
-        source = "analysis files";
-      }
-    } else {
-      for (std::size_t t = 0; t < model.dates.size(); ++t)
-        if (days_between(to_real_calendar(model.dates[t]), issue) >= 0) {
-          dates.push_back(model.dates[t]);
-          labels.push_back(model.labels[t] < 0 ? k : model.labels[t]);
-        }
-      if (!dates.empty() && days_between(to_real_calendar(dates.back()), issue) > 1) dates.clear();
-      source = "regime model record";
+    ObservedSequence obs = cfg.analysis.empty()
+                               ? observed_from_model(model)
+                               : observed_from_files(model, cfg.analysis, cfg.variable, std::nullopt, issue);
+    while (!obs.dates.empty() && days_between(obs.dates.back(), issue) < 0) {
+      obs.dates.pop_back();
+      obs.labels.pop_back();
     }
-    if (!dates.empty()) {
-      int age = current_run_length(labels, consecutive_flags(dates));
-      observed = {{"regime", states[static_cast<std::size_t>(labels.back())]},
+    // The model's record counts only when it reaches the issue date (or the day before).
+    if (!obs.dates.empty() && (!cfg.analysis.empty() || days_between(obs.dates.back(), issue) <= 1)) {
+      int age = current_run_length(obs.labels, consecutive_flags(obs.dates));
+      observed = {{"regime", states[static_cast<std::size_t>(obs.labels.back())]},
                   {"age_days", age},
-                  {"as_of", to_string(to_real_calendar(dates.back()))},
-                  {"source", source}};
+                  {"as_of", to_string(obs.dates.back())},
+                  {"source", obs.source}};
     }
   }
 

@@ -25,6 +25,7 @@ int main(int argc, char** argv) {
   cli::add_inspect(app);
   cli::add_derive(app);
   cli::add_classify(app);
+  cli::add_verify(app);
 
   try {
     app.parse(argc, argv);
