@@ -1,0 +1,149 @@
+"""isohypse verify: scores against independent references, planted answers, bad input.
+
+References: scikit-learn's brier_score_loss and roc_auc_score (Debian python3-sklearn) on
+random probabilities; Wilks (2011, Statistical Methods in the Atmospheric Sciences, 3rd ed.)
+for the multi-category Brier score sum_k (p_k - o_k)^2 and the skill score 1 - BS/BS_ref;
+a perfect forecast scores 1 and the climatological forecast 0 against climatology (by the
+definition of a skill score)."""
+import glob
+import json
+import os
+
+import netCDF4
+import numpy as np
+from sklearn.metrics import brier_score_loss, roc_auc_score
+
+from common import BIN, BUILD, check, finish, run, scratch
+
+tmp = scratch()
+world = os.path.join(tmp, "world")
+r = run([os.path.join(BUILD, "isohypse-demo-world"), "--out", world, "--size", "small"])
+assert r.returncode == 0, r.stderr
+cfg = os.path.join(tmp, "derive.json")
+json.dump({"regimes": {"classifiability_runs": 4, "surrogates": 4, "restarts": 20}}, open(cfg, "w"))
+model = os.path.join(tmp, "model.nc")
+r = run([BIN, "derive", "--config", cfg, "--input", f"{world}/reanalysis/*.nc", "--domain", "20,80,170,-40",
+         "--k", "4", "--out", model])
+assert r.returncode == 0, r.stderr
+
+with netCDF4.Dataset(model) as m:
+    t = m["time"]
+    dates = [d.strftime("%Y-%m-%d") for d in netCDF4.num2date(t[:], t.units, t.calendar)]
+    labels = np.asarray(m["label"][:])
+    in_season = np.asarray(m["in_season"][:]) == 1
+    freq = np.asarray(m["frequency"][:], dtype=float)
+k = len(freq)
+states = [f"R{i + 1}" for i in range(k)] + ["no_regime"]
+clim = np.append(freq, max(0.0, 1 - freq.sum()))
+sha = run(["sha256sum", model]).stdout.split()[0]
+obs_state = {d: (k if l < 0 else int(l)) for d, l in zip(dates, labels)}
+
+
+def write_guidance(folder, issue_days, prob_of):
+    """Hand-made guidance inside the model's record: prob_of(valid_date, observed_state) -> vector."""
+    os.makedirs(folder, exist_ok=True)
+    for i in issue_days:
+        daily = []
+        for lead in range(0, 11):
+            v = dates[i + lead]
+            p = prob_of(v, obs_state[v])
+            daily.append({"valid_date": v, "lead_days": lead, "members": 10, "weight_sum": 10.0,
+                          "probabilities": {s: float(p[j]) for j, s in enumerate(states)},
+                          "most_likely": states[int(np.argmax(p))]})
+        doc = {"format": "isohypse-guidance", "format_version": 1, "issue_date": dates[i], "states": states,
+               "daily": daily, "provenance": {"model": {"sha256": sha}}}
+        json.dump(doc, open(os.path.join(folder, dates[i] + ".json"), "w"))
+
+
+season_idx = [i for i in range(len(dates) - 20) if in_season[i] and in_season[i + 10]]
+issues = season_idx[::7][:25]
+
+# 1. A perfect forecast scores 1; the climatological forecast scores 0 against climatology.
+write_guidance(os.path.join(tmp, "perfect"), issues, lambda v, o: np.eye(k + 1)[o])
+out = os.path.join(tmp, "perfect.json")
+r = run([BIN, "verify", "--model", model, "--guidance", os.path.join(tmp, "perfect"), "--out", out, "--bootstrap", "50"])
+check(r.returncode == 0, f"verify runs on hand-made guidance ({r.stderr.strip()[:200]})")
+rep = json.load(open(out))
+w = rep["windows"][0]
+check(abs(w["hit_rate"]["estimate"] - 1) < 1e-12 and abs(w["multicategory_brier_skill"]["estimate"] - 1) < 1e-12
+      and abs(w["heidke"]["estimate"] - 1) < 1e-12, "perfect forecast: hit rate, Heidke and Brier skill are 1")
+write_guidance(os.path.join(tmp, "clim"), issues, lambda v, o: clim)
+out = os.path.join(tmp, "clim.json")
+run([BIN, "verify", "--model", model, "--guidance", os.path.join(tmp, "clim"), "--out", out, "--bootstrap", "50"])
+rep = json.load(open(out))
+vals = [wd["multicategory_brier_skill"]["estimate"] for wd in rep["windows"]]
+check(all(abs(x) < 1e-9 for x in vals), f"climatological forecast: multi-category Brier skill 0 ({vals})")
+
+# 2. Random probabilities: per-regime Brier score and ROC area equal scikit-learn's.
+rng = np.random.default_rng(11)
+rand = {}
+def random_prob(v, o):
+    if v not in rand:
+        p = rng.dirichlet(np.ones(k + 1))
+        rand[v] = np.round(p, 2) / np.round(p, 2).sum()
+    return rand[v]
+write_guidance(os.path.join(tmp, "random"), issues, random_prob)
+out = os.path.join(tmp, "random.json")
+r = run([BIN, "verify", "--model", model, "--guidance", os.path.join(tmp, "random"), "--out", out, "--bootstrap", "50"])
+rep = json.load(open(out))
+lead5 = next(x for x in rep["by_lead"] if x["lead_days"] == 5)
+ps = np.array([rand[dates[i + 5]] for i in issues])
+os_ = np.array([obs_state[dates[i + 5]] for i in issues])
+for j, s in enumerate(states):
+    y = (os_ == j).astype(int)
+    bs = brier_score_loss(y, ps[:, j])
+    got = lead5["regimes"][s]
+    ok = abs(got["brier"] - bs) < 1e-12
+    if 0 < y.sum() < len(y):
+        auc = roc_auc_score(y, ps[:, j])
+        ok = ok and abs(got["roc_area"] - auc) < 1e-12
+        check(ok, f"lead 5, {s}: Brier {got['brier']:.6f} = sklearn {bs:.6f}, ROC {got['roc_area']:.6f} = sklearn {auc:.6f}")
+    else:
+        check(ok, f"lead 5, {s}: Brier {got['brier']:.6f} = sklearn {bs:.6f}")
+mcb = np.mean([np.sum((ps[i] - np.eye(k + 1)[os_[i]]) ** 2) for i in range(len(issues))])
+check(abs(lead5["multicategory_brier"] - mcb) < 1e-12, f"lead 5 multi-category Brier {lead5['multicategory_brier']:.6f} = numpy {mcb:.6f}")
+
+# 3. The demo season: classify every third day, verify against the analysis files.
+arch = os.path.join(tmp, "archive")
+os.makedirs(arch)
+inits = sorted(glob.glob(f"{world}/forecasts/*.nc"))
+issue_dates = [os.path.basename(p)[3:11] for p in inits][2::3]
+for d in issue_dates:
+    iso = f"{d[:4]}-{d[4:6]}-{d[6:]}"
+    r = run([BIN, "classify", "--model", model, "--forecasts", f"{world}/forecasts/*.nc", "--reforecasts",
+             f"{world}/reforecasts/*.nc", "--lag", "3", "--issue-date", iso, "--quiet", "--out", f"{arch}/{iso}.json"])
+    assert r.returncode == 0, r.stderr
+out, html = os.path.join(tmp, "season.json"), os.path.join(tmp, "season.html")
+r = run([BIN, "verify", "--model", model, "--guidance", arch, "--observed", f"{world}/analysis/*.nc", "--out", out,
+         "--html", html])
+check(r.returncode == 0, "verify the demo season")
+rep = json.load(open(out))
+hits = {(wd["first_lead_days"], wd["last_lead_days"]): wd["hit_rate"]["estimate"] for wd in rep["windows"]}
+print("hit rate by window:", hits)
+check(hits[(1, 3)] > hits[(29, 45)] + 0.2, "skill falls with lead as planted (days 1-3 against 29-45)")
+check(rep["episodes"]["caught"] + rep["episodes"]["missed"] >= 1 and rep["episodes"]["caught"] >= 1,
+      f"episodes found: {rep['episodes']['caught']} caught, {rep['episodes']['missed']} missed")
+page = open(html).read()
+check("<svg" in page and "http" not in page.replace("http://www.w3.org", "") and "never replaces" in page,
+      "the HTML page is self-contained (inline SVG, no links out) and carries the caution")
+
+# 4. Bad input: one clear message, non-zero exit, no report.
+def refused(args, words, what):
+    out = os.path.join(tmp, "bad.json")
+    r = run([BIN, "verify", "--model", model, *args, "--out", out])
+    msg = r.stderr.strip()
+    check(r.returncode != 0 and all(w in msg for w in words) and not os.path.exists(out),
+          f"{what}: exit {r.returncode}: {msg[:180]}")
+
+empty = os.path.join(tmp, "empty")
+os.makedirs(empty)
+refused(["--guidance", empty], ["no guidance files", "empty archive"], "an empty archive")
+other = os.path.join(tmp, "other.nc")
+r = run([BIN, "derive", "--config", cfg, "--input", f"{world}/reanalysis/*.nc", "--domain", "20,80,170,-40",
+         "--k", "3", "--out", other])
+r = run([BIN, "verify", "--model", other, "--guidance", arch, "--out", os.path.join(tmp, "bad.json")])
+check(r.returncode != 0 and "another regime model" in r.stderr and not os.path.exists(os.path.join(tmp, "bad.json")),
+      f"guidance from another regime model: {r.stderr.strip()[:180]}")
+refused(["--guidance", arch, "--observed", f"{world}/analysis/*.nc", "--from", "2030-01-01", "--to", "2030-02-01"],
+        ["no observations"], "a period without observations")
+finish()
