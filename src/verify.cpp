@@ -336,7 +336,7 @@ json verify_guidance(const RegimeModel& model, const VerifyConfig& cfg) {
   json regimes = json::array();
   for (int r = 0; r < k; ++r)
     regimes.push_back({{"id", states[r]}, {"name", model.regimes[r].name}, {"climatological_frequency", clim(r)},
-                       {"false_alarms", false_by_regime(r)}});
+                       {"false_alarms", static_cast<int>(false_by_regime(r))}});
   json observed_seq = json::array();
   for (const auto& [day, label] : observed)
     if (day >= first_valid && day <= last_valid)

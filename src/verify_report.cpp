@@ -1,6 +1,8 @@
 // Rendering a verification report: a self-contained HTML page with inline
 // SVG (no scripts, fonts or network), and a short text for the terminal.
+#include <algorithm>
 #include <cmath>
+#include <vector>
 #include <cstdio>
 #include <map>
 #include <sstream>
@@ -161,7 +163,7 @@ std::string sequence_chart(const json& rep) {
   for (const auto& s : states) {
     o << "<rect x=\"" << lx << "\" y=\"" << ly - 10 << "\" width=\"12\" height=\"12\" fill=\""
       << colour_of(s, states) << "\"/><text x=\"" << lx + 16 << "\" y=\"" << ly << "\">" << esc(s) << "</text>";
-    lx += 110;
+    lx += 40 + 8 * s.get<std::string>().size();
   }
   if (!obs.empty())
     o << "<text x=\"" << L << "\" y=\"" << H - 6 << "\">" << obs.front()[0].get<std::string>() << "</text><text x=\""
@@ -235,8 +237,24 @@ std::string verification_html(const json& rep) {
     for (const auto& s : states) o << "<td>" << fmt(w["frequency_bias"][s.get<std::string>()]["bias"]) << "</td>";
     o << "</tr>";
   }
-  for (const auto& [m, fb] : rep["frequency_bias_by_month"].items()) {
-    o << "<tr><td>month " << m << "</td>";
+  // Months in season order: the one after the largest gap first (Nov, Dec, Jan, ...).
+  std::vector<int> months;
+  for (const auto& [m, fb] : rep["frequency_bias_by_month"].items()) months.push_back(std::stoi(m));
+  std::sort(months.begin(), months.end());
+  if (months.size() > 1) {
+    std::size_t start = 0;
+    int gap = months.front() + 12 - months.back();
+    for (std::size_t i = 1; i < months.size(); ++i)
+      if (months[i] - months[i - 1] > gap) {
+        gap = months[i] - months[i - 1];
+        start = i;
+      }
+    std::rotate(months.begin(), months.begin() + static_cast<long>(start), months.end());
+  }
+  static const char* kMonth[] = {"Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"};
+  for (int mo : months) {
+    const json& fb = rep["frequency_bias_by_month"][std::to_string(mo)];
+    o << "<tr><td>" << kMonth[mo - 1] << "</td>";
     for (const auto& s : states) o << "<td>" << fmt(fb[s.get<std::string>()]["bias"]) << "</td>";
     o << "</tr>";
   }
