@@ -23,7 +23,32 @@ echo "== isohypse derive: the regimes of 30 cold seasons"
 "$BIN" derive --config config/derive-example.json --out "$OUT/regimes.nc" --summary "$OUT/regimes-summary.json"
 
 echo
+echo "== isohypse classify: this morning's guidance (issue date 2026-01-15, the latest 4 initialisations)"
+"$BIN" classify --model "$OUT/regimes.nc" --forecasts "$DATA/forecasts/*.nc" --reforecasts "$DATA/reforecasts/*.nc" \
+  --analysis "$DATA/analysis/*.nc" --lag 4 --weights exp:3 --issue-date 2026-01-15 \
+  --csv "$OUT/csv" --out "$OUT/guidance-2026-01-15.json"
+
+echo
+echo "== a season of guidance: one issue a week into $OUT/archive/"
+mkdir -p "$OUT/archive"
+for day in 2025-12-04 2025-12-11 2025-12-18 2025-12-25 2026-01-01 2026-01-08 2026-01-15 2026-01-22 2026-01-29 \
+           2026-02-05 2026-02-12 2026-02-19 2026-02-26; do
+  "$BIN" classify --quiet --model "$OUT/regimes.nc" --forecasts "$DATA/forecasts/*.nc" \
+    --reforecasts "$DATA/reforecasts/*.nc" --lag 4 --weights exp:3 --issue-date "$day" --out "$OUT/archive/$day.json"
+  echo "   $day"
+done
+
+echo
+echo "== isohypse verify: the post-mortem of the season"
+"$BIN" verify --model "$OUT/regimes.nc" --guidance "$OUT/archive" --observed "$DATA/analysis/*.nc" \
+  --out "$OUT/verification.json" --html "$OUT/verification.html"
+
+echo
 echo "== done. Outputs:"
-echo "   $OUT/regimes.nc               the regime model (NetCDF-4; open with ncdump -h, h5py or xarray)"
-echo "   $OUT/regimes-summary.json     the summary table as JSON"
+echo "   $OUT/regimes.nc                 the regime model (NetCDF-4; open with ncdump -h, h5py or xarray)"
+echo "   $OUT/regimes-summary.json       the summary table as JSON"
+echo "   $OUT/guidance-2026-01-15.json   the guidance of 2026-01-15 (schema: config/guidance.schema.json)"
+echo "   $OUT/csv/daily.csv, windows.csv for impact models"
+echo "   $OUT/archive/                   a season of weekly guidance"
+echo "   $OUT/verification.json, .html   the post-mortem (open the .html in a browser)"
 echo "Regime guidance supports, and never replaces, official warnings and the judgement of licensed forecasters."

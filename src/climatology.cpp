@@ -51,7 +51,7 @@ Climatology fit_climatology(const Field& h, const ClimatologyOptions& opt) {
   for (arma::uword p0 = 0; p0 < np; p0 += block) {
     arma::uword p1 = std::min(np, p0 + block) - 1;
     arma::mat Y = arma::conv_to<arma::mat>::from(h.values.rows(p0, p1));  // points x time
-    arma::mat coef = (BtB_inv * (B.t() * Y.t())).t();
+    arma::mat coef = (Y * B) * BtB_inv;  // BtB_inv is symmetric
     for (arma::uword i = 0; i <= p1 - p0; ++i) {
       if (Y.row(i).is_finite()) continue;
       arma::uvec ok = arma::find_finite(Y.row(i));

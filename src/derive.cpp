@@ -294,10 +294,14 @@ RegimeModel derive_regimes(const DeriveConfig& cfg, const DeriveProgress& progre
 
   // labels for every day of the record
   report("labels", 0, 0);
-  arma::fmat all = field.values;
-  all.each_col() %= wf;
-  arma::mat pcs_all = project_onto_eofs(all, eof.mean, eof.eofs);
-  all.reset();
+  // Projected in blocks of days, so the record is never copied whole.
+  arma::mat pcs_all(field.n_times(), eof.eofs.n_cols);
+  for (arma::uword t0 = 0; t0 < field.n_times(); t0 += 2048) {
+    const arma::uword t1 = std::min<arma::uword>(field.n_times(), t0 + 2048) - 1;
+    arma::fmat part = field.values.cols(t0, t1);
+    part.each_col() %= wf;
+    pcs_all.rows(t0, t1) = project_onto_eofs(part, eof.mean, eof.eofs);
+  }
   assign_regimes(pcs_all, m.centroids, m.no_regime_threshold, m.labels, m.correlation);
   m.dates = field.dates;
   m.in_season = in_season;
