@@ -1,0 +1,211 @@
+// Exposes the offline numerics (EOFs, k-means, surrogates, classifiability)
+// to the Python reference tests. Prints one JSON object on stdout; exit 2 on
+// bad use or input.
+//
+// Matrices: "FILE.txt" is whitespace-separated text, one matrix row per line;
+// "FILE.f64@RxC" is raw little-endian float64 in C (row-major) order, as
+// numpy's ndarray.tofile writes an R x C array. Flags file: one 0/1 per line.
+//
+//   numerics_tool eof X [--method auto|exact|randomized] [--count N]
+//                 [--fraction F] [--max-count M] [--consecutive FLAGS] [--seed S]
+//       X is n_space x n_time (one day per column); prints method, mean,
+//       eigenvalues, explained, total_variance, north_error, effective_n,
+//       eofs (n_space x n) and pcs (n_time x n), matrices as lists of rows.
+//   numerics_tool kmeans POINTS --k K [--restarts R] [--seed S] [--threads T]
+//   numerics_tool kmeans-from POINTS INIT [--max-iter N] [--tol T] [--step plain|hamerly]
+//       POINTS is n x dims (one point per ROW, as scikit-learn), INIT k x dims;
+//       prints labels, centroids (k x dims), inertia, iterations.
+//   numerics_tool surrogate PCS FLAGS [--seed S]      prints the surrogate (n x m)
+//   numerics_tool ari LABELS_A LABELS_B                prints the adjusted Rand index
+//   numerics_tool regime-table PCS FLAGS [--k-min --k-max --runs --surrogates --threads]
+//       prints the table and the wall time (seconds).
+#include <chrono>
+#include <cstdio>
+#include <cstdlib>
+#include <fstream>
+#include <iostream>
+#include <map>
+#include <string>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "isohypse/classifiability.hpp"
+#include "isohypse/eof.hpp"
+#include "isohypse/error.hpp"
+#include "isohypse/kmeans.hpp"
+
+namespace {
+
+using isohypse::InputError;
+using nlohmann::json;
+
+arma::mat read_matrix(const std::string& spec) {
+  const auto at = spec.rfind(".f64@");
+  if (at != std::string::npos) {
+    const std::string path = spec.substr(0, at + 4), shape = spec.substr(at + 5);
+    const auto x = shape.find('x');
+    if (x == std::string::npos) throw InputError("numerics_tool: shape must be RxC in " + spec);
+    const arma::uword rows = std::stoul(shape.substr(0, x)), cols = std::stoul(shape.substr(x + 1));
+    arma::mat m(cols, rows);  // C order read column-major is the transpose
+    std::ifstream in(path, std::ios::binary);
+    if (!in.read(reinterpret_cast<char*>(m.memptr()), static_cast<std::streamsize>(m.n_elem * 8)))
+      throw InputError("numerics_tool: cannot read " + std::to_string(rows * cols) +
+                       " float64 values from " + path);
+    return m.t();
+  }
+  arma::mat m;
+  if (!m.load(spec, arma::raw_ascii)) throw InputError("numerics_tool: cannot read " + spec);
+  return m;
+}
+
+std::vector<char> read_flags(const std::string& path) {
+  const arma::vec v = arma::vectorise(read_matrix(path));
+  std::vector<char> flags(v.n_elem);
+  for (arma::uword i = 0; i < v.n_elem; ++i) flags[i] = v[i] != 0.0;
+  return flags;
+}
+
+std::vector<int> read_labels(const std::string& path) {
+  const arma::vec v = arma::vectorise(read_matrix(path));
+  return std::vector<int>(v.begin(), v.end());
+}
+
+json rows_of(const arma::mat& m) {
+  json out = json::array();
+  for (arma::uword r = 0; r < m.n_rows; ++r)
+    out.push_back(arma::conv_to<std::vector<double>>::from(m.row(r)));
+  return out;
+}
+
+json values_of(const arma::vec& v) { return arma::conv_to<std::vector<double>>::from(v); }
+
+// Positional arguments and --key value options.
+struct Args {
+  std::vector<std::string> positional;
+  std::map<std::string, std::string> options;
+  std::string get(const std::string& key, const std::string& fallback) const {
+    const auto it = options.find(key);
+    return it == options.end() ? fallback : it->second;
+  }
+};
+
+Args parse(int argc, char** argv) {
+  Args a;
+  for (int i = 2; i < argc; ++i) {
+    const std::string s = argv[i];
+    if (s.rfind("--", 0) == 0) {
+      if (i + 1 >= argc) throw InputError("numerics_tool: " + s + " needs a value");
+      a.options[s.substr(2)] = argv[++i];
+    } else {
+      a.positional.push_back(s);
+    }
+  }
+  return a;
+}
+
+void need(const Args& a, std::size_t n, const char* usage) {
+  if (a.positional.size() != n) throw InputError(std::string("usage: numerics_tool ") + usage);
+}
+
+json kmeans_json(const isohypse::KMeansResult& r) {
+  return {{"labels", r.labels},
+          {"centroids", rows_of(r.centroids.t())},
+          {"inertia", r.inertia},
+          {"iterations", r.iterations},
+          {"best_restart", r.best_restart}};
+}
+
+json run(const std::string& command, const Args& a) {
+  if (command == "eof") {
+    need(a, 1, "eof X [options]");
+    const arma::fmat X = arma::conv_to<arma::fmat>::from(read_matrix(a.positional[0]));
+    std::vector<char> consecutive(X.n_cols, 1);
+    if (!consecutive.empty()) consecutive[0] = 0;
+    if (a.options.count("consecutive")) consecutive = read_flags(a.options.at("consecutive"));
+    isohypse::EofOptions o;
+    o.count = std::stoi(a.get("count", "0"));
+    o.variance_fraction = std::stod(a.get("fraction", "0.8"));
+    o.max_count = std::stoi(a.get("max-count", "60"));
+    o.seed = std::stoull(a.get("seed", "20261202"));
+    const std::string method = a.get("method", "auto");
+    using M = isohypse::EofOptions::Method;
+    if (method == "exact") o.method = M::Exact;
+    else if (method == "randomized") o.method = M::Randomized;
+    else if (method != "auto") throw InputError("numerics_tool eof: --method auto|exact|randomized");
+    const auto t0 = std::chrono::steady_clock::now();
+    const isohypse::EofResult r = isohypse::compute_eofs(X, consecutive, o);
+    const double seconds =
+        std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
+    return {{"method", r.method},          {"mean", values_of(r.mean)},
+            {"eigenvalues", values_of(r.eigenvalues)}, {"explained", values_of(r.explained)},
+            {"total_variance", r.total_variance}, {"north_error", values_of(r.north_error)},
+            {"effective_n", values_of(r.effective_n)}, {"eofs", rows_of(r.eofs)},
+            {"pcs", rows_of(r.pcs)},         {"seconds", seconds}};
+  }
+  if (command == "kmeans") {
+    need(a, 1, "kmeans POINTS --k K [options]");
+    isohypse::KMeansOptions o;
+    o.k = std::stoi(a.get("k", "4"));
+    o.restarts = std::stoi(a.get("restarts", "100"));
+    o.seed = std::stoull(a.get("seed", "20261202"));
+    o.threads = std::stoi(a.get("threads", "0"));
+    return kmeans_json(isohypse::kmeans(read_matrix(a.positional[0]).t(), o));
+  }
+  if (command == "kmeans-from") {
+    need(a, 2, "kmeans-from POINTS INIT [options]");
+    const std::string step = a.get("step", "plain");
+    if (step != "plain" && step != "hamerly")
+      throw InputError("numerics_tool kmeans-from: --step plain|hamerly");
+    return kmeans_json(isohypse::kmeans_from(
+        read_matrix(a.positional[0]).t(), read_matrix(a.positional[1]).t(),
+        std::stoi(a.get("max-iter", "300")), std::stod(a.get("tol", "1e-4")),
+        step == "plain" ? isohypse::LloydStep::Plain : isohypse::LloydStep::Hamerly));
+  }
+  if (command == "surrogate") {
+    need(a, 2, "surrogate PCS FLAGS [--seed S]");
+    return {{"surrogate", rows_of(isohypse::red_noise_surrogate(
+                              read_matrix(a.positional[0]), read_flags(a.positional[1]),
+                              std::stoull(a.get("seed", "20261202"))))}};
+  }
+  if (command == "ari") {
+    need(a, 2, "ari LABELS_A LABELS_B");
+    return {{"ari", isohypse::adjusted_rand_index(read_labels(a.positional[0]),
+                                                  read_labels(a.positional[1]))}};
+  }
+  if (command == "regime-table") {
+    need(a, 2, "regime-table PCS FLAGS [options]");
+    isohypse::RegimeCountOptions o;
+    o.k_min = std::stoi(a.get("k-min", "2"));
+    o.k_max = std::stoi(a.get("k-max", "8"));
+    o.runs = std::stoi(a.get("runs", "30"));
+    o.surrogates = std::stoi(a.get("surrogates", "30"));
+    o.threads = std::stoi(a.get("threads", "0"));
+    const arma::mat pcs = read_matrix(a.positional[0]);
+    const auto flags = read_flags(a.positional[1]);
+    const auto t0 = std::chrono::steady_clock::now();
+    const auto table = isohypse::regime_count_table(pcs, flags, o, {});
+    const double seconds =
+        std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
+    json rows = json::array();
+    for (const auto& r : table)
+      rows.push_back({{"k", r.k}, {"index", r.index}, {"surrogate_level", r.surrogate_level},
+                      {"significant", r.significant}, {"best_run", r.best_run}});
+    return {{"table", rows}, {"seconds", seconds}};
+  }
+  throw InputError("numerics_tool: unknown command '" + command +
+                   "' (eof, kmeans, kmeans-from, surrogate, ari, regime-table)");
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  try {
+    if (argc < 2) throw InputError("usage: numerics_tool COMMAND ... (see the source's header)");
+    std::cout << run(argv[1], parse(argc, argv)).dump() << "\n";
+    return 0;
+  } catch (const std::exception& e) {
+    std::cerr << "numerics_tool: " << e.what() << "\n";
+    return 2;
+  }
+}
