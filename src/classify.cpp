@@ -69,7 +69,14 @@ json by_state(const std::vector<std::string>& states, const arma::vec& v) {
   return o;
 }
 
+// Member sums of each reforecast initialisation, read once however many
+// forecast initialisations' windows include it.
 struct ModelClimateCache {
+  struct Sum {
+    arma::fmat total;  // n_points x n_leads
+    std::size_t members = 0;
+  };
+  std::map<std::string, Sum> per_init;
   std::map<std::string, arma::fmat> by_key;
   std::vector<std::string> files_used;
 };
@@ -154,13 +161,19 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
     arma::fmat sum(model.grid.n_points(), in.n_leads, arma::fill::zeros);
     std::size_t n = 0;
     for (const auto* r : near) {
-      for (auto& m : read_members(*r, regrid, cfg.variable)) {
-        sum += m.cols(0, in.n_leads - 1);
-        ++n;
+      auto found = cache.per_init.find(r->id());
+      if (found == cache.per_init.end()) {
+        ModelClimateCache::Sum s;
+        for (auto& m : read_members(*r, regrid, cfg.variable)) {
+          if (s.total.is_empty()) s.total.zeros(m.n_rows, m.n_cols);
+          s.total += m;
+          ++s.members;
+        }
+        for (const auto& f : r->files) cache.files_used.push_back(f);
+        found = cache.per_init.emplace(r->id(), std::move(s)).first;
       }
-      for (const auto& f : r->files)
-        if (std::find(cache.files_used.begin(), cache.files_used.end(), f) == cache.files_used.end())
-          cache.files_used.push_back(f);
+      sum += found->second.total.cols(0, in.n_leads - 1);
+      n += found->second.members;
     }
     sum /= static_cast<float>(n);
     return cache.by_key.emplace(key, smooth_columns(sum, cfg.lead_smoothing_days)).first->second;

@@ -378,6 +378,8 @@ HeightDataset HeightDataset::open(const std::string& path, const std::string& va
     nc::Dim d = f.dim(impl->var.dims[imem]);
     info.member_dim = d.name;
     info.members = d.length;
+    if (auto cv = f.coordinate_var(d))
+      for (double x : f.read_all(cv->id)) info.member_numbers.push_back(static_cast<int>(std::lround(x)));
   } else {
     for (const char* name : {"realization", "number", "member", "ensemble_member"}) {
       if (auto mv = f.find_var(name); mv && mv->dims.empty()) {

@@ -110,9 +110,11 @@ std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths
     it.files.push_back(p);
     std::vector<int> file_numbers;
     if (!in.member_dim.empty()) {
-      for (std::size_t m = 0; m < in.members; ++m) file_numbers.push_back(static_cast<int>(m));
-      if (file_index > 0)  // several multi-member files of one initialisation: number them on
-        for (auto& n : file_numbers) n += static_cast<int>(it.members.size());
+      // The member coordinate's own numbers when it has them (1..50 stay 1..50).
+      if (in.member_numbers.size() == in.members) file_numbers = in.member_numbers;
+      else
+        for (std::size_t m = 0; m < in.members; ++m)
+          file_numbers.push_back(static_cast<int>(it.members.size() + m));
     } else {
       file_numbers.push_back(in.member_number.value_or(static_cast<int>(it.members.size())));
     }

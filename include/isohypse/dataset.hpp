@@ -78,6 +78,7 @@ struct DatasetInfo {
   std::optional<Instant> reference_time;  // forecast_reference_time, if any
   std::size_t members = 1;            // length of the member dimension (1 if none)
   std::string member_dim;             // empty if none
+  std::vector<int> member_numbers;     // values of the member coordinate, if it has one
   std::optional<int> member_number;   // a per-member file's number (scalar realization/number variable or attribute)
   std::string time_dim;
 
