@@ -1,0 +1,61 @@
+"""`isohypse derive` refuses bad input cleanly (issue 3).
+
+Each case must end with a non-zero exit, one clear error line naming the
+file or the setting at fault, and nothing written: no model, no summary and
+no temporary file in the output folder. Invented data (derive_data.py); the
+expected messages are the project's own contract (derive.hpp, field.hpp)."""
+import datetime
+import os
+import re
+
+import numpy as np
+
+from common import check, finish, scratch
+from derive_data import FAST, derive, planted_heights, write_config, write_heights
+
+tmp = scratch()
+lat = np.arange(20.0, 81.0, 10.0)
+lon = np.arange(0.0, 360.0, 30.0)
+first = datetime.date(2001, 1, 1)
+heights = planted_heights(lat, lon, first, 365, amplitudes=[100, 60, 30], seed=3)
+year = os.path.join(tmp, "hgt500_2001.nc")
+write_heights(year, heights, lat, lon, first)
+holes = heights.copy()
+holes[:, lat >= 60, :] = np.nan                  # nothing north of 60N, ever
+gappy = os.path.join(tmp, "hgt500_2001_no_arctic.nc")
+write_heights(gappy, holes, lat, lon, first, fill_value=-9999.0)
+fast = write_config(tmp, FAST)
+misspelt = write_config(tmp, {"regimes": {"classifiabilty_runs": 10}}, "misspelt.json")
+many_eofs = write_config(tmp, {**FAST, "eof": {"count": 40}}, "many_eofs.json")
+
+# name, arguments, words the message must hold (case-insensitive)
+cases = [
+    ("a February season (28 days) for 40 EOFs", ["--input", year, "--config", many_eofs, "--months", "2"], ["40", "28"]),
+    ("k = 20 for 28 in-season days", ["--input", year, "--config", fast, "--months", "2", "--k", "20"],
+     ["k = 20", "28"]),
+    ("a misspelt config key", ["--input", year, "--config", misspelt],
+     ["misspelt.json", "classifiabilty_runs", "valid keys", "classifiability_runs", "surrogates"]),
+    ("an all-missing domain", ["--input", gappy, "--config", fast, "--domain", "60,80,0,360"],
+     [os.path.basename(gappy), "missing"]),
+    ("a domain outside the grid", ["--input", year, "--config", fast, "--domain", "-60,-30,0,360"],
+     [os.path.basename(year), "-60"]),
+    ("--months 13", ["--input", year, "--config", fast, "--months", "13"], ["--months", "13"]),
+]
+
+# Progress and log lines derive may print before failing.
+CHATTER = re.compile(r"^(isohypse derive: \w+\.\.\.|(trace|debug|info|warning): )")
+
+for n, (name, args, words) in enumerate(cases):
+    out_dir = os.path.join(tmp, f"out{n}")
+    os.mkdir(out_dir)
+    r = derive("--out", os.path.join(out_dir, "model.nc"), "--summary", os.path.join(out_dir, "summary.json"), *args)
+    errors = [l for l in r.stderr.splitlines() if l.strip() and not CHATTER.match(l)]
+    message = errors[0] if errors else ""
+    print(f"{name}: exit {r.returncode}: {message}")
+    check(r.returncode != 0, f"{name}: non-zero exit ({r.returncode})")
+    check(len(errors) == 1 and message.startswith("isohypse: error: "), f"{name}: one error line ({len(errors)} lines)")
+    missing = [w for w in words if w.lower() not in message.lower()]
+    check(not missing, f"{name}: the message names {words}" + (f" (missing {missing})" if missing else ""))
+    left = os.listdir(out_dir)
+    check(not left, f"{name}: nothing left in the output folder ({left})")
+finish()
