@@ -26,6 +26,7 @@ int main(int argc, char** argv) {
   cli::add_derive(app);
   cli::add_classify(app);
   cli::add_verify(app);
+  cli::add_serve(app);
 
   try {
     app.parse(argc, argv);
