@@ -13,6 +13,7 @@
 
 #include "isohypse/classifiability.hpp"
 #include "isohypse/error.hpp"
+#include "isohypse/json_config.hpp"
 #include "isohypse/kmeans.hpp"
 #include "isohypse/reader.hpp"
 #include "isohypse/regime_sequence.hpp"
@@ -23,27 +24,6 @@ namespace {
 
 using json = nlohmann::json;
 
-// Refuses keys not in `valid`, naming the unknown key and the valid ones.
-void check_keys(const json& obj, const std::set<std::string>& valid, const std::string& where) {
-  if (!obj.is_object()) throw InputError(where + ": expected an object");
-  for (const auto& [key, value] : obj.items()) {
-    if (valid.count(key)) continue;
-    std::string list;
-    for (const auto& v : valid) list += (list.empty() ? "" : ", ") + v;
-    throw InputError(where + ": unknown key '" + key + "' (valid keys: " + list + ")");
-  }
-}
-
-template <class T>
-void get(const json& obj, const char* key, T& out, const std::string& where) {
-  if (!obj.contains(key)) return;
-  try {
-    out = obj.at(key).get<T>();
-  } catch (const json::exception&) {
-    throw InputError(where + ": key '" + key + "' has the wrong type (" + obj.at(key).dump() + ")");
-  }
-}
-
 }  // namespace
 
 DeriveConfig DeriveConfig::from_json(const json& j, const std::string& src) {
@@ -53,10 +33,10 @@ DeriveConfig DeriveConfig::from_json(const json& j, const std::string& src) {
              src);
   if (j.contains("inputs")) {
     if (j["inputs"].is_string()) c.inputs = {j["inputs"].get<std::string>()};
-    else get(j, "inputs", c.inputs, src);
+    else get_value(j, "inputs", c.inputs, src);
   }
-  get(j, "variable", c.variable, src);
-  get(j, "level_hpa", c.level_hpa, src);
+  get_value(j, "variable", c.variable, src);
+  get_value(j, "level_hpa", c.level_hpa, src);
   if (j.contains("domain")) {
     const json& d = j["domain"];
     if (d.is_string()) c.domain = Domain::parse(d.get<std::string>(), src + ": domain");
@@ -66,26 +46,26 @@ DeriveConfig DeriveConfig::from_json(const json& j, const std::string& src) {
                                src + ": domain");
     else throw InputError(src + ": domain must be \"LAT_MIN,LAT_MAX,LON_WEST,LON_EAST\" or an array of 4 numbers");
   }
-  get(j, "daily_mean", c.daily_mean, src);
-  get(j, "months", c.months, src);
+  get_value(j, "daily_mean", c.daily_mean, src);
+  get_value(j, "months", c.months, src);
   if (j.contains("climatology")) {
     const json& cl = j["climatology"];
     check_keys(cl, {"harmonics", "detrend"}, src + ": climatology");
-    get(cl, "harmonics", c.climatology.harmonics, src + ": climatology");
-    get(cl, "detrend", c.climatology.detrend, src + ": climatology");
+    get_value(cl, "harmonics", c.climatology.harmonics, src + ": climatology");
+    get_value(cl, "detrend", c.climatology.detrend, src + ": climatology");
   }
   if (j.contains("filter")) {
     check_keys(j["filter"], {"running_mean_days"}, src + ": filter");
-    get(j["filter"], "running_mean_days", c.running_mean_days, src + ": filter");
+    get_value(j["filter"], "running_mean_days", c.running_mean_days, src + ": filter");
   }
   if (j.contains("eof")) {
     const json& e = j["eof"];
     check_keys(e, {"count", "variance_fraction", "max_count", "method"}, src + ": eof");
-    get(e, "count", c.eof.count, src + ": eof");
-    get(e, "variance_fraction", c.eof.variance_fraction, src + ": eof");
-    get(e, "max_count", c.eof.max_count, src + ": eof");
+    get_value(e, "count", c.eof.count, src + ": eof");
+    get_value(e, "variance_fraction", c.eof.variance_fraction, src + ": eof");
+    get_value(e, "max_count", c.eof.max_count, src + ": eof");
     std::string method = "auto";
-    get(e, "method", method, src + ": eof");
+    get_value(e, "method", method, src + ": eof");
     if (method == "auto") c.eof.method = EofOptions::Method::Automatic;
     else if (method == "exact") c.eof.method = EofOptions::Method::Exact;
     else if (method == "randomized") c.eof.method = EofOptions::Method::Randomized;
@@ -100,17 +80,17 @@ DeriveConfig DeriveConfig::from_json(const json& j, const std::string& src) {
       else if (r["k"].is_number_integer()) c.k = r["k"].get<int>();
       else throw InputError(w + ": k must be a whole number or \"auto\" (got " + r["k"].dump() + ")");
     }
-    get(r, "k_min", c.k_min, w);
-    get(r, "k_max", c.k_max, w);
-    get(r, "restarts", c.restarts, w);
-    get(r, "classifiability_runs", c.classifiability_runs, w);
-    get(r, "surrogates", c.surrogates, w);
-    get(r, "significance", c.significance, w);
-    get(r, "names", c.names, w);
+    get_value(r, "k_min", c.k_min, w);
+    get_value(r, "k_max", c.k_max, w);
+    get_value(r, "restarts", c.restarts, w);
+    get_value(r, "classifiability_runs", c.classifiability_runs, w);
+    get_value(r, "surrogates", c.surrogates, w);
+    get_value(r, "significance", c.significance, w);
+    get_value(r, "names", c.names, w);
   }
-  get(j, "no_regime_threshold", c.no_regime_threshold, src);
-  get(j, "seed", c.seed, src);
-  get(j, "threads", c.threads, src);
+  get_value(j, "no_regime_threshold", c.no_regime_threshold, src);
+  get_value(j, "seed", c.seed, src);
+  get_value(j, "threads", c.threads, src);
   return c;
 }
 

@@ -17,6 +17,7 @@
 #include "isohypse/calendar.hpp"
 #include "isohypse/classify.hpp"
 #include "isohypse/error.hpp"
+#include "isohypse/json_config.hpp"
 #include "isohypse/inbox.hpp"
 #include "isohypse/map_svg.hpp"
 #include "isohypse/regime_model.hpp"
@@ -31,29 +32,9 @@ using json = nlohmann::json;
 
 namespace {
 
-void check_keys(const json& obj, const std::set<std::string>& valid, const std::string& where) {
-  if (!obj.is_object()) throw InputError(where + ": expected a JSON object");
-  for (const auto& [key, value] : obj.items()) {
-    if (valid.count(key)) continue;
-    std::string list;
-    for (const auto& v : valid) list += (list.empty() ? "" : ", ") + v;
-    throw InputError(where + ": unknown key '" + key + "' (valid keys: " + list + ")");
-  }
-}
-
-template <class T>
-void get(const json& obj, const char* key, T& out, const std::string& where) {
-  if (!obj.contains(key)) return;
-  try {
-    out = obj.at(key).get<T>();
-  } catch (const json::exception&) {
-    throw InputError(where + ": key '" + key + "' has the wrong type (" + obj.at(key).dump() + ")");
-  }
-}
-
 void get_list(const json& obj, const char* key, std::vector<std::string>& out, const std::string& where) {
   if (obj.contains(key) && obj.at(key).is_string()) out = {obj.at(key).get<std::string>()};
-  else get(obj, key, out, where);
+  else get_value(obj, key, out, where);
 }
 
 }  // namespace
@@ -64,22 +45,22 @@ ServiceConfig ServiceConfig::from_json(const json& j, const std::string& src) {
                  "members", "poll_seconds", "token", "land_mask", "threads", "max_body_bytes", "timeout_seconds",
                  "comment"},
              src);
-  get(j, "model", c.model, src);
-  get(j, "inbox", c.inbox, src);
-  get(j, "archive", c.archive, src);
-  get(j, "listen", c.listen, src);
+  get_value(j, "model", c.model, src);
+  get_value(j, "inbox", c.inbox, src);
+  get_value(j, "archive", c.archive, src);
+  get_value(j, "listen", c.listen, src);
   get_list(j, "reforecasts", c.reforecasts, src);
   get_list(j, "observed", c.observed, src);
-  get(j, "variable", c.variable, src);
-  get(j, "lag", c.lag, src);
-  get(j, "weights", c.weights, src);
-  get(j, "members", c.members, src);
-  get(j, "poll_seconds", c.poll_seconds, src);
-  get(j, "token", c.token, src);
-  get(j, "land_mask", c.land_mask, src);
-  get(j, "threads", c.threads, src);
-  get(j, "max_body_bytes", c.max_body_bytes, src);
-  get(j, "timeout_seconds", c.timeout_seconds, src);
+  get_value(j, "variable", c.variable, src);
+  get_value(j, "lag", c.lag, src);
+  get_value(j, "weights", c.weights, src);
+  get_value(j, "members", c.members, src);
+  get_value(j, "poll_seconds", c.poll_seconds, src);
+  get_value(j, "token", c.token, src);
+  get_value(j, "land_mask", c.land_mask, src);
+  get_value(j, "threads", c.threads, src);
+  get_value(j, "max_body_bytes", c.max_body_bytes, src);
+  get_value(j, "timeout_seconds", c.timeout_seconds, src);
   return c;
 }
 

@@ -7,6 +7,7 @@
 
 #include "cli/commands.hpp"
 #include "isohypse/atomic_file.hpp"
+#include "isohypse/json_config.hpp"
 #include "isohypse/derive.hpp"
 #include "isohypse/error.hpp"
 
@@ -62,12 +63,7 @@ void add_derive(CLI::App& app) {
   sub->callback([a] {
     DeriveConfig cfg;
     if (!a->config.empty()) {
-      nlohmann::json j;
-      try {
-        j = nlohmann::json::parse(read_file(a->config));
-      } catch (const nlohmann::json::parse_error& e) {
-        throw InputError(a->config + ": not valid JSON: " + e.what());
-      }
+      nlohmann::json j = read_json_file(a->config);
       cfg = DeriveConfig::from_json(j, a->config);
     }
     if (!a->inputs.empty()) cfg.inputs = a->inputs;

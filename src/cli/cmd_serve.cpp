@@ -8,6 +8,7 @@
 
 #include "cli/commands.hpp"
 #include "isohypse/atomic_file.hpp"
+#include "isohypse/json_config.hpp"
 #include "isohypse/error.hpp"
 #include "isohypse/service.hpp"
 
@@ -40,12 +41,7 @@ void add_serve(CLI::App& app) {
   sub->callback([a] {
     ServiceConfig cfg;
     if (!a->config.empty()) {
-      nlohmann::json j;
-      try {
-        j = nlohmann::json::parse(read_file(a->config));
-      } catch (const nlohmann::json::exception& e) {
-        throw InputError(a->config + ": not valid JSON: " + e.what());
-      }
+      nlohmann::json j = read_json_file(a->config);
       cfg = ServiceConfig::from_json(j, a->config);
     }
     auto set = [](auto& field, const auto& value) {
