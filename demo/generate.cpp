@@ -1,0 +1,272 @@
+#include "generate.hpp"
+
+#include <algorithm>
+#include <chrono>
+#include <cstdio>
+#include <filesystem>
+#include <ostream>
+#include <sstream>
+
+#include "files.hpp"
+#include "processes.hpp"
+#include "isohypse/atomic_file.hpp"
+#include "isohypse/error.hpp"
+#include "numerics_random.hpp"
+
+namespace demo {
+
+using isohypse::Calendar;
+using isohypse::Date;
+using nlohmann::json;
+namespace fs = std::filesystem;
+
+namespace {
+
+Date day(int y, int m, int d) { return isohypse::make_date(y, m, d, Calendar::Standard); }
+
+struct Plan {
+  int rean_first, rean_last;
+  double rean_step;
+  bool regional;  // bench: only the sector, 20N-80N, 170E-320E
+  bool only_reanalysis;
+  Date ana_first, ana_last;
+  double ana_step;
+  Date fc_first;
+  int fc_count, fc_members;
+  Date rf_season_first, rf_season_last;  // Mondays and Thursdays of this span...
+  int rf_year_first, rf_year_last;       // ...on the same month-day of these years
+  int rf_members;
+};
+
+Plan plan_for(const std::string& size) {
+  if (size == "full")
+    return {1991, 2020, 2.5, false, false, day(2025, 7, 1), day(2026, 6, 30), 2.5, day(2025, 12, 1), 90, 8,
+            day(2025, 11, 15), day(2026, 3, 15), 2001, 2020, 4};
+  if (size == "small")
+    return {2013, 2020, 5.0, false, false, day(2025, 12, 1), day(2026, 3, 31), 5.0, day(2025, 12, 1), 20, 4,
+            day(2025, 12, 1), day(2026, 1, 31), 2015, 2020, 3};
+  if (size == "bench")
+    return {1991, 2020, 1.0, true, true, {}, {}, 0, {}, 0, 0, {}, {}, 0, 0, 0};
+  throw isohypse::InputError("--size: expected full, small or bench, found '" + size + "'");
+}
+
+std::string compact(const Date& d) {
+  char buf[16];
+  std::snprintf(buf, sizeof buf, "%04d%02d%02d", d.year, d.month, d.day);
+  return buf;
+}
+
+bool monday_or_thursday(const Date& d) {
+  // 1970-01-01 was a Thursday.
+  auto n = isohypse::days_between(day(1970, 1, 1), d) % 7;
+  if (n < 0) n += 7;
+  return n == 0 || n == 4;
+}
+
+// Files written per set, for the summary and truth.json.
+class Tally {
+public:
+  Tally(std::string root, std::ostream& log) : root_(std::move(root)), log_(log) {}
+
+  std::string path(const std::string& rel) const { return (fs::path(root_) / rel).string(); }
+  void start() { t0_ = std::chrono::steady_clock::now(); }
+  void add(const std::string& rel) {
+    files_.push_back(rel);
+    bytes_ += fs::file_size(path(rel));
+  }
+  // Prints the set's line and returns its file list.
+  json finish(const std::string& what) {
+    double s = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0_).count();
+    char line[256];
+    std::snprintf(line, sizeof line, "  %-12s %5zu files %9.1f MB %6.1f s  %s%s%s\n", what.c_str(), files_.size(),
+                  static_cast<double>(bytes_) / 1e6, s, files_.empty() ? "" : files_.front().c_str(), files_.size() > 1 ? " .. " : "",
+                  files_.size() > 1 ? fs::path(files_.back()).filename().c_str() : "");
+    log_ << line << std::flush;
+    total_files_ += files_.size();
+    total_bytes_ += bytes_;
+    json list = files_;
+    files_.clear();
+    bytes_ = 0;
+    return list;
+  }
+  std::size_t total_files() const { return total_files_; }
+  double total_mb() const { return static_cast<double>(total_bytes_) / 1e6; }
+
+private:
+  std::string root_;
+  std::ostream& log_;
+  std::chrono::steady_clock::time_point t0_;
+  std::vector<std::string> files_;
+  std::uintmax_t bytes_ = 0, total_bytes_ = 0;
+  std::size_t total_files_ = 0;
+};
+
+// Three days missing in the record's third year; four values on each of four
+// days of its fifth year written as _FillValue, inside the sector.
+Realities plant_realities(std::uint64_t seed, const Plan& plan, const std::vector<double>& lat,
+                          const std::vector<double>& lon) {
+  Realities r;
+  for (int d = 17; d <= 19; ++d) r.missing_days.push_back(day(plan.rean_first + 2, 1, d));
+  std::vector<double> lat_in, lon_in;
+  for (double x : lat)
+    if (x >= 25 && x <= 75) lat_in.push_back(x);
+  for (double x : lon) {
+    double east = x < 0 ? x + 360 : x;
+    if (east >= 175 && east <= 315) lon_in.push_back(x);
+  }
+  isohypse::detail::Rng rng(isohypse::detail::derive_seed(seed, {99}));
+  for (int d : {3, 10, 11, 24})
+    for (int k = 0; k < 4; ++k)
+      r.holes.push_back({day(plan.rean_first + 4, 2, d), lat_in[rng.below(lat_in.size())], lon_in[rng.below(lon_in.size())]});
+  return r;
+}
+
+void append_members(std::string& csv, const Date& init, const std::vector<Trajectory>& runs) {
+  for (std::size_t m = 0; m < runs.size(); ++m)
+    for (int l = 0; l < kLeads; ++l) {
+      const Date& v = runs[m].valid[static_cast<std::size_t>(l)];
+      int label = cold_season(v) ? runs[m].regime[static_cast<std::size_t>(l)] : -1;
+      csv += isohypse::to_string(init) + "," + std::to_string(m) + "," + std::to_string(l) + "," +
+             isohypse::to_string(v) + "," + std::to_string(label) + "\n";
+    }
+}
+
+json grid_json(const std::vector<double>& lat, const std::vector<double>& lon) {
+  return {{"lat_first", lat.front()}, {"lat_last", lat.back()}, {"n_lat", lat.size()},
+          {"lon_first", lon.front()}, {"lon_last", lon.back()}, {"n_lon", lon.size()}};
+}
+
+}  // namespace
+
+void generate(const Options& options, std::ostream& log) {
+  const Plan plan = plan_for(options.size);
+  const auto t_start = std::chrono::steady_clock::now();
+  std::error_code ec;
+  for (const char* sub : {"reanalysis", "analysis", "forecasts", "reforecasts", "truth"}) {
+    if (plan.only_reanalysis && std::string(sub) != "reanalysis") continue;
+    fs::create_directories(fs::path(options.out) / sub, ec);
+    if (ec) throw isohypse::InputError("--out: cannot create " + (fs::path(options.out) / sub).string() + ": " + ec.message());
+  }
+  log << "isohypse-demo-world: size " << options.size << ", seed " << options.seed << ", into " << options.out << "\n";
+
+  const World world(options.seed);
+  Tally tally(options.out, log);
+  json truth;
+  truth["note"] = "An invented world: every name, place and number is synthetic.";
+  truth["seed"] = options.seed;
+  truth["size"] = options.size;
+  truth["domain"] = {{"lat_min", 20}, {"lat_max", 80}, {"lon_west", 170}, {"lon_east", 320},
+                     {"text", "20N-80N, 170E eastward to 40W (crosses the dateline)"}};
+  truth["world"] = world.describe();
+
+  // A: reanalysis.
+  const std::vector<double> rean_lat = plan.regional ? axis(80, 20, plan.rean_step) : axis(90, 0, plan.rean_step);
+  const std::vector<double> rean_lon =
+      plan.regional ? axis(170, 320, plan.rean_step) : axis(-180, 180 - plan.rean_step, plan.rean_step);
+  const Realities realities = plant_realities(options.seed, plan, rean_lat, rean_lon);
+  std::vector<std::string> rean_files;
+  for (int y = plan.rean_first; y <= plan.rean_last; ++y)
+    rean_files.push_back("reanalysis/hgt500_" + std::to_string(y) + ".nc");
+  tally.start();
+  const Surface rean_grid(world, Points::product(rean_lat, rean_lon));
+  run_in_processes(rean_files.size(), options.processes, [&](std::size_t i) {
+    write_reanalysis_year(world, rean_grid, rean_lat, rean_lon, plan.rean_first + static_cast<int>(i), realities,
+                          tally.path(rean_files[i]));
+  });
+  for (const auto& rel : rean_files) tally.add(rel);
+  json& rean = truth["reanalysis"];
+  rean["files"] = tally.finish("reanalysis");
+  rean["grid"] = grid_json(rean_lat, rean_lon);
+  rean["missing_days"] = json::array();
+  for (const Date& d : realities.missing_days) rean["missing_days"].push_back(isohypse::to_string(d));
+  rean["fill_values"] = json::array();
+  for (const auto& h : realities.holes)
+    rean["fill_values"].push_back({{"date", isohypse::to_string(h.day)}, {"lat", h.lat}, {"lon", h.lon}});
+  log << "               planted: " << realities.missing_days.size() << " days missing ("
+      << isohypse::to_string(realities.missing_days.front()) << ".." << isohypse::to_string(realities.missing_days.back())
+      << "), " << realities.holes.size() << " values of " << realities.holes.front().day.year
+      << " written as _FillValue\n";
+
+  if (!plan.only_reanalysis) {
+    // B: analysis.
+    tally.start();
+    const std::string ana = "analysis/hgt_levels_2025-2026.nc";
+    write_analysis(world, plan.ana_first, plan.ana_last, plan.ana_step, tally.path(ana));
+    tally.add(ana);
+    truth["analysis"] = {{"files", tally.finish("analysis")},
+                         {"first", isohypse::to_string(plan.ana_first)},
+                         {"last", isohypse::to_string(plan.ana_last)},
+                         {"step_deg", plan.ana_step}};
+
+    // C and D: forecasts and reforecasts from one model on one grid.
+    const Surface model_grid(world, forecast_points());
+    struct Run {
+      Date init;
+      std::string rel;
+    };
+    auto write_runs = [&](const std::vector<Run>& runs, int members, const std::string& what) {
+      tally.start();
+      run_in_processes(runs.size(), options.processes, [&](std::size_t i) {
+        write_model_run(model_grid, runs[i].init, model_run(world, runs[i].init, members), tally.path(runs[i].rel));
+      });
+      // The planted members again (cheap), for the truth tables.
+      std::string csv = "init_date,member,lead,valid_date,regime\n";
+      for (const Run& r : runs) {
+        append_members(csv, r.init, model_run(world, r.init, members));
+        tally.add(r.rel);
+      }
+      isohypse::write_file_atomically(tally.path("truth/" + what + "_members.csv"), csv);
+      return tally.finish(what + "s");
+    };
+
+    std::vector<Run> forecasts;
+    for (int i = 0; i < plan.fc_count; ++i) {
+      Date init = isohypse::add_days(plan.fc_first, i);
+      forecasts.push_back({init, "forecasts/fc_" + compact(init) + ".nc"});
+    }
+    truth["forecasts"] = {{"files", write_runs(forecasts, plan.fc_members, "forecast")},
+                          {"members", plan.fc_members},
+                          {"leads", kLeads}};
+
+    std::vector<Date> rf_inits;
+    for (Date s = plan.rf_season_first; !(plan.rf_season_last < s); s = isohypse::add_days(s, 1))
+      if (monday_or_thursday(s))
+        for (int y = plan.rf_year_first; y <= plan.rf_year_last; ++y) rf_inits.push_back(day(y, s.month, s.day));
+    std::sort(rf_inits.begin(), rf_inits.end());
+    std::vector<Run> reforecasts;
+    for (const Date& init : rf_inits) reforecasts.push_back({init, "reforecasts/rf_" + compact(init) + ".nc"});
+    truth["reforecasts"] = {{"files", write_runs(reforecasts, plan.rf_members, "reforecast")},
+                            {"members", plan.rf_members},
+                            {"leads", kLeads},
+                            {"schedule", "Mondays and Thursdays of " + isohypse::to_string(plan.rf_season_first) +
+                                             ".." + isohypse::to_string(plan.rf_season_last) +
+                                             " on the same month-day of " + std::to_string(plan.rf_year_first) +
+                                             ".." + std::to_string(plan.rf_year_last)}};
+
+    // E: the planted truth.
+    tally.start();
+    std::string labels = "date,regime\n";
+    for (Date d = day(plan.rean_first, 1, 1); !(kLastDay < d); d = isohypse::add_days(d, 1))
+      labels += isohypse::to_string(d) + "," + std::to_string(world.label(d)) + "\n";
+    isohypse::write_file_atomically(tally.path("truth/labels.csv"), labels);
+    for (const char* rel : {"truth/labels.csv", "truth/forecast_members.csv", "truth/reforecast_members.csv"})
+      tally.add(rel);
+    write_patterns(world, plan.rean_step, tally.path("truth/patterns.nc"));
+    tally.add("truth/patterns.nc");
+    truth["truth_files"] = {"truth/truth.json", "truth/patterns.nc", "truth/labels.csv", "truth/forecast_members.csv",
+                            "truth/reforecast_members.csv"};
+    truth["labels"] = {{"first", isohypse::to_string(day(plan.rean_first, 1, 1))},
+                       {"last", isohypse::to_string(kLastDay)},
+                       {"rule", "planted regime 0..3 from November to March, -1 otherwise"}};
+    isohypse::write_file_atomically(tally.path("truth/truth.json"), truth.dump(2) + "\n");
+    tally.add("truth/truth.json");
+    tally.finish("truth");
+  }
+
+  double s = std::chrono::duration<double>(std::chrono::steady_clock::now() - t_start).count();
+  char line[160];
+  std::snprintf(line, sizeof line, "  total        %5zu files %9.1f MB %6.1f s\n", tally.total_files(), tally.total_mb(), s);
+  log << line;
+}
+
+}  // namespace demo

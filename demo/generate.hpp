@@ -1,0 +1,23 @@
+// What each size of the demo world writes, and the run that writes it.
+#pragma once
+
+#include <cstdint>
+#include <iosfwd>
+#include <string>
+
+namespace demo {
+
+struct Options {
+  std::string out;             // folder, created if missing
+  std::string size = "full";   // full, small or bench
+  std::uint64_t seed = 2025;
+  int processes = 1;           // files written in parallel; the output does not depend on it
+};
+
+// Writes the world under options.out (reanalysis/, analysis/, forecasts/,
+// reforecasts/, truth/; bench writes reanalysis/ only) and prints one line
+// per set, then the total, to `log`. Throws isohypse::InputError for an
+// unknown size or an unwritable folder.
+void generate(const Options& options, std::ostream& log);
+
+}  // namespace demo
