@@ -10,7 +10,7 @@ namespace demo {
 struct Options {
   std::string out;             // folder, created if missing
   std::string size = "full";   // full, small or bench
-  std::uint64_t seed = 2025;
+  std::uint64_t seed = 8;      // picked so that the demo season 2025-26 visits all four regimes evenly
   int processes = 1;           // files written in parallel; the output does not depend on it
 };
 

@@ -32,7 +32,7 @@ constexpr double kMarkov[kRegimes][kRegimes] = {
 constexpr int kLatticePoints = 220;        // over the sphere, ~14 degrees apart
 constexpr double kBlobMinAbsLat = 12.0;    // a quiet tropics
 constexpr double kBlobRadiusMin = 6.0, kBlobRadiusMax = 9.0;
-constexpr double kNoiseStd = 84.0;         // mean point standard deviation over the sector, m
+constexpr double kNoiseStd = 77.0;         // mean point standard deviation over the sector, m
 constexpr double kNoiseLag1 = 0.75;
 constexpr double kSummerCalm = 0.4;        // noise is this much weaker at the height of summer
 
@@ -48,6 +48,10 @@ constexpr double kTrendPerYear = 0.4;      // m per year (4 m per decade)
 constexpr int kTrendYear0 = 2005;
 constexpr double kOffSeasonTaper = 0.2;    // regime amplitude from May to September
 
+// Heights beyond these are squashed (tanh) to within kSquashWidth more:
+// 4,730..6,070 m at most.
+constexpr double kSquashLow = 4850.0, kSquashHigh = 5950.0, kSquashWidth = 120.0;
+
 // Random stream identifiers (derive_seed).
 enum Stream : std::uint64_t { kBlobStream = 1, kChainStream = 2, kNoiseStream = 3, kMemberStream = 4 };
 
@@ -57,12 +61,15 @@ double great_circle_deg(double lat1, double lon1, double lat2, double lon2) {
   return std::acos(std::clamp(c, -1.0, 1.0)) / kDeg;
 }
 
-// Weight of the noise by latitude: 0.2 equatorward of 25 degrees, 1 poleward
-// of 55, as day-to-day variability is mostly a high-latitude affair (and
-// the warm subtropics then stay below 6 km).
+// 0 below 0, 1 above 1, a half cosine between.
+double smooth_step(double x) { return 0.5 * (1.0 - std::cos(std::numbers::pi * std::clamp(x, 0.0, 1.0))); }
+
+// Weight of the noise by latitude: 0.2 equatorward of 28 degrees, 1 from 55
+// to 70, 0.7 at the pole: day-to-day variability is a high-latitude affair,
+// and the warm subtropics then stay below about 6 km.
 double noise_envelope(double lat) {
-  double u = std::clamp((std::abs(lat) - 25.0) / 30.0, 0.0, 1.0);
-  return 0.2 + 0.8 * 0.5 * (1.0 - std::cos(std::numbers::pi * u));
+  double a = std::abs(lat);
+  return (0.2 + 0.8 * smooth_step((a - 28.0) / 27.0)) * (1.0 - 0.3 * smooth_step((a - 70.0) / 20.0));
 }
 
 double gaussian(const Centre& c, double lat, double lon) {
@@ -71,10 +78,7 @@ double gaussian(const Centre& c, double lat, double lon) {
 }
 
 // 0 equatorward of 20 degrees, 1 poleward of 75, smooth between.
-double polar_fraction(double lat) {
-  double u = std::clamp((std::abs(lat) - 20.0) / 55.0, 0.0, 1.0);
-  return 0.5 * (1.0 - std::cos(std::numbers::pi * u));
-}
+double polar_fraction(double lat) { return smooth_step((std::abs(lat) - 20.0) / 55.0); }
 
 // Stationary waves: wavenumbers 2 and 3 in the north, their ridges away from
 // the planted ridge's centre (which would otherwise stack to unreal
@@ -86,12 +90,12 @@ double stationary_waves(double lat, double lon) {
   return env * 25.0 * std::cos((lon - 100.0) * kDeg);
 }
 
-// Zonal means: winter 5860 m (subtropics) to 5230 m (pole), summer 5900 to
+// Zonal means: winter 5845 m (subtropics) to 5230 m (pole), summer 5885 to
 // 5550 m; written as an annual mean and a half range.
 double clim_mean(double lat, double lon) {
   double f = polar_fraction(lat);
   double waves = stationary_waves(lat, lon);
-  return 5880.0 - 490.0 * f + (lat >= 0 ? 0.7 : 1.0) * waves;
+  return 5865.0 - 475.0 * f + (lat >= 0 ? 0.7 : 1.0) * waves;
 }
 double clim_annual(double lat, double lon) {
   double f = polar_fraction(lat);
@@ -348,7 +352,7 @@ nlohmann::json World::describe() const {
                 {"min_abs_lat", kBlobMinAbsLat},
                 {"sector_mean_point_std_m", kNoiseStd},
                 {"lag1", kNoiseLag1},
-                {"latitude_envelope", "0.2 equatorward of 25 degrees rising to 1 poleward of 55"},
+                {"latitude_envelope", "0.2 equatorward of 28 degrees, 1 from 55 to 70, 0.7 at the pole"},
                 {"summer_reduction", kSummerCalm}};
   j["members"] = {{"divergence_lead", "exponential with mean divergence_mean_days; lead 0 is always the truth"},
                   {"divergence_mean_days", kDivergenceMean},
@@ -357,13 +361,18 @@ nlohmann::json World::describe() const {
                   {"noise_memory_days", kNoiseMemory},
                   {"calendar", "noleap; a model day maps to the real day with the same year-month-day"}};
   j["climatology"] = {
-      {"zonal_mean_winter_m", "5860 (subtropics) to 5230 (pole)"},
-      {"zonal_mean_summer_m", "5900 (subtropics) to 5550 (pole)"},
+      {"zonal_mean_winter_m", "5845 (subtropics) to 5230 (pole)"},
+      {"zonal_mean_summer_m", "5885 (subtropics) to 5550 (pole)"},
       {"annual_harmonic_peak_year_fraction", kSummerPeak},
       {"semiannual_amplitude_m", "up to 15 near the pole"},
       {"stationary_waves", "wavenumbers 2 (50 m) and 3 (25 m) near 50N, 40% weaker in summer"},
       {"trend_m_per_decade", 10.0 * kTrendPerYear},
       {"trend_zero_year", kTrendYear0}};
+  j["squash"] = {{"low_m", kSquashLow},
+                 {"high_m", kSquashHigh},
+                 {"width_m", kSquashWidth},
+                 {"formula", "h > high becomes high + width * tanh((h - high) / width); h < low likewise "
+                             "downward: a smooth ceiling and floor on the rare Gaussian tails"}};
   return j;
 }
 
@@ -376,6 +385,16 @@ Surface::Surface(const World& world, const Points& points) {
   terms_ = all.cols(keep_);
 }
 
-arma::mat Surface::heights(const arma::mat& coefs) const { return terms_ * coefs.rows(keep_); }
+arma::mat Surface::heights(const arma::mat& coefs) const {
+  arma::mat h = terms_ * coefs.rows(keep_);
+  // The Gaussian tails of regime plus noise would now and then give 500 hPa
+  // heights no atmosphere has; squash them smoothly (see kSquashHigh).
+  h.transform([](double x) {
+    if (x > kSquashHigh) return kSquashHigh + kSquashWidth * std::tanh((x - kSquashHigh) / kSquashWidth);
+    if (x < kSquashLow) return kSquashLow - kSquashWidth * std::tanh((kSquashLow - x) / kSquashWidth);
+    return x;
+  });
+  return h;
+}
 
 }  // namespace demo

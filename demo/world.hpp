@@ -116,7 +116,9 @@ class Surface {
 public:
   Surface(const World& world, const Points& points);
   std::size_t n_points() const { return terms_.n_rows; }
-  // n_points x n_cols heights in metres for coefficient columns (n_terms x n_cols).
+  // n_points x n_cols heights in metres for coefficient columns (n_terms x
+  // n_cols); the rare tails beyond 4,850 and 5,950 m are squashed smoothly
+  // so that every height lies within 4,730..6,070 m.
   arma::mat heights(const arma::mat& coefs) const;
 
 private:
