@@ -159,7 +159,7 @@ std::vector<RegimeCountRow> regime_count_table(const arma::mat& pcs,
     row.index = results[ki * n_sets].index;
     row.best_run = results[ki * n_sets].best;
     row.surrogate_level = quantile(surrogate, opt.level);
-    row.significant = row.index > row.surrogate_level;
+    row.significant = row.index > row.surrogate_level + kSignificanceMargin;
   }
   return table;
 }
@@ -169,6 +169,15 @@ int choose_regime_count(const std::vector<RegimeCountRow>& table) {
   for (const auto& r : table)
     if (r.significant && (!best || r.index > best->index))
       best = &r;
+  // Indices that differ by less than kIndexTie cannot be ranked with a few
+  // tens of runs: among those, the k that stands farthest above red noise.
+  if (best) {
+    const double top = best->index;
+    for (const auto& r : table)
+      if (r.significant && r.index >= top - kIndexTie &&
+          r.index - r.surrogate_level > best->index - best->surrogate_level)
+        best = &r;
+  }
   if (!best)
     throw NumericalError("choosing the number of regimes: no k in the range is significant (the "
                          "data's classifiability never exceeds the red-noise surrogates' level); "

@@ -62,6 +62,14 @@ struct RegimeCountOptions {
   int threads = 0;           // 0 = hardware
 };
 
+// An index must exceed the surrogates' level by more than this to count as
+// significant: with k = 2 both are often 1.000, and such a k cannot be told
+// apart from red noise.
+inline constexpr double kSignificanceMargin = 1e-3;
+// Indices closer than this are treated as tied when choosing k; the tie goes
+// to the k farthest above its surrogate level.
+inline constexpr double kIndexTie = 0.01;
+
 struct RegimeCountRow {
   int k = 0;
   double index = 0.0;            // classifiability of the data
@@ -83,9 +91,10 @@ std::vector<RegimeCountRow> regime_count_table(const arma::mat& pcs,
                                                const RegimeCountOptions& opt,
                                                const std::function<void(int, int)>& progress);
 
-// The k for `k: auto`: among significant rows the one with the largest index
-// (ties: smaller k), i.e. the most reproducible partition that beats red
-// noise. (The largest margin index - surrogate_level was tried and rejected:
+// The k for `k: auto`: among significant rows the one with the largest index,
+// i.e. the most reproducible partition that beats red noise; indices within
+// kIndexTie of the largest count as tied, and the tie goes to the largest
+// margin over the surrogate level (then the smaller k). (The largest margin index - surrogate_level was tried and rejected:
 // the surrogates' level at small k scatters between 0.86 and 1.0 from one
 // sample to the next, so the margin favoured large k with mediocre indices
 // even for data with three planted regimes of index 1.) Throws
