@@ -1,5 +1,7 @@
 #include "netcdf_file.hpp"
 
+#include <hdf5.h>
+
 #include <filesystem>
 #include <utility>
 
@@ -17,7 +19,20 @@ void check(int status, std::string_view call, const std::string& path, std::stri
   throw DataError(msg);
 }
 
+// netCDF-C turns HDF5's error printing off for the thread that first opens
+// a file only; on other threads (the service's worker) HDF5 would print its
+// whole error stack for every attribute netCDF merely probes. Each thread
+// turns it off before its first open; netCDF's own return codes carry the errors.
+static void quiet_hdf5_errors() {
+  thread_local bool done = false;
+  if (!done) {
+    H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);
+    done = true;
+  }
+}
+
 File File::open(const std::string& path) {
+  quiet_hdf5_errors();
   std::error_code ec;
   if (!std::filesystem::exists(path, ec)) throw InputError(path + ": no such file");
   if (std::filesystem::is_directory(path, ec)) throw InputError(path + ": is a folder, not a file");
@@ -57,6 +72,7 @@ void File::check_classic_size() const {
 }
 
 File File::create(const std::string& path, bool classic, bool offset64) {
+  quiet_hdf5_errors();
   int mode = NC_CLOBBER;
   if (offset64) mode |= NC_64BIT_OFFSET;
   else if (!classic) mode |= NC_NETCDF4;

@@ -482,7 +482,18 @@ struct Service::Impl {
     cc.issue_date = parse_date(g.date, Calendar::ProlepticGregorian, "issue date");
     json guidance;
     try {
-      guidance = classify_forecasts(model, cc);
+      // The observed files also give the latest observed regime and its age;
+      // when they cannot (unreadable, another grid), the guidance goes out without it.
+      cc.analysis = cfg.observed;
+      try {
+        guidance = classify_forecasts(model, cc);
+      } catch (const Error& e) {
+        if (cc.analysis.empty()) throw;
+        spdlog::warn("run {}: observed files not usable for the observed regime ({}); classifying without them",
+                     g.date, e.what());
+        cc.analysis.clear();
+        guidance = classify_forecasts(model, cc);
+      }
     } catch (const Error& e) {
       // The files read alone but not together (duplicate members, mixed grids): keep them out of later runs.
       for (const auto& f : g.files) inbox.quarantine(f, std::string("classification failed: ") + e.what());
