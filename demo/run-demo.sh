@@ -51,4 +51,10 @@ echo "   $OUT/guidance-2026-01-15.json   the guidance of 2026-01-15 (schema: con
 echo "   $OUT/csv/daily.csv, windows.csv for impact models"
 echo "   $OUT/archive/                   a season of weekly guidance"
 echo "   $OUT/verification.json, .html   the post-mortem (open the .html in a browser)"
-echo "Regime guidance supports, and never replaces, official warnings and the judgement of licensed forecasters."
+echo "
+To serve the guidance (page and API on http://127.0.0.1:8642/), drop forecasts into an inbox:
+   mkdir -p out/inbox && ISOHYPSE_TOKEN=choose-a-secret build/isohypse serve --model $OUT/regimes.nc \\
+     --inbox out/inbox --archive out/served --reforecasts '$DATA/reforecasts/*.nc' \\
+     --observed '$DATA/analysis/*.nc' --lag 3 --members 8
+   cp $DATA/forecasts/fc_2026011*.nc out/inbox/
+Regime guidance supports, and never replaces, official warnings and the judgement of licensed forecasters."
