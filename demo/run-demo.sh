@@ -16,7 +16,7 @@ fi
 
 echo
 echo "== isohypse inspect: what the files hold"
-"$BIN" inspect "$DATA/reanalysis/hgt500_1991.nc" "$DATA/analysis/"*.nc "$DATA/forecasts/fc_20251201.nc"
+"$BIN" inspect "$DATA/reanalysis/hgt500_199[35].nc" "$DATA/analysis/"*.nc "$DATA/forecasts/fc_20251201.nc"
 
 echo
 echo "== isohypse derive: the regimes of 30 cold seasons"

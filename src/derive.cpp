@@ -178,7 +178,7 @@ RegimeModel derive_regimes(const DeriveConfig& cfg, const DeriveProgress& progre
   std::size_t nan_count = rep.missing_values;
   if (nan_count) {
     field.values.replace(arma::datum::nan, 0.0f);
-    spdlog::warn("{} missing values ({:.3f}% of the record) set to the climatology", nan_count,
+    spdlog::warn("{} missing values ({:.2g}% of the record) set to the climatology", nan_count,
                  100.0 * double(nan_count) / double(field.values.n_elem));
   }
   running_mean(field.values, field.dates, cfg.running_mean_days);
