@@ -31,7 +31,8 @@ int main(int argc, char** argv) {
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
-    return app.exit(e);
+    // Help and version exit 0; every usage error exits 1 (CLI11's own codes vary).
+    return app.exit(e) == 0 ? 0 : 1;
   } catch (const InputError& e) {
     std::cerr << "isohypse: error: " << e.what() << "\n";
     return 2;

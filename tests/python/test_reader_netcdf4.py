@@ -178,6 +178,8 @@ def refused(args, code, words, what):
     ok = r.returncode == code and all(w in msg for w in words) and msg.count("\n") <= 12
     check(ok, f"{what}: exit {r.returncode}, message: {msg.splitlines()[-1] if msg else '(none)'}")
 
+r = run([BIN, "inspect"])
+check(r.returncode == 1 and "required" in r.stderr, f"a usage error (no file named) exits 1: {r.stderr.strip()[:80]}")
 missing = os.path.join(tmp, "nope.nc")
 refused(["inspect", missing], 2, [missing, "no such file"], "a missing file")
 junk = os.path.join(tmp, "junk.nc")
