@@ -38,19 +38,6 @@ int circular_day_distance(const Date& a, const Date& b) {
   return std::min(d, 365 - d);
 }
 
-// Centred running mean along columns (lead), ends truncated.
-arma::fmat smooth_columns(const arma::fmat& v, int days) {
-  if (days <= 1) return v;
-  const int lo = (days - 1) / 2, hi = days / 2;
-  const int n = static_cast<int>(v.n_cols);
-  arma::fmat out(v.n_rows, v.n_cols);
-  for (int c = 0; c < n; ++c) {
-    int a = std::max(0, c - lo), b = std::min(n - 1, c + hi);
-    out.col(c) = arma::mean(v.cols(a, b), 1);
-  }
-  return out;
-}
-
 json vec_json(const arma::vec& v) {
   json a = json::array();
   for (double x : v) a.push_back(std::isfinite(x) ? json(x) : json());
@@ -176,7 +163,10 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
       n += found->second.members;
     }
     sum /= static_cast<float>(n);
-    return cache.by_key.emplace(key, smooth_columns(sum, cfg.lead_smoothing_days)).first->second;
+    std::vector<Date> leads;  // consecutive days: a plain centred running mean in lead
+    for (int l = 0; l < in.n_leads; ++l) leads.push_back(in.valid_model(l));
+    running_mean(sum, leads, cfg.lead_smoothing_days);
+    return cache.by_key.emplace(key, std::move(sum)).first->second;
   };
 
   // 3. Members: anomalies, projection, labels.

@@ -31,10 +31,7 @@ DeriveConfig DeriveConfig::from_json(const json& j, const std::string& src) {
   check_keys(j, {"inputs", "variable", "level_hpa", "domain", "daily_mean", "months", "climatology", "filter", "eof",
                  "regimes", "no_regime_threshold", "seed", "threads", "comment"},
              src);
-  if (j.contains("inputs")) {
-    if (j["inputs"].is_string()) c.inputs = {j["inputs"].get<std::string>()};
-    else get_value(j, "inputs", c.inputs, src);
-  }
+  get_string_list(j, "inputs", c.inputs, src);
   get_value(j, "variable", c.variable, src);
   get_value(j, "level_hpa", c.level_hpa, src);
   if (j.contains("domain")) {

@@ -23,4 +23,10 @@ void check_keys(const nlohmann::json& obj, const std::set<std::string>& valid, c
   }
 }
 
+void get_string_list(const nlohmann::json& obj, const char* key, std::vector<std::string>& out,
+                     const std::string& where) {
+  if (obj.contains(key) && obj.at(key).is_string()) out = {obj.at(key).get<std::string>()};
+  else get_value(obj, key, out, where);
+}
+
 }  // namespace isohypse

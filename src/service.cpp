@@ -30,14 +30,6 @@ using json = nlohmann::json;
 
 // ---------------------------------------------------------------- config
 
-namespace {
-
-void get_list(const json& obj, const char* key, std::vector<std::string>& out, const std::string& where) {
-  if (obj.contains(key) && obj.at(key).is_string()) out = {obj.at(key).get<std::string>()};
-  else get_value(obj, key, out, where);
-}
-
-}  // namespace
 
 ServiceConfig ServiceConfig::from_json(const json& j, const std::string& src) {
   ServiceConfig c;
@@ -49,8 +41,8 @@ ServiceConfig ServiceConfig::from_json(const json& j, const std::string& src) {
   get_value(j, "inbox", c.inbox, src);
   get_value(j, "archive", c.archive, src);
   get_value(j, "listen", c.listen, src);
-  get_list(j, "reforecasts", c.reforecasts, src);
-  get_list(j, "observed", c.observed, src);
+  get_string_list(j, "reforecasts", c.reforecasts, src);
+  get_string_list(j, "observed", c.observed, src);
   get_value(j, "variable", c.variable, src);
   get_value(j, "lag", c.lag, src);
   get_value(j, "weights", c.weights, src);

@@ -263,7 +263,11 @@ json verify_guidance(const RegimeModel& model, const VerifyConfig& cfg) {
     last_valid = std::max(last_valid, c.valid);
   }
   std::map<std::pair<int, std::int64_t>, const Case*> case_at;  // (issue, valid)
-  for (const auto& c : cases) case_at[{c.issue, c.valid}] = &c;
+  std::vector<std::vector<const Case*>> by_issue(docs.size());     // lead >= 1, by lead
+  for (const auto& c : cases) {
+    case_at[{c.issue, c.valid}] = &c;
+    if (c.lead >= 1) by_issue[static_cast<std::size_t>(c.issue)].push_back(&c);
+  }
   json episodes = json::array();
   int caught = 0, missed = 0;
   {
@@ -307,9 +311,7 @@ json verify_guidance(const RegimeModel& model, const VerifyConfig& cfg) {
   json false_alarms = json::array();
   arma::vec false_by_regime(k, arma::fill::zeros);
   for (std::size_t g = 0; g < docs.size(); ++g) {
-    std::vector<const Case*> seq;
-    for (const auto& c : cases)
-      if (c.issue == static_cast<int>(g) && c.lead >= 1) seq.push_back(&c);
+    std::vector<const Case*>& seq = by_issue[g];
     std::sort(seq.begin(), seq.end(), [](auto a, auto b) { return a->lead < b->lead; });
     std::size_t i = 0;
     while (i < seq.size()) {

@@ -6,6 +6,7 @@
 #include <nlohmann/json.hpp>
 #include <set>
 #include <string>
+#include <vector>
 
 #include "isohypse/error.hpp"
 
@@ -27,5 +28,9 @@ void get_value(const nlohmann::json& obj, const char* key, T& out, const std::st
     throw InputError(where + ": key '" + key + "' has the wrong type (" + obj.at(key).dump() + ")");
   }
 }
+
+// A list of strings where a single string is also accepted ("inputs": "a/*.nc").
+void get_string_list(const nlohmann::json& obj, const char* key, std::vector<std::string>& out,
+                     const std::string& where);
 
 }  // namespace isohypse
