@@ -3,6 +3,7 @@
 #include <spdlog/spdlog.h>
 
 #include <algorithm>
+#include <chrono>
 #include <cmath>
 #include <ctime>
 #include <filesystem>
@@ -14,14 +15,20 @@
 #include "isohypse/eof.hpp"
 #include "isohypse/error.hpp"
 #include "isohypse/forecast.hpp"
+#include "isohypse/labeller.hpp"
 #include "isohypse/observed.hpp"
 #include "isohypse/reader.hpp"
+#include "blas_threads.hpp"
+#include "pipeline.hpp"
 
 namespace isohypse {
 
 namespace {
 
 using json = nlohmann::json;
+using Clock = std::chrono::steady_clock;
+
+double seconds_since(Clock::time_point t0) { return std::chrono::duration<double>(Clock::now() - t0).count(); }
 
 constexpr const char* kCaution =
     "Regime guidance supports, and never replaces, official warnings and the judgement of licensed forecasters.";
@@ -86,7 +93,19 @@ std::vector<std::pair<int, int>> ClassifyConfig::parse_windows(const std::string
   return out;
 }
 
-json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, const ClassifyProgress& progress) {
+json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, const ClassifyProgress& progress,
+                        ClassifyTimings* timings) {
+  // Every BLAS call here is small (the climatology of 46 days, one member's
+  // projection): one BLAS thread, or its idle pool would spin on the cores
+  // that the reading and labelling threads need.
+  const detail::ScopedBlasThreads one_blas_thread(1);
+  const auto start = Clock::now();
+  auto last = start;
+  auto lap = [&](double* into) {  // time since the previous lap into *into
+    const auto now = Clock::now();
+    if (into) *into = std::chrono::duration<double>(now - last).count();
+    last = now;
+  };
   auto report = [&](const std::string& s, int d, int n) {
     if (progress) progress(s, d, n);
   };
@@ -99,7 +118,7 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
   // 1. Metadata of every forecast; the lagged ensemble.
   std::vector<std::string> fc_paths = expand_paths(cfg.forecasts);
   report("scan", 0, static_cast<int>(fc_paths.size()));
-  std::vector<Initialisation> all = scan_forecasts(fc_paths, cfg.variable, model.domain);
+  std::vector<Initialisation> all = scan_forecasts(fc_paths, cfg.variable, model.domain, &model.grid);
   Date issue = cfg.issue_date ? *cfg.issue_date : all.back().init_real;
   issue.calendar = Calendar::ProlepticGregorian;
   std::vector<const Initialisation*> chosen;
@@ -121,7 +140,7 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
   if (!cfg.reforecasts.empty()) {
     std::vector<std::string> rf_paths = expand_paths(cfg.reforecasts);
     report("scan reforecasts", 0, static_cast<int>(rf_paths.size()));
-    refc = scan_forecasts(rf_paths, cfg.variable, model.domain);
+    refc = scan_forecasts(rf_paths, cfg.variable, model.domain, &model.grid);
     if (!refc.front().native_grid.same_as(chosen.back()->native_grid))
       throw InputError(refc.front().files.front() + ": the reforecast grid (" +
                        std::to_string(refc.front().native_grid.n_lat()) + " x " +
@@ -130,6 +149,7 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
                        std::to_string(chosen.back()->native_grid.n_lat()) + " x " +
                        std::to_string(chosen.back()->native_grid.n_lon()) + ")");
   }
+  lap(timings ? &timings->scan_s : nullptr);
   ModelClimateCache cache;
   auto model_climate = [&](const Initialisation& in) -> const arma::fmat& {
     std::vector<const Initialisation*> near;
@@ -151,11 +171,11 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
       auto found = cache.per_init.find(r->id());
       if (found == cache.per_init.end()) {
         ModelClimateCache::Sum s;
-        for (auto& m : read_members(*r, regrid, cfg.variable)) {
+        for_each_member(*r, regrid, cfg.variable, [&](std::size_t, arma::fmat& m) {
           if (s.total.is_empty()) s.total.zeros(m.n_rows, m.n_cols);
           s.total += m;
           ++s.members;
-        }
+        });
         for (const auto& f : r->files) cache.files_used.push_back(f);
         found = cache.per_init.emplace(r->id(), std::move(s)).first;
       }
@@ -169,39 +189,85 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
     return cache.by_key.emplace(key, std::move(sum)).first->second;
   };
 
-  // 3. Members: anomalies, projection, labels.
+  // 3. Members: anomalies, projection, labels. The references first (the
+  // reforecasts are read here), then a pipeline: a second thread reads each
+  // member (netCDF-C stays on one thread at a time) while this one labels
+  // the member read before.
+  std::vector<std::vector<Date>> valid_model(chosen.size());
+  std::vector<arma::fmat> reference(chosen.size());
+  for (std::size_t i = 0; i < chosen.size(); ++i) {
+    const Initialisation& in = *chosen[i];
+    for (int l = 0; l < in.n_leads; ++l) valid_model[i].push_back(in.valid_model(l));
+    reference[i] = refc.empty() ? model.climatology.evaluate(valid_model[i]) : model_climate(in);
+  }
+  lap(timings ? &timings->reference_s : nullptr);
+
   std::vector<MemberTrack> tracks;
   json member_detail = json::array();
   json inits = json::array();
   int total_members = 0;
+  RegimeLabeller labeller(model);
+  arma::fmat anom;  // one buffer for every member
+  struct MemberHeights {
+    std::size_t init = 0, member = 0;
+    arma::fmat heights;
+  };
+  struct Stopped {};
+  double read_s = 0, label_s = 0;
+  report("classify", 0, static_cast<int>(chosen.size()));
+  detail::two_stage_pipeline<MemberHeights>(
+      4,
+      [&](auto& emit) {
+        try {
+          auto t0 = Clock::now();
+          for (std::size_t i = 0; i < chosen.size(); ++i)
+            for_each_member(*chosen[i], regrid, cfg.variable, [&](std::size_t m, arma::fmat& heights) {
+              read_s += seconds_since(t0);
+              const bool taken = emit([&](MemberHeights& x) {
+                x.init = i;
+                x.member = m;
+                x.heights.swap(heights);  // no copy: the buffers circulate
+              });
+              if (!taken) throw Stopped{};
+              t0 = Clock::now();
+            });
+        } catch (const Stopped&) {
+          // the labelling side failed; its error is the one reported
+        }
+      },
+      [&](const MemberHeights& x) {
+        const auto t0 = Clock::now();
+        const std::size_t i = x.init;
+        const Initialisation& in = *chosen[i];
+        if (x.member == 0 && i > 0) report("classify", static_cast<int>(i), static_cast<int>(chosen.size()));
+        anom = x.heights - reference[i];
+        running_mean(anom, valid_model[i], model.running_mean_days);
+        arma::vec cor;
+        MemberTrack t;
+        t.initialisation = in.id();
+        t.member = in.members[x.member].number;
+        t.weight = init_weights[i];
+        t.first_offset = -ages[i];
+        t.labels = labeller.label(anom, &cor);
+        if (cfg.member_detail) {
+          json labels = json::array();
+          for (int l : t.labels) labels.push_back(states[static_cast<std::size_t>(l)]);
+          member_detail.push_back({{"initialisation", in.id()}, {"member", t.member}, {"weight", t.weight},
+                                   {"first_valid_date", to_string(in.valid_real(0))},
+                                   {"first_lead_days", t.first_offset}, {"regimes", labels},
+                                   {"correlation", vec_json(cor)}});
+        }
+        tracks.push_back(std::move(t));
+        label_s += seconds_since(t0);
+      });
+  if (timings) {
+    timings->read_s = read_s;
+    timings->label_s = label_s;
+  }
+  lap(timings ? &timings->members_wall_s : nullptr);
   for (std::size_t i = 0; i < chosen.size(); ++i) {
     const Initialisation& in = *chosen[i];
-    report("classify", static_cast<int>(i), static_cast<int>(chosen.size()));
-    std::vector<Date> valid_model;
-    for (int l = 0; l < in.n_leads; ++l) valid_model.push_back(in.valid_model(l));
-    arma::fmat reference = refc.empty() ? model.climatology.evaluate(valid_model) : model_climate(in);
-    std::vector<arma::fmat> members = read_members(in, regrid, cfg.variable);
-    for (std::size_t m = 0; m < members.size(); ++m) {
-      arma::fmat anom = members[m] - reference;
-      running_mean(anom, valid_model, model.running_mean_days);
-      arma::vec cor;
-      MemberTrack t;
-      t.initialisation = in.id();
-      t.member = in.members[m].number;
-      t.weight = init_weights[i];
-      t.first_offset = -ages[i];
-      t.labels = label_anomalies(model, std::move(anom), &cor);
-      if (cfg.member_detail) {
-        json labels = json::array();
-        for (int l : t.labels) labels.push_back(states[static_cast<std::size_t>(l)]);
-        member_detail.push_back({{"initialisation", in.id()}, {"member", t.member}, {"weight", t.weight},
-                                 {"first_valid_date", to_string(in.valid_real(0))},
-                                 {"first_lead_days", t.first_offset}, {"regimes", labels},
-                                 {"correlation", vec_json(cor)}});
-      }
-      tracks.push_back(std::move(t));
-    }
-    total_members += static_cast<int>(members.size());
+    total_members += static_cast<int>(in.members.size());
     json files = json::array();
     for (const auto& f : in.files) files.push_back(f);
     inits.push_back({{"date", to_string(in.init_real)}, {"model_date", to_string(in.init)},
@@ -277,6 +343,8 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
     }
   }
 
+  lap(timings ? &timings->statistics_s : nullptr);
+
   // 6. The document.
   json regimes = json::array();
   for (int r = 0; r < k; ++r)
@@ -321,6 +389,8 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
                      {"forecast_files", fc_files},
                      {"reforecast_files_read", cache.files_used},
                      {"analysis_files", cfg.analysis}};
+  lap(timings ? &timings->document_s : nullptr);
+  if (timings) timings->total_s = seconds_since(start);
   return g;
 }
 

@@ -144,6 +144,7 @@ struct HeightDataset::Impl {
   nc::Var var;
   std::vector<Role> roles;  // per dimension of var
   bool lat_before_lon = true;
+  mutable std::vector<float> scratch;  // the raw hyperslab, reused by every read (no fresh pages each time)
 
   explicit Impl(nc::File f) : file(std::move(f)) {}
 
@@ -458,6 +459,13 @@ DomainSelection HeightDataset::select(const std::optional<Domain>& domain) const
 }
 
 arma::fmat HeightDataset::read(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member) const {
+  arma::fmat out;
+  read_into(sel, t0, count, member, out);
+  return out;
+}
+
+std::size_t HeightDataset::read_into(const DomainSelection& sel, std::size_t t0, std::size_t count,
+                                     std::size_t member, arma::fmat& out) const {
   const Impl& im = *impl_;
   const DatasetInfo& info = im.info;
   if (t0 + count > info.times.size())
@@ -467,13 +475,29 @@ arma::fmat HeightDataset::read(const DomainSelection& sel, std::size_t t0, std::
     throw InputError(info.path + ": member " + std::to_string(member) + " asked but the file has " +
                      std::to_string(info.members));
   const std::size_t nlat = sel.lat_count, nlon_out = sel.grid.lon.n_elem;
-  arma::fmat out(nlat * nlon_out, count);
-  if (count == 0) return out;
+  out.set_size(nlat * nlon_out, count);  // every element is written below
+  std::size_t n_missing = 0;
+  if (count == 0) return n_missing;
+  // Unpacking as one branch-free expression per value (it vectorises): a
+  // missing code, a value outside the valid range or a non-finite value
+  // becomes NaN. Absent codes and limits are NaN/-inf/+inf, which never match.
   const Packing& pk = info.packing;
-  std::vector<float> missing_f;
-  for (double m : pk.missing) missing_f.push_back(static_cast<float>(m));
+  constexpr float kInf = std::numeric_limits<float>::infinity();
+  constexpr float kNaN = std::numeric_limits<float>::quiet_NaN();
+  const float miss0 = pk.missing.size() > 0 ? static_cast<float>(pk.missing[0]) : kNaN;
+  const float miss1 = pk.missing.size() > 1 ? static_cast<float>(pk.missing[1]) : kNaN;
+  // Without a valid range, the finite floats: +-Inf and NaN fail either way.
+  const float vmin = pk.valid_min ? static_cast<float>(*pk.valid_min) : std::numeric_limits<float>::lowest();
+  const float vmax = pk.valid_max ? static_cast<float>(*pk.valid_max) : std::numeric_limits<float>::max();
+  std::vector<float> more_codes;  // missing_value with more than two codes (rare): the slower loop
+  for (std::size_t i = 2; i < pk.missing.size(); ++i) more_codes.push_back(static_cast<float>(pk.missing[i]));
+  const double scale = pk.scale_factor * info.to_metres, offset = pk.add_offset * info.to_metres;
+  auto is_bad = [=](float raw) {  // bitwise, not short-circuit: no branches
+    return static_cast<bool>(!(raw >= vmin) | !(raw <= vmax) | (raw == miss0) | (raw == miss1) |
+                             (std::abs(raw) == kInf));
+  };
   const bool desc = info.lat_descending();
-  std::vector<float> buf;
+  std::vector<float>& buf = im.scratch;
 
   for (const auto& run : sel.lon_runs) {
     std::vector<std::size_t> start, cnt;
@@ -503,32 +527,48 @@ arma::fmat HeightDataset::read(const DomainSelection& sel, std::size_t t0, std::
     for (std::size_t t = 0; t < count; ++t) {
       float* col = out.colptr(t);
       for (std::size_t i = 0; i < nlat; ++i) {
-        std::size_t oi = desc ? nlat - 1 - i : i;
-        for (std::size_t j = 0; j < run.count; ++j) {
-          float raw = buf[t * s_time + i * s_lat + j * s_lon];
-          bool bad = !std::isfinite(raw);
-          for (float m : missing_f) bad = bad || raw == m;
-          if (pk.valid_min && raw < *pk.valid_min) bad = true;
-          if (pk.valid_max && raw > *pk.valid_max) bad = true;
-          col[oi * nlon_out + run.out_offset + j] =
-              bad ? std::numeric_limits<float>::quiet_NaN()
-                  : static_cast<float>((raw * pk.scale_factor + pk.add_offset) * info.to_metres);
+        const std::size_t oi = desc ? nlat - 1 - i : i;
+        const float* src = buf.data() + t * s_time + i * s_lat;
+        float* dst = col + oi * nlon_out + run.out_offset;
+        if (more_codes.empty() && s_lon == 1) {  // the usual case, vectorised
+          unsigned bad_here = 0;  // a vectorised count beside the values
+          for (std::size_t j = 0; j < run.count; ++j) {
+            const float raw = src[j];
+            const bool bad = is_bad(raw);
+            bad_here += bad;
+            dst[j] = bad ? kNaN : static_cast<float>(raw * scale + offset);
+          }
+          n_missing += bad_here;
+        } else if (more_codes.empty()) {
+          for (std::size_t j = 0; j < run.count; ++j) {
+            const float raw = src[j * s_lon];
+            const bool bad = is_bad(raw);
+            n_missing += bad;
+            dst[j] = bad ? kNaN : static_cast<float>(raw * scale + offset);
+          }
+        } else {
+          for (std::size_t j = 0; j < run.count; ++j) {
+            const float raw = src[j * s_lon];
+            const bool bad = is_bad(raw) || std::find(more_codes.begin(), more_codes.end(), raw) != more_codes.end();
+            n_missing += bad;
+            dst[j] = bad ? kNaN : static_cast<float>(raw * scale + offset);
+          }
         }
       }
     }
   }
-  return out;
+  return n_missing;
 }
 
 std::size_t HeightDataset::count_missing() const {
   DomainSelection all = select(std::nullopt);
   std::size_t n = 0;
+  arma::fmat v;
   const std::size_t nt = impl_->info.times.size();
   const std::size_t chunk = std::max<std::size_t>(1, (1u << 22) / std::max<arma::uword>(1, all.grid.n_points()));
   for (std::size_t m = 0; m < impl_->info.members; ++m)
     for (std::size_t t = 0; t < nt; t += chunk) {
-      arma::fmat v = read(all, t, std::min(chunk, nt - t), m);
-      n += static_cast<std::size_t>(arma::accu(v != v));  // NaN != NaN
+      n += read_into(all, t, std::min(chunk, nt - t), m, v);
     }
   return n;
 }

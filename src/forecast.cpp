@@ -25,8 +25,19 @@ Domain widened(const Domain& d, double lat_step, double lon_step) {
   return w;
 }
 
-DomainSelection select_for(const HeightDataset& ds, const Domain& domain, Domain& used) {
+DomainSelection select_for(const HeightDataset& ds, const Domain& domain, const Grid* target, Domain& used) {
   const DatasetInfo& in = ds.info();
+  if (target) {  // the file has exactly the target's points: read just them, no interpolation
+    try {
+      DomainSelection exact = ds.select(domain);
+      if (exact.grid.same_as(*target)) {
+        used = domain;
+        return exact;
+      }
+    } catch (const InputError&) {
+      // not covered: the widened attempt below gives the message
+    }
+  }
   double lat_step = in.file_lat.n_elem > 1 ? std::abs(in.file_lat(1) - in.file_lat(0)) : 0.0;
   double lon_step = in.file_lon.n_elem > 1 ? std::abs(in.file_lon(1) - in.file_lon(0)) : 0.0;
   Domain wide = widened(domain, lat_step, lon_step);
@@ -49,7 +60,7 @@ std::string list_leads(const std::vector<int>& leads) {
 }  // namespace
 
 std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths, const std::string& variable,
-                                           const Domain& domain) {
+                                           const Domain& domain, const Grid* target) {
   if (paths.empty()) throw InputError("no forecast files given");
   std::map<std::int64_t, Initialisation> by_init;
   std::map<std::int64_t, std::set<int>> numbers;
@@ -81,7 +92,7 @@ std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths
       throw DataError(p + ": lead days missing: " + list_leads(missing) + " (of 0.." + std::to_string(n_leads - 1) + ")");
 
     Domain used;
-    DomainSelection sel = select_for(ds, domain, used);
+    DomainSelection sel = select_for(ds, domain, target, used);
     if (!calendar) {
       calendar = in.calendar;
       first_path = p;
@@ -182,46 +193,81 @@ Regridder::Regridder(const Grid& from, const Grid& to, const std::string& what) 
       w_[3](t) = static_cast<float>(fy * fx);
     }
   }
+  pick_ = arma::all(w_[0] == 1.0f);  // every target point is a source node: a plain gather
 }
 
 arma::fmat Regridder::apply(const arma::fmat& v) const {
   if (identity_) return v;
-  arma::fmat out(idx_[0].n_elem, v.n_cols);
-  for (arma::uword c = 0; c < v.n_cols; ++c) {
-    const float* src = v.colptr(c);
-    float* dst = out.colptr(c);
-    for (arma::uword t = 0; t < out.n_rows; ++t)
-      dst[t] = w_[0](t) * src[idx_[0](t)] + w_[1](t) * src[idx_[1](t)] + w_[2](t) * src[idx_[2](t)] +
-               w_[3](t) * src[idx_[3](t)];
-  }
+  arma::fmat out;
+  apply_into(v, out);
   return out;
 }
 
-std::vector<arma::fmat> read_members(const Initialisation& init, const Regridder& to_target,
-                                     const std::string& variable) {
-  std::vector<arma::fmat> out(init.members.size());
+void Regridder::apply_into(const arma::fmat& v, arma::fmat& out) const {
+  if (identity_) {
+    out = v;
+    return;
+  }
+  out.set_size(idx_[0].n_elem, v.n_cols);
+  for (arma::uword c = 0; c < v.n_cols; ++c) {
+    const float* src = v.colptr(c);
+    float* dst = out.colptr(c);
+    const arma::uword* i0 = idx_[0].memptr();
+    if (pick_) {
+      for (arma::uword t = 0; t < out.n_rows; ++t) dst[t] = src[i0[t]];
+      continue;
+    }
+    const arma::uword *i1 = idx_[1].memptr(), *i2 = idx_[2].memptr(), *i3 = idx_[3].memptr();
+    const float *w0 = w_[0].memptr(), *w1 = w_[1].memptr(), *w2 = w_[2].memptr(), *w3 = w_[3].memptr();
+    for (arma::uword t = 0; t < out.n_rows; ++t)
+      dst[t] = w0[t] * src[i0[t]] + w1[t] * src[i1[t]] + w2[t] * src[i2[t]] + w3[t] * src[i3[t]];
+  }
+}
+
+void for_each_member(const Initialisation& init, const Regridder& to_target, const std::string& variable,
+                     const std::function<void(std::size_t, arma::fmat&)>& use) {
+  // One set of buffers for every member: repeated reads reuse the same pages.
+  arma::fmat raw, daily, target;
   for (std::size_t f = 0; f < init.files.size(); ++f) {
     const std::string& path = init.files[f];
     HeightDataset ds = HeightDataset::open(path, variable);
     DomainSelection sel = ds.select(init.read_domain);
     const std::size_t nt = ds.info().times.size();
+    // One step per lead day, in order (the usual daily file): no averaging.
+    bool one_per_day = nt == static_cast<std::size_t>(init.n_leads);
+    for (int l = 0; one_per_day && l < init.n_leads; ++l)
+      one_per_day = init.lead_steps[static_cast<std::size_t>(l)] == std::vector<std::size_t>{static_cast<std::size_t>(l)};
     for (std::size_t m = 0; m < init.members.size(); ++m) {
       const MemberSource& ms = init.members[m];
       if (ms.file != f) continue;
-      arma::fmat raw = ds.read(sel, 0, nt, ms.index);
-      arma::fmat daily(raw.n_rows, init.n_leads);
-      for (int l = 0; l < init.n_leads; ++l) {
-        const auto& steps = init.lead_steps[static_cast<std::size_t>(l)];
-        arma::fvec acc(raw.n_rows, arma::fill::zeros);
-        for (std::size_t s : steps) acc += raw.col(s);
-        daily.col(l) = acc / static_cast<float>(steps.size());
-        if (!daily.col(l).is_finite())
+      const bool complete = ds.read_into(sel, 0, nt, ms.index, raw) == 0;
+      if (!one_per_day) {
+        daily.set_size(raw.n_rows, static_cast<arma::uword>(init.n_leads));
+        for (int l = 0; l < init.n_leads; ++l) {
+          const auto& steps = init.lead_steps[static_cast<std::size_t>(l)];
+          daily.col(l) = raw.col(steps.front());
+          for (std::size_t s = 1; s < steps.size(); ++s) daily.col(l) += raw.col(steps[s]);
+          daily.col(l) /= static_cast<float>(steps.size());
+        }
+      }
+      arma::fmat* out = one_per_day ? &raw : &daily;
+      if (!to_target.identity()) {
+        to_target.apply_into(*out, target);
+        out = &target;
+      }
+      for (int l = 0; !complete && l < init.n_leads; ++l)  // which lead day (the margin may hold the gap)
+        if (!out->col(l).is_finite())
           throw DataError(path + ": member " + std::to_string(ms.number) + " has missing values on lead day " +
                           std::to_string(l) + " (" + to_string(init.valid_model(l)) + ")");
-      }
-      out[m] = to_target.apply(daily);
+      use(m, *out);
     }
   }
+}
+
+std::vector<arma::fmat> read_members(const Initialisation& init, const Regridder& to_target,
+                                     const std::string& variable) {
+  std::vector<arma::fmat> out(init.members.size());
+  for_each_member(init, to_target, variable, [&](std::size_t m, arma::fmat& h) { out[m].swap(h); });
   return out;
 }
 

@@ -4,20 +4,14 @@
 #include "isohypse/eof.hpp"
 #include "isohypse/error.hpp"
 #include "isohypse/forecast.hpp"
+#include "isohypse/labeller.hpp"
 #include "isohypse/reader.hpp"
 
 namespace isohypse {
 
-std::vector<int> label_anomalies(const RegimeModel& model, arma::fmat anomalies, arma::vec* correlation) {
-  anomalies.each_col() %= arma::conv_to<arma::fvec>::from(model.weights);
-  arma::mat pcs = project_onto_eofs(anomalies, model.eof_mean, model.eofs);
-  std::vector<int> labels;
-  arma::vec cor;
-  assign_regimes(pcs, model.centroids, model.no_regime_threshold, labels, cor);
-  for (int& l : labels)
-    if (l < 0) l = model.k();
-  if (correlation) *correlation = std::move(cor);
-  return labels;
+std::vector<int> label_anomalies(const RegimeModel& model, const arma::fmat& anomalies, arma::vec* correlation) {
+  RegimeLabeller labeller(model);
+  return labeller.label(anomalies, correlation);
 }
 
 ObservedSequence observed_from_files(const RegimeModel& model, const std::vector<std::string>& paths,

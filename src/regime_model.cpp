@@ -2,6 +2,7 @@
 
 #include <cmath>
 #include <cstdio>
+#include <limits>
 #include <sstream>
 
 #include "isohypse/atomic_file.hpp"
@@ -245,24 +246,35 @@ void assign_regimes(const arma::mat& pcs, const arma::mat& centroids, double thr
   if (pcs.n_cols != centroids.n_rows)
     throw InputError("assign_regimes: " + std::to_string(pcs.n_cols) + " components per day but centroids have " +
                      std::to_string(centroids.n_rows));
-  const arma::uword n = pcs.n_rows, k = centroids.n_cols;
+  // Plain loops: no temporaries per day (classify labels thousands of member-days).
+  const arma::uword n = pcs.n_rows, k = centroids.n_cols, ne = centroids.n_rows;
   labels.assign(n, -1);
   correlation.set_size(n);
-  arma::rowvec cnorm(k);
-  for (arma::uword j = 0; j < k; ++j) cnorm(j) = arma::norm(centroids.col(j));
+  std::vector<double> cnorm(k);
+  for (arma::uword j = 0; j < k; ++j) {
+    double s = 0;
+    for (arma::uword e = 0; e < ne; ++e) s += centroids(e, j) * centroids(e, j);
+    cnorm[j] = std::sqrt(s);
+  }
   for (arma::uword i = 0; i < n; ++i) {
-    arma::rowvec x = pcs.row(i);
-    double best = arma::datum::inf;
+    double best = std::numeric_limits<double>::infinity(), xx = 0;
     arma::uword bj = 0;
+    for (arma::uword e = 0; e < ne; ++e) xx += pcs(i, e) * pcs(i, e);
     for (arma::uword j = 0; j < k; ++j) {
-      double d = arma::accu(arma::square(x.t() - centroids.col(j)));
+      double d = 0;
+      for (arma::uword e = 0; e < ne; ++e) {
+        const double diff = pcs(i, e) - centroids(e, j);
+        d += diff * diff;
+      }
       if (d < best) {
         best = d;
         bj = j;
       }
     }
-    double xn = arma::norm(x);
-    double c = (xn > 0 && cnorm(bj) > 0) ? arma::dot(x.t(), centroids.col(bj)) / (xn * cnorm(bj)) : 0.0;
+    double dot = 0;
+    for (arma::uword e = 0; e < ne; ++e) dot += pcs(i, e) * centroids(e, bj);
+    const double xn = std::sqrt(xx);
+    const double c = (xn > 0 && cnorm[bj] > 0) ? dot / (xn * cnorm[bj]) : 0.0;
     correlation(i) = c;
     labels[i] = c >= threshold ? static_cast<int>(bj) : -1;
   }

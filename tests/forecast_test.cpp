@@ -12,6 +12,7 @@
 #include <string>
 #include <vector>
 
+#include "isohypse/dataset.hpp"
 #include "isohypse/error.hpp"
 #include "isohypse/forecast.hpp"
 #include "netcdf_file.hpp"
@@ -169,6 +170,35 @@ TEST_CASE("forecast: a 360_day file with 12-hourly steps across 30 February beco
   const arma::uword p = 1 * lon.size() + 1;
   CHECK(members[1](p, 1) == doctest::Approx((z[at(1, 2, 1, 1)] + z[at(1, 3, 1, 1)]) / 2.0).epsilon(1e-7));
   CHECK(members[0](p, 2) == doctest::Approx((z[at(0, 4, 1, 1)] + z[at(0, 5, 1, 1)]) / 2.0).epsilon(1e-7));
+
+  // Given the regime grid, a file that has exactly its points is read just
+  // there (no margin, no interpolation), with the same values.
+  Domain inner = dom;  // 40N, 210-220E: the file has a point beyond on every side
+  inner.lat_min = 40;
+  inner.lat_max = 40;
+  inner.lon_west = 210;
+  inner.lon_east = 220;
+  const Grid exact_grid = HeightDataset::open(path).select(inner).grid;
+  std::vector<Initialisation> widened = scan_forecasts({path}, "", inner);
+  std::vector<Initialisation> exact = scan_forecasts({path}, "", inner, &exact_grid);
+  REQUIRE(exact.size() == 1);
+  CHECK(exact.front().native_grid.same_as(exact_grid));
+  CHECK(exact.front().native_grid.n_points() < widened.front().native_grid.n_points());
+  Regridder none(exact.front().native_grid, exact_grid, path);
+  CHECK(none.identity());
+  const Regridder pick(widened.front().native_grid, exact_grid, path);
+  CHECK_FALSE(pick.identity());
+  std::vector<arma::fmat> direct = read_members(exact.front(), none, "");
+  std::vector<arma::fmat> picked = read_members(widened.front(), pick, "");
+  REQUIRE(direct.size() == nm);
+  for (std::size_t m = 0; m < nm; ++m) CHECK(arma::approx_equal(direct[m], picked[m], "absdiff", 0.0f));
+  // for_each_member hands out the same heights, one member at a time.
+  std::size_t calls = 0;
+  for_each_member(exact.front(), none, "", [&](std::size_t m, arma::fmat& h) {
+    CHECK(arma::approx_equal(h, direct[m], "absdiff", 0.0f));
+    ++calls;
+  });
+  CHECK(calls == nm);
   fs::remove(path);
 }
 
@@ -203,6 +233,14 @@ TEST_CASE("regridder: identity when the grids match") {
   const Grid fine = regular(15, 85, 1.25, 160, 330, 1.25);
   arma::fmat picked = Regridder(fine, g, "fine.nc").apply(sample(fine));
   CHECK(arma::abs(picked - v).max() < 5e-3f);
+  // ... and exactly so: such points are picked, not weighted.
+  const Grid coarse = regular(20, 80, 5, 170, 320, 5);
+  const arma::fmat from_g = sample(g);
+  arma::fmat sub = Regridder(g, coarse, "g.nc").apply(from_g);
+  const arma::uword nlon = g.n_lon();
+  for (arma::uword a = 0; a < coarse.n_lat(); ++a)
+    for (arma::uword b = 0; b < coarse.n_lon(); ++b)
+      CHECK(sub(a * coarse.n_lon() + b, 1) == from_g((2 * a) * nlon + 2 * b, 1));
 }
 
 TEST_CASE("regridder: a source grid that does not cover the target is refused, naming the file") {

@@ -38,12 +38,26 @@ struct ClassifyConfig {
   static std::vector<std::pair<int, int>> parse_windows(const std::string& text);
 };
 
+// Where classify's time went, in seconds of wall time (for --timings and the
+// benchmark). Reading and labelling overlap (two threads), so read_s and
+// label_s are each thread's busy time within members_wall_s.
+struct ClassifyTimings {
+  double scan_s = 0;          // metadata of every forecast and reforecast file
+  double reference_s = 0;     // climatology, or the model climate from reforecasts (read here)
+  double read_s = 0;          // forecast members: read, unpacked, to daily means and the regime grid
+  double label_s = 0;         // anomalies, projection, nearest centroid
+  double members_wall_s = 0;  // the two above, overlapped
+  double statistics_s = 0;    // probabilities, windows, persistence, transitions, observed regime
+  double document_s = 0;      // the JSON document
+  double total_s = 0;
+};
+
 using ClassifyProgress = std::function<void(const std::string& stage, int done, int total)>;
 
 // Runs the stage; returns the guidance document. Throws InputError /
 // DataError naming the file and the problem.
 nlohmann::json classify_forecasts(const RegimeModel& model, const ClassifyConfig& config,
-                                  const ClassifyProgress& progress = {});
+                                  const ClassifyProgress& progress = {}, ClassifyTimings* timings = nullptr);
 
 // For impact models: DIR/daily.csv and DIR/windows.csv (atomically).
 void write_guidance_csv(const nlohmann::json& guidance, const std::string& dir);

@@ -118,6 +118,11 @@ public:
   // Heights in metres, n_points x count, for time steps [t0, t0+count) of
   // member `member`: NaN where missing.
   arma::fmat read(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member = 0) const;
+  // The same into `out` (resized; its memory is reused when the size is
+  // unchanged, which saves fresh pages on repeated reads). Returns how many
+  // values were missing (now NaN).
+  std::size_t read_into(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
+                 arma::fmat& out) const;
 
   // Number of values equal to a fill/missing/out-of-range code in the chosen
   // variable at the chosen level over the whole grid and all steps.

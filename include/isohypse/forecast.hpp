@@ -13,6 +13,7 @@
 #pragma once
 
 #include <armadillo>
+#include <functional>
 #include <string>
 #include <vector>
 
@@ -45,9 +46,12 @@ struct Initialisation {
 // Reads only metadata. Groups files into initialisations (sorted by date),
 // checks that each has every lead day from 0 (a gap is refused, naming the
 // file and the missing lead days), no duplicate members, and one grid and
-// calendar. Throws InputError/DataError naming the file.
+// calendar. Throws InputError/DataError naming the file. The part of each
+// file to read is the domain widened by a grid step (for interpolation), or
+// exactly the domain when its points there are those of `target` (the
+// regime grid, if given).
 std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths, const std::string& variable,
-                                           const Domain& domain);
+                                           const Domain& domain, const Grid* target = nullptr);
 
 // Bilinear interpolation from one regular grid to another (weights computed
 // once). A target point outside the source grid is refused (InputError
@@ -59,12 +63,23 @@ public:
   bool identity() const { return identity_; }
   // n_from_points x n -> n_to_points x n
   arma::fmat apply(const arma::fmat& values) const;
+  // The same into `out` (resized; its memory reused when the size holds).
+  void apply_into(const arma::fmat& values, arma::fmat& out) const;
 
 private:
   bool identity_ = true;
+  bool pick_ = false;  // every target point is a source node
   arma::uvec idx_[4];
   arma::fvec w_[4];
 };
+
+// Calls use(m, heights) for every member m (an index into init.members),
+// file by file, with the same daily heights as read_members. `heights` is a
+// buffer that the next member overwrites: use may read it, or swap it for a
+// matrix of its own (whose memory then serves the next read). One member's
+// data is in memory at a time.
+void for_each_member(const Initialisation& init, const Regridder& to_target, const std::string& variable,
+                     const std::function<void(std::size_t, arma::fmat&)>& use);
 
 // Every member's daily heights in metres on the target grid, in the order of
 // init.members: each n_target_points x n_leads (lead 0 first). Each file is

@@ -29,7 +29,9 @@ ObservedSequence observed_from_files(const RegimeModel& model, const std::vector
 ObservedSequence observed_from_model(const RegimeModel& model);
 
 // Labels (state k = no regime) of height anomalies (n_points x n_days on the
-// model grid), with the model's weights, EOFs, centroids and threshold.
-std::vector<int> label_anomalies(const RegimeModel& model, arma::fmat anomalies, arma::vec* correlation = nullptr);
+// model grid), with the model's weights, EOFs, centroids and threshold (see
+// labeller.hpp; use a RegimeLabeller to label many fields).
+std::vector<int> label_anomalies(const RegimeModel& model, const arma::fmat& anomalies,
+                                 arma::vec* correlation = nullptr);
 
 }  // namespace isohypse

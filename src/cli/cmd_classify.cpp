@@ -1,6 +1,8 @@
 // isohypse classify: lagged-ensemble forecasts in, regime guidance out.
 #include <unistd.h>
 
+#include <chrono>
+#include <cstdio>
 #include <iostream>
 
 #include "cli/commands.hpp"
@@ -16,7 +18,7 @@ void add_classify(CLI::App& app) {
     std::vector<std::string> forecasts, reforecasts, analysis;
     std::string variable;
     int lag = 0, refc_window = 7, smoothing = 5;
-    bool members = false, quiet = false;
+    bool members = false, quiet = false, timings = false;
   };
   auto a = std::make_shared<Args>();
   CLI::App* sub = app.add_subcommand(
@@ -39,6 +41,7 @@ void add_classify(CLI::App& app) {
   sub->add_option("--csv", a->csv, "Also write daily.csv and windows.csv into this folder");
   sub->add_flag("--members", a->members, "Include member-level assignments");
   sub->add_flag("--quiet", a->quiet, "Print nothing but errors");
+  sub->add_flag("--timings", a->timings, "Print where the time went (to standard error; for benchmarks)");
   sub->callback([a] {
     ClassifyConfig cfg;
     cfg.forecasts = a->forecasts;
@@ -55,7 +58,11 @@ void add_classify(CLI::App& app) {
     cfg.reforecast_window_days = a->refc_window;
     cfg.lead_smoothing_days = a->smoothing;
     cfg.member_detail = a->members;
+    using Clock = std::chrono::steady_clock;
+    auto since = [](Clock::time_point t) { return std::chrono::duration<double>(Clock::now() - t).count(); };
+    const auto t_start = Clock::now();
     RegimeModel model = read_regime_model(a->model);
+    const double model_s = since(t_start);
     const bool tty = ::isatty(STDERR_FILENO) && !a->quiet;
     auto progress = [&](const std::string& stage, int done, int total) {
       if (!tty) return;
@@ -63,10 +70,31 @@ void add_classify(CLI::App& app) {
       if (total > 0) std::cerr << " " << done << "/" << total;
       std::cerr << "          " << std::flush;
     };
-    nlohmann::json g = classify_forecasts(model, cfg, progress);
+    ClassifyTimings tm;
+    nlohmann::json g = classify_forecasts(model, cfg, progress, &tm);
     if (tty) std::cerr << "\r" << std::string(60, ' ') << "\r";
+    const auto t_write = Clock::now();
     write_file_atomically(a->out, g.dump(1) + "\n");
     if (!a->csv.empty()) write_guidance_csv(g, a->csv);
+    if (a->timings) {
+      const double write_s = since(t_write);
+      char line[160];
+      std::cerr << "classify timings (s, wall clock):\n";
+      auto row = [&](const char* what, double s) {
+        std::snprintf(line, sizeof line, "  %-58s %8.3f\n", what, s);
+        std::cerr << line;
+      };
+      row("regime model (read and SHA-256)", model_s);
+      row("scan: metadata of every forecast and reforecast file", tm.scan_s);
+      row("references: climatology or reforecast model climate", tm.reference_s);
+      row("members, read and labelled on two threads", tm.members_wall_s);
+      row("  of which reading (netCDF-C, unpack, daily means, regrid)", tm.read_s);
+      row("  of which labelling (anomalies, projection, centroids)", tm.label_s);
+      row("statistics: probabilities, windows, persistence", tm.statistics_s);
+      row("guidance document built", tm.document_s);
+      row(a->csv.empty() ? "written (JSON)" : "written (JSON and CSV)", write_s);
+      row("total", since(t_start));
+    }
     if (!a->quiet) {
       std::cout << guidance_text(g) << "\nguidance written to " << a->out << "\n";
       if (!a->csv.empty()) std::cout << "CSV written to " << a->csv << "/daily.csv and " << a->csv << "/windows.csv\n";

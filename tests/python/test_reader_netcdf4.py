@@ -4,6 +4,7 @@ netCDF4-python's masked, auto-scaled read (CF Conventions 1.10 sec. 8.1 packing,
 sec. 2.5.1 _FillValue/missing_value/valid_range) is the independent reference for
 values; cftime.num2date (CF sec. 4.4) for dates. Geopotential height =
 geopotential / 9.80665 (WMO standard gravity)."""
+import json
 import os
 import shutil
 
@@ -150,6 +151,44 @@ got = tool("read_tool", *reversed(parts))
 check(len(got["dates"]) == 9 and got["dates"][0] == "1999-12-30" and got["missing_days"] == 2 and got["duplicates"] == 1,
       f"files ordered and joined in time: 9 days, 1 duplicate, a 2-day gap ({got['dates'][0]}..{got['dates'][-1]})")
 
+# 3b. Float heights of an ensemble file with three missing_value codes, a valid_range, NaN and
+#     Inf: every such value is missing (CF 1.10 sec. 2.5.1; a non-finite value is taken as
+#     missing, isohypse's documented choice), read member by member, and inspect counts them.
+p3 = os.path.join(tmp, "codes.nc")
+with netCDF4.Dataset(p3, "w", format="NETCDF4") as ds:
+    ds.createDimension("number", 3)
+    ds.createDimension("time", 4)
+    ds.createDimension("lat", 9)
+    ds.createDimension("lon", 16)
+    nb = ds.createVariable("number", "i4", ("number",)); nb[:] = [0, 1, 2]
+    t = ds.createVariable("time", "f8", ("time",)); t.units = "days since 2024-01-01"; t[:] = np.arange(4)
+    la = ds.createVariable("lat", "f4", ("lat",)); la.units = "degrees_north"; la[:] = np.linspace(20, 80, 9)
+    lo = ds.createVariable("lon", "f4", ("lon",)); lo.units = "degrees_east"; lo[:] = np.arange(0, 360, 22.5)
+    h = ds.createVariable("gh", "f4", ("number", "time", "lat", "lon"))
+    h.standard_name = "geopotential_height"
+    h.units = "m"
+    h.missing_value = np.array([-999.0, -888.0, 9999.0], np.float32)
+    h.valid_range = np.array([3000.0, 7000.0], np.float32)
+    vals = (5500 + rng.normal(0, 60, (3, 4, 9, 16))).astype(np.float32)
+    vals[0, 1, 2, 3] = -999.0
+    vals[1, 2, 4, 5] = -888.0
+    vals[2, 3, 6, 7] = 9999.0
+    vals[0, 0, 8, 15] = 2500.0       # below valid_range
+    vals[1, 0, 0, 0] = np.nan
+    vals[2, 1, 1, 1] = np.inf
+    h.set_auto_maskandscale(False)
+    h[:] = vals
+with netCDF4.Dataset(p3) as ds:  # netCDF4-python's masked read (auto mask on)
+    masked = np.ma.filled(ds["gh"][:].astype(np.float64), np.nan)
+    lat, lon = ds["lat"][:], ds["lon"][:]
+for member in range(3):
+    got = tool("read_tool", "--member", str(member), p3)
+    exp = masked[member].copy()
+    exp[~np.isfinite(exp)] = np.nan
+    compare(got, exp, lat, lon, f"three missing_value codes, valid_range, NaN and Inf, member {member}")
+j = json.loads(run([BIN, "inspect", "--json", p3]).stdout)
+check(j["missing_values"] == 6, f"inspect counts the 6 missing values of every kind ({j['missing_values']})")
+
 # 4. Real data that a Debian package ships: hgt.nc of libncarg-data.
 HGT = "/usr/share/ncarg/data/cdf/hgt.nc"
 if os.path.exists(HGT):
@@ -164,7 +203,6 @@ if os.path.exists(HGT):
     exp_dates = [f"{1958 + (m // 12):04d}-{m % 12 + 1:02d}-01" for m in months]
     check(got["dates"] == exp_dates, "hgt.nc 'months since' decoded as calendar months")
     r = run([BIN, "inspect", "--json", HGT])
-    import json
     j = json.loads(r.stdout)
     check(j["variable"] == "HGT" and j["units"] == "gpm" and j["grid"]["n_lat"] == 73 and j["steps"] == 21
           and j["missing_values"] == 0 and j["calendar"] == "standard", "inspect --json describes hgt.nc")
