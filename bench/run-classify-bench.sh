@@ -77,7 +77,8 @@ cpu() {  # cpu FILE: user + system seconds (the wall time means little on a shar
 
 echo "== isohypse classify ($(nproc) cores)"
 timed isohypse "$BUILD/isohypse" classify --model "$DIR/model.nc" --forecasts "$DIR/forecasts/fc_*.nc" --quiet \
-  --out "$R/guidance.json"
+  --timings --out "$R/guidance.json" 2>"$R/timings.txt"
+cat "$R/timings.txt"
 echo "== isohypse classify --members (for the comparison; not in the table)"
 timed members "$BUILD/isohypse" classify --model "$DIR/model.nc" --forecasts "$DIR/forecasts/fc_*.nc" --quiet \
   --members --out "$R/guidance_members.json"

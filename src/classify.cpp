@@ -8,6 +8,8 @@
 #include <ctime>
 #include <filesystem>
 #include <map>
+#include <memory>
+#include <mutex>
 #include <sstream>
 
 #include "isohypse/atomic_file.hpp"
@@ -19,7 +21,7 @@
 #include "isohypse/observed.hpp"
 #include "isohypse/reader.hpp"
 #include "blas_threads.hpp"
-#include "pipeline.hpp"
+#include "numerics_parallel.hpp"
 
 namespace isohypse {
 
@@ -189,10 +191,10 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
     return cache.by_key.emplace(key, std::move(sum)).first->second;
   };
 
-  // 3. Members: anomalies, projection, labels. The references first (the
-  // reforecasts are read here), then a pipeline: a second thread reads each
-  // member (netCDF-C stays on one thread at a time) while this one labels
-  // the member read before.
+  // 3. Members: anomalies, projection, labels, on every core: each thread
+  // takes the next member, reads it under a lock (netCDF-C is not
+  // thread-safe), then unpacks, projects and labels it while another thread
+  // reads. The model climate from reforecasts is read first.
   std::vector<std::vector<Date>> valid_model(chosen.size());
   std::vector<arma::fmat> reference(chosen.size());
   for (std::size_t i = 0; i < chosen.size(); ++i) {
@@ -202,69 +204,85 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
   }
   lap(timings ? &timings->reference_s : nullptr);
 
-  std::vector<MemberTrack> tracks;
-  json member_detail = json::array();
-  json inits = json::array();
-  int total_members = 0;
-  RegimeLabeller labeller(model);
-  arma::fmat anom;  // one buffer for every member
-  struct MemberHeights {
-    std::size_t init = 0, member = 0;
+  EnsembleReader reader(chosen, regrid, cfg.variable);
+  const std::size_t n_members = reader.size();
+  std::vector<MemberTrack> tracks(n_members);
+  std::vector<json> detail(cfg.member_detail ? n_members : 0);
+  struct Worker {  // one thread's buffers, reused member after member
+    explicit Worker(const RegimeModel& m) : labeller(m) {}
+    RawBlock raw;
+    EnsembleReader::Work work;
     arma::fmat heights;
+    RegimeLabeller labeller;
+    double read_s = 0, label_s = 0;
   };
-  struct Stopped {};
-  double read_s = 0, label_s = 0;
-  report("classify", 0, static_cast<int>(chosen.size()));
-  detail::two_stage_pipeline<MemberHeights>(
-      4,
-      [&](auto& emit) {
-        try {
-          auto t0 = Clock::now();
-          for (std::size_t i = 0; i < chosen.size(); ++i)
-            for_each_member(*chosen[i], regrid, cfg.variable, [&](std::size_t m, arma::fmat& heights) {
-              read_s += seconds_since(t0);
-              const bool taken = emit([&](MemberHeights& x) {
-                x.init = i;
-                x.member = m;
-                x.heights.swap(heights);  // no copy: the buffers circulate
-              });
-              if (!taken) throw Stopped{};
-              t0 = Clock::now();
-            });
-        } catch (const Stopped&) {
-          // the labelling side failed; its error is the one reported
+  std::vector<std::unique_ptr<Worker>> workers;  // owns every worker
+  std::vector<Worker*> idle;
+  std::mutex netcdf, pool;
+  auto take_worker = [&]() -> Worker* {
+    std::lock_guard<std::mutex> lock(pool);
+    if (idle.empty()) {
+      workers.push_back(std::make_unique<Worker>(model));
+      return workers.back().get();
+    }
+    Worker* w = idle.back();
+    idle.pop_back();
+    return w;
+  };
+  auto give_back = [&](Worker* w) {
+    std::lock_guard<std::mutex> lock(pool);
+    idle.push_back(w);
+  };
+  report("classify", 0, static_cast<int>(n_members));
+  detail::parallel_for(
+      n_members, cfg.threads,
+      [&](std::size_t k) {
+        Worker* w = take_worker();
+        struct Return {  // hands the worker back on every exit
+          decltype(give_back)& f;
+          Worker* w;
+          ~Return() { f(w); }
+        } back{give_back, w};
+        Clock::time_point t0;
+        {
+          std::lock_guard<std::mutex> lock(netcdf);
+          t0 = Clock::now();  // reading proper, not the wait for the lock
+          reader.read(k, w->raw);
+          w->read_s += seconds_since(t0);
         }
-      },
-      [&](const MemberHeights& x) {
-        const auto t0 = Clock::now();
-        const std::size_t i = x.init;
+        t0 = Clock::now();
+        const std::size_t i = reader.slot(k).init;
         const Initialisation& in = *chosen[i];
-        if (x.member == 0 && i > 0) report("classify", static_cast<int>(i), static_cast<int>(chosen.size()));
-        anom = x.heights - reference[i];
-        running_mean(anom, valid_model[i], model.running_mean_days);
+        reader.finish(k, w->raw, w->work, w->heights);
         arma::vec cor;
-        MemberTrack t;
+        MemberTrack& t = tracks[k];
         t.initialisation = in.id();
-        t.member = in.members[x.member].number;
+        t.member = in.members[reader.slot(k).member].number;
         t.weight = init_weights[i];
         t.first_offset = -ages[i];
-        t.labels = labeller.label(anom, &cor);
+        t.labels = w->labeller.label(w->heights, reference[i], valid_model[i], model.running_mean_days, &cor);
         if (cfg.member_detail) {
           json labels = json::array();
           for (int l : t.labels) labels.push_back(states[static_cast<std::size_t>(l)]);
-          member_detail.push_back({{"initialisation", in.id()}, {"member", t.member}, {"weight", t.weight},
-                                   {"first_valid_date", to_string(in.valid_real(0))},
-                                   {"first_lead_days", t.first_offset}, {"regimes", labels},
-                                   {"correlation", vec_json(cor)}});
+          detail[k] = {{"initialisation", in.id()}, {"member", t.member}, {"weight", t.weight},
+                       {"first_valid_date", to_string(in.valid_real(0))}, {"first_lead_days", t.first_offset},
+                       {"regimes", labels}, {"correlation", vec_json(cor)}};
         }
-        tracks.push_back(std::move(t));
-        label_s += seconds_since(t0);
-      });
+        w->label_s += seconds_since(t0);
+      },
+      [&](std::size_t done, std::size_t n) { report("classify", static_cast<int>(done), static_cast<int>(n)); });
   if (timings) {
-    timings->read_s = read_s;
-    timings->label_s = label_s;
+    timings->threads = static_cast<int>(workers.size());
+    for (const auto& w : workers) {
+      timings->read_s += w->read_s;
+      timings->label_s += w->label_s;
+    }
   }
   lap(timings ? &timings->members_wall_s : nullptr);
+  json member_detail = json::array();
+  for (auto& d : detail) member_detail.push_back(std::move(d));
+  json inits = json::array();
+  int total_members = 0;
   for (std::size_t i = 0; i < chosen.size(); ++i) {
     const Initialisation& in = *chosen[i];
     total_members += static_cast<int>(in.members.size());

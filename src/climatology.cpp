@@ -1,6 +1,7 @@
 #include "isohypse/climatology.hpp"
 
 #include <cmath>
+#include <limits>
 
 #include "isohypse/error.hpp"
 
@@ -80,31 +81,41 @@ void subtract_climatology(Field& h, const Climatology& clim) {
   h.units = "m (anomaly)";
 }
 
-void running_mean(arma::fmat& v, const std::vector<Date>& dates, int days) {
+namespace {
+
+template <class T>
+void running_mean_impl(arma::Mat<T>& v, const std::vector<Date>& dates, int days) {
   if (days <= 1) return;
   const std::vector<char> next = consecutive_flags(dates);
   const int half_lo = (days - 1) / 2, half_hi = days / 2;
-  const arma::uword nt = v.n_cols;
-  arma::fmat out(v.n_rows, nt);
+  const arma::uword nt = v.n_cols, np = v.n_rows;
+  arma::Mat<T> out(np, nt, arma::fill::none);
+  std::vector<T> sum(np), cnt(np);
   arma::uword run_start = 0;
   for (arma::uword t = 0; t < nt; ++t) {
     if (!next[t]) run_start = t;
     arma::uword run_end = t;
     while (run_end + 1 < nt && next[run_end + 1] && run_end + 1 <= t + half_hi) ++run_end;
     arma::uword lo = t >= run_start + half_lo ? t - half_lo : run_start;
-    arma::fvec sum(v.n_rows, arma::fill::zeros);
-    arma::fvec cnt(v.n_rows, arma::fill::zeros);
+    std::fill(sum.begin(), sum.end(), T(0));
+    std::fill(cnt.begin(), cnt.end(), T(0));
     for (arma::uword s = lo; s <= run_end; ++s) {
-      const float* col = v.colptr(s);
-      for (arma::uword p = 0; p < v.n_rows; ++p)
+      const T* col = v.colptr(s);
+      for (arma::uword p = 0; p < np; ++p)
         if (!std::isnan(col[p])) {
-          sum(p) += col[p];
-          cnt(p) += 1;
+          sum[p] += col[p];
+          cnt[p] += 1;
         }
     }
-    for (arma::uword p = 0; p < v.n_rows; ++p) out(p, t) = cnt(p) > 0 ? sum(p) / cnt(p) : arma::datum::nan;
+    T* o = out.colptr(t);
+    for (arma::uword p = 0; p < np; ++p) o[p] = cnt[p] > 0 ? sum[p] / cnt[p] : std::numeric_limits<T>::quiet_NaN();
   }
   v = std::move(out);
 }
+
+}  // namespace
+
+void running_mean(arma::fmat& v, const std::vector<Date>& dates, int days) { running_mean_impl(v, dates, days); }
+void running_mean(arma::mat& v, const std::vector<Date>& dates, int days) { running_mean_impl(v, dates, days); }
 
 }  // namespace isohypse

@@ -144,7 +144,7 @@ struct HeightDataset::Impl {
   nc::Var var;
   std::vector<Role> roles;  // per dimension of var
   bool lat_before_lon = true;
-  mutable std::vector<float> scratch;  // the raw hyperslab, reused by every read (no fresh pages each time)
+  mutable RawBlock scratch;  // the raw hyperslab, reused by every read (no fresh pages each time)
 
   explicit Impl(nc::File f) : file(std::move(f)) {}
 
@@ -466,6 +466,12 @@ arma::fmat HeightDataset::read(const DomainSelection& sel, std::size_t t0, std::
 
 std::size_t HeightDataset::read_into(const DomainSelection& sel, std::size_t t0, std::size_t count,
                                      std::size_t member, arma::fmat& out) const {
+  read_raw(sel, t0, count, member, impl_->scratch);
+  return unpack(impl_->scratch, out);
+}
+
+void HeightDataset::read_raw(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
+                             RawBlock& raw) const {
   const Impl& im = *impl_;
   const DatasetInfo& info = im.info;
   if (t0 + count > info.times.size())
@@ -474,14 +480,82 @@ std::size_t HeightDataset::read_into(const DomainSelection& sel, std::size_t t0,
   if (member >= info.members)
     throw InputError(info.path + ": member " + std::to_string(member) + " asked but the file has " +
                      std::to_string(info.members));
-  const std::size_t nlat = sel.lat_count, nlon_out = sel.grid.lon.n_elem;
+  raw.nlat = sel.lat_count;
+  raw.nlon_out = sel.grid.lon.n_elem;
+  raw.count = count;
+  raw.lat_descending = info.lat_descending();
+  raw.packing = info.packing;
+  raw.to_metres = info.to_metres;
+  raw.boxes.clear();
+
+  // What to ask netCDF-C for: each longitude run's box, or, when the domain
+  // takes most of the file's horizontal plane, the whole plane at once and
+  // the runs cut from it in memory. HDF5 reads a whole plane of a contiguous
+  // variable straight into the buffer, but a box row by row through its
+  // sieve buffer (one system call and one extra copy per 64 kB); the whole
+  // plane is faster even with the extra points.
+  struct Wanted {
+    std::size_t lat0, nlat, lon0, nlon;
+    std::vector<DomainSelection::Run> runs;  // starts relative to lon0
+  };
+  std::vector<Wanted> wanted;
+  {
+    const std::size_t plane = info.file_lat.n_elem * info.file_lon.n_elem;
+    std::size_t points = 0;
+    for (const auto& run : sel.lon_runs) points += sel.lat_count * run.count;
+    if (2 * points >= plane) {
+      wanted.push_back({0, info.file_lat.n_elem, 0, info.file_lon.n_elem, sel.lon_runs});
+    } else {
+      for (const auto& run : sel.lon_runs)
+        wanted.push_back({sel.lat_start, sel.lat_count, run.start, run.count, {{0, run.count, run.out_offset}}});
+    }
+  }
+  std::size_t total = 0;
+  for (const Wanted& w : wanted) total += count * w.nlat * w.nlon;
+  raw.values.resize(total);  // keeps its memory from read to read
+  if (count == 0) return;
+
+  std::size_t offset = 0;
+  for (const Wanted& w : wanted) {
+    std::vector<std::size_t> start, cnt;
+    for (std::size_t i = 0; i < im.roles.size(); ++i) {
+      switch (im.roles[i]) {
+        case Role::Time: start.push_back(t0); cnt.push_back(count); break;
+        case Role::Level: start.push_back(info.level_index); cnt.push_back(1); break;
+        case Role::Lat: start.push_back(w.lat0); cnt.push_back(w.nlat); break;
+        case Role::Lon: start.push_back(w.lon0); cnt.push_back(w.nlon); break;
+        case Role::Member: start.push_back(member); cnt.push_back(1); break;
+        case Role::Other: start.push_back(0); cnt.push_back(1); break;
+      }
+    }
+    im.file.read(im.var.id, start, cnt, raw.values.data() + offset);
+    // In the buffer the time index is slowest (time precedes lat/lon in every
+    // layout isohypse accepts except a trailing time, handled by strides).
+    RawBlock::Box box;
+    box.offset = offset;
+    box.lat_skip = sel.lat_start - w.lat0;
+    box.runs = w.runs;
+    std::size_t stride = 1;
+    for (std::size_t i = im.roles.size(); i-- > 0;) {
+      if (im.roles[i] == Role::Time) box.s_time = stride;
+      if (im.roles[i] == Role::Lat) box.s_lat = stride;
+      if (im.roles[i] == Role::Lon) box.s_lon = stride;
+      stride *= cnt[i];
+    }
+    offset += stride;
+    raw.boxes.push_back(std::move(box));
+  }
+}
+
+std::size_t unpack(const RawBlock& raw, arma::fmat& out) {
+  const std::size_t nlat = raw.nlat, nlon_out = raw.nlon_out, count = raw.count;
   out.set_size(nlat * nlon_out, count);  // every element is written below
   std::size_t n_missing = 0;
   if (count == 0) return n_missing;
   // Unpacking as one branch-free expression per value (it vectorises): a
   // missing code, a value outside the valid range or a non-finite value
-  // becomes NaN. Absent codes and limits are NaN/-inf/+inf, which never match.
-  const Packing& pk = info.packing;
+  // becomes NaN. Absent codes are NaN, which never compares equal.
+  const Packing& pk = raw.packing;
   constexpr float kInf = std::numeric_limits<float>::infinity();
   constexpr float kNaN = std::numeric_limits<float>::quiet_NaN();
   const float miss0 = pk.missing.size() > 0 ? static_cast<float>(pk.missing[0]) : kNaN;
@@ -491,72 +565,38 @@ std::size_t HeightDataset::read_into(const DomainSelection& sel, std::size_t t0,
   const float vmax = pk.valid_max ? static_cast<float>(*pk.valid_max) : std::numeric_limits<float>::max();
   std::vector<float> more_codes;  // missing_value with more than two codes (rare): the slower loop
   for (std::size_t i = 2; i < pk.missing.size(); ++i) more_codes.push_back(static_cast<float>(pk.missing[i]));
-  const double scale = pk.scale_factor * info.to_metres, offset = pk.add_offset * info.to_metres;
-  auto is_bad = [=](float raw) {  // bitwise, not short-circuit: no branches
-    return static_cast<bool>(!(raw >= vmin) | !(raw <= vmax) | (raw == miss0) | (raw == miss1) |
-                             (std::abs(raw) == kInf));
+  const double scale = pk.scale_factor * raw.to_metres, offset = pk.add_offset * raw.to_metres;
+  auto is_bad = [=](float v) {  // bitwise, not short-circuit: no branches
+    return static_cast<bool>(!(v >= vmin) | !(v <= vmax) | (v == miss0) | (v == miss1) | (std::abs(v) == kInf));
   };
-  const bool desc = info.lat_descending();
-  std::vector<float>& buf = im.scratch;
-
-  for (const auto& run : sel.lon_runs) {
-    std::vector<std::size_t> start, cnt;
-    for (std::size_t i = 0; i < im.roles.size(); ++i) {
-      switch (im.roles[i]) {
-        case Role::Time: start.push_back(t0); cnt.push_back(count); break;
-        case Role::Level: start.push_back(info.level_index); cnt.push_back(1); break;
-        case Role::Lat: start.push_back(sel.lat_start); cnt.push_back(nlat); break;
-        case Role::Lon: start.push_back(run.start); cnt.push_back(run.count); break;
-        case Role::Member: start.push_back(member); cnt.push_back(1); break;
-        case Role::Other: start.push_back(0); cnt.push_back(1); break;
-      }
-    }
-    im.file.read(im.var.id, start, cnt, buf);
-    // In the buffer the time index is slowest (time precedes lat/lon in every
-    // layout isohypse accepts except a trailing time, handled by strides).
-    std::size_t s_time = 1, s_lat = 1, s_lon = 1;
-    {
-      std::size_t stride = 1;
-      for (std::size_t i = im.roles.size(); i-- > 0;) {
-        if (im.roles[i] == Role::Time) s_time = stride;
-        if (im.roles[i] == Role::Lat) s_lat = stride;
-        if (im.roles[i] == Role::Lon) s_lon = stride;
-        stride *= cnt[i];
-      }
-    }
-    for (std::size_t t = 0; t < count; ++t) {
-      float* col = out.colptr(t);
-      for (std::size_t i = 0; i < nlat; ++i) {
-        const std::size_t oi = desc ? nlat - 1 - i : i;
-        const float* src = buf.data() + t * s_time + i * s_lat;
-        float* dst = col + oi * nlon_out + run.out_offset;
-        if (more_codes.empty() && s_lon == 1) {  // the usual case, vectorised
-          unsigned bad_here = 0;  // a vectorised count beside the values
-          for (std::size_t j = 0; j < run.count; ++j) {
-            const float raw = src[j];
-            const bool bad = is_bad(raw);
-            bad_here += bad;
-            dst[j] = bad ? kNaN : static_cast<float>(raw * scale + offset);
-          }
-          n_missing += bad_here;
-        } else if (more_codes.empty()) {
-          for (std::size_t j = 0; j < run.count; ++j) {
-            const float raw = src[j * s_lon];
-            const bool bad = is_bad(raw);
-            n_missing += bad;
-            dst[j] = bad ? kNaN : static_cast<float>(raw * scale + offset);
-          }
-        } else {
-          for (std::size_t j = 0; j < run.count; ++j) {
-            const float raw = src[j * s_lon];
-            const bool bad = is_bad(raw) || std::find(more_codes.begin(), more_codes.end(), raw) != more_codes.end();
-            n_missing += bad;
-            dst[j] = bad ? kNaN : static_cast<float>(raw * scale + offset);
+  for (const RawBlock::Box& box : raw.boxes)
+    for (const auto& run : box.runs)
+      for (std::size_t t = 0; t < count; ++t) {
+        float* col = out.colptr(t);
+        for (std::size_t i = 0; i < nlat; ++i) {
+          const std::size_t oi = raw.lat_descending ? nlat - 1 - i : i;
+          const float* src =
+              raw.values.data() + box.offset + t * box.s_time + (box.lat_skip + i) * box.s_lat + run.start * box.s_lon;
+          float* dst = col + oi * nlon_out + run.out_offset;
+          if (more_codes.empty() && box.s_lon == 1) {  // the usual case, vectorised
+            unsigned bad_here = 0;  // a vectorised count beside the values
+            for (std::size_t j = 0; j < run.count; ++j) {
+              const float v = src[j];
+              const bool bad = is_bad(v);
+              bad_here += bad;
+              dst[j] = bad ? kNaN : static_cast<float>(v * scale + offset);
+            }
+            n_missing += bad_here;
+          } else {
+            for (std::size_t j = 0; j < run.count; ++j) {
+              const float v = src[j * box.s_lon];
+              const bool bad = is_bad(v) || std::find(more_codes.begin(), more_codes.end(), v) != more_codes.end();
+              n_missing += bad;
+              dst[j] = bad ? kNaN : static_cast<float>(v * scale + offset);
+            }
           }
         }
       }
-    }
-  }
   return n_missing;
 }
 

@@ -224,43 +224,86 @@ void Regridder::apply_into(const arma::fmat& v, arma::fmat& out) const {
   }
 }
 
+struct EnsembleReader::OpenFile {
+  HeightDataset ds;
+  DomainSelection sel;
+};
+
+EnsembleReader::EnsembleReader(std::vector<const Initialisation*> inits, const Regridder& to_target,
+                               std::string variable)
+    : inits_(std::move(inits)), to_target_(to_target), variable_(std::move(variable)) {
+  for (std::size_t i = 0; i < inits_.size(); ++i) {
+    const Initialisation& in = *inits_[i];
+    for (std::size_t f = 0; f < in.files.size(); ++f)
+      for (std::size_t m = 0; m < in.members.size(); ++m)
+        if (in.members[m].file == f) {
+          slots_.push_back({i, m});
+          ++reads_left_[in.files[f]];
+        }
+    bool one = true;  // one step per lead day, in order (the usual daily file)
+    for (int l = 0; one && l < in.n_leads; ++l)
+      one = in.lead_steps[static_cast<std::size_t>(l)] == std::vector<std::size_t>{static_cast<std::size_t>(l)};
+    one_step_per_day_.push_back(one);
+  }
+}
+
+EnsembleReader::~EnsembleReader() = default;
+
+void EnsembleReader::read(std::size_t k, RawBlock& raw) {
+  const Slot& s = slots_.at(k);
+  const Initialisation& in = *inits_[s.init];
+  const MemberSource& ms = in.members[s.member];
+  const std::string& path = in.files[ms.file];
+  auto it = open_.find(path);
+  if (it == open_.end()) {
+    auto f = std::make_unique<OpenFile>(OpenFile{HeightDataset::open(path, variable_), {}});
+    f->sel = f->ds.select(in.read_domain);
+    it = open_.emplace(path, std::move(f)).first;
+  }
+  const HeightDataset& ds = it->second->ds;
+  ds.read_raw(it->second->sel, 0, ds.info().times.size(), ms.index, raw);
+  if (--reads_left_[path] == 0) open_.erase(it);  // the file's last member: close it
+}
+
+void EnsembleReader::finish(std::size_t k, const RawBlock& raw, Work& work, arma::fmat& heights) const {
+  const Slot& s = slots_.at(k);
+  const Initialisation& in = *inits_[s.init];
+  const bool one_per_day = one_step_per_day_[s.init] && raw.count == static_cast<std::size_t>(in.n_leads);
+  const bool identity = to_target_.identity();
+  // Each step writes into the next buffer; the last one is `heights`.
+  arma::fmat& unpacked = (one_per_day && identity) ? heights : work.unpacked;
+  const bool complete = unpack(raw, unpacked) == 0;
+  const arma::fmat* current = &unpacked;
+  if (!one_per_day) {
+    arma::fmat& daily = identity ? heights : work.daily;
+    daily.set_size(unpacked.n_rows, static_cast<arma::uword>(in.n_leads));
+    for (int l = 0; l < in.n_leads; ++l) {
+      const auto& steps = in.lead_steps[static_cast<std::size_t>(l)];
+      daily.col(l) = unpacked.col(steps.front());
+      for (std::size_t i = 1; i < steps.size(); ++i) daily.col(l) += unpacked.col(steps[i]);
+      daily.col(l) /= static_cast<float>(steps.size());
+    }
+    current = &daily;
+  }
+  if (!identity) to_target_.apply_into(*current, heights);
+  for (int l = 0; !complete && l < in.n_leads; ++l)  // which lead day (the margin may hold the gap)
+    if (!heights.col(l).is_finite()) {
+      const MemberSource& ms = in.members[s.member];
+      throw DataError(in.files[ms.file] + ": member " + std::to_string(ms.number) + " has missing values on lead day " +
+                      std::to_string(l) + " (" + to_string(in.valid_model(l)) + ")");
+    }
+}
+
 void for_each_member(const Initialisation& init, const Regridder& to_target, const std::string& variable,
                      const std::function<void(std::size_t, arma::fmat&)>& use) {
-  // One set of buffers for every member: repeated reads reuse the same pages.
-  arma::fmat raw, daily, target;
-  for (std::size_t f = 0; f < init.files.size(); ++f) {
-    const std::string& path = init.files[f];
-    HeightDataset ds = HeightDataset::open(path, variable);
-    DomainSelection sel = ds.select(init.read_domain);
-    const std::size_t nt = ds.info().times.size();
-    // One step per lead day, in order (the usual daily file): no averaging.
-    bool one_per_day = nt == static_cast<std::size_t>(init.n_leads);
-    for (int l = 0; one_per_day && l < init.n_leads; ++l)
-      one_per_day = init.lead_steps[static_cast<std::size_t>(l)] == std::vector<std::size_t>{static_cast<std::size_t>(l)};
-    for (std::size_t m = 0; m < init.members.size(); ++m) {
-      const MemberSource& ms = init.members[m];
-      if (ms.file != f) continue;
-      const bool complete = ds.read_into(sel, 0, nt, ms.index, raw) == 0;
-      if (!one_per_day) {
-        daily.set_size(raw.n_rows, static_cast<arma::uword>(init.n_leads));
-        for (int l = 0; l < init.n_leads; ++l) {
-          const auto& steps = init.lead_steps[static_cast<std::size_t>(l)];
-          daily.col(l) = raw.col(steps.front());
-          for (std::size_t s = 1; s < steps.size(); ++s) daily.col(l) += raw.col(steps[s]);
-          daily.col(l) /= static_cast<float>(steps.size());
-        }
-      }
-      arma::fmat* out = one_per_day ? &raw : &daily;
-      if (!to_target.identity()) {
-        to_target.apply_into(*out, target);
-        out = &target;
-      }
-      for (int l = 0; !complete && l < init.n_leads; ++l)  // which lead day (the margin may hold the gap)
-        if (!out->col(l).is_finite())
-          throw DataError(path + ": member " + std::to_string(ms.number) + " has missing values on lead day " +
-                          std::to_string(l) + " (" + to_string(init.valid_model(l)) + ")");
-      use(m, *out);
-    }
+  EnsembleReader reader({&init}, to_target, variable);
+  RawBlock raw;  // one set of buffers for every member
+  EnsembleReader::Work work;
+  arma::fmat heights;
+  for (std::size_t k = 0; k < reader.size(); ++k) {
+    reader.read(k, raw);
+    reader.finish(k, raw, work, heights);
+    use(reader.slot(k).member, heights);
   }
 }
 

@@ -2,6 +2,7 @@
 
 #include <string>
 
+#include "isohypse/climatology.hpp"
 #include "isohypse/error.hpp"
 
 namespace isohypse {
@@ -9,33 +10,61 @@ namespace isohypse {
 RegimeLabeller::RegimeLabeller(const RegimeModel& model)
     : model_(model), weights_(arma::conv_to<arma::fvec>::from(model.weights)) {}
 
-std::vector<int> RegimeLabeller::label(const arma::fmat& anomalies, arma::vec* correlation) {
-  const arma::uword np = model_.eofs.n_rows, n = anomalies.n_cols;
-  if (anomalies.n_rows != np)
-    throw InputError("regime labels: the anomalies have " + std::to_string(anomalies.n_rows) +
-                     " grid points, the regime model " + std::to_string(np));
-  // Weighted in float (as derive weights its anomalies), centred in double.
+void RegimeLabeller::project(const arma::fmat& x, const arma::fmat* reference) {
+  const arma::uword np = model_.eofs.n_rows, n = x.n_cols;
+  if (x.n_rows != np)
+    throw InputError("regime labels: the fields have " + std::to_string(x.n_rows) + " grid points, the regime model " +
+                     std::to_string(np));
+  if (reference && (reference->n_rows != np || reference->n_cols < n))
+    throw InputError("regime labels: the reference has " + std::to_string(reference->n_rows) + " x " +
+                     std::to_string(reference->n_cols) + " values for " + std::to_string(np) + " x " +
+                     std::to_string(n) + " fields");
+  // Anomaly and weight in float (as derive computes them), centred in double.
   weighted_.set_size(np, n);
   const float* w = weights_.memptr();
   const double* mean = model_.eof_mean.memptr();
   for (arma::uword t = 0; t < n; ++t) {
-    const float* x = anomalies.colptr(t);
+    const float* xt = x.colptr(t);
     double* b = weighted_.colptr(t);
-    for (arma::uword i = 0; i < np; ++i) b[i] = static_cast<double>(x[i] * w[i]) - mean[i];
+    if (reference) {
+      const float* r = reference->colptr(t);
+      for (arma::uword i = 0; i < np; ++i) b[i] = static_cast<double>((xt[i] - r[i]) * w[i]) - mean[i];
+    } else {
+      for (arma::uword i = 0; i < np; ++i) b[i] = static_cast<double>(xt[i] * w[i]) - mean[i];
+    }
   }
   pcs_ = weighted_.t() * model_.eofs;
   // A NaN or Inf anywhere in a day's field leaves a NaN or Inf in its
   // components: checking these few numbers spares a pass over the fields.
   if (!pcs_.is_finite())
-    throw DataError("regime labels: the anomalies hold NaN or Inf values (" + std::to_string(anomalies.n_rows) +
-                    " x " + std::to_string(n) + ")");
+    throw DataError("regime labels: the anomalies hold NaN or Inf values (" + std::to_string(np) + " x " +
+                    std::to_string(n) + ")");
+}
 
+std::vector<int> RegimeLabeller::assign(arma::vec* correlation) {
   std::vector<int> labels;
   arma::vec& cor = correlation ? *correlation : cor_;
   assign_regimes(pcs_, model_.centroids, model_.no_regime_threshold, labels, cor);
   for (int& l : labels)
     if (l < 0) l = model_.k();
   return labels;
+}
+
+std::vector<int> RegimeLabeller::label(const arma::fmat& anomalies, arma::vec* correlation) {
+  project(anomalies, nullptr);
+  return assign(correlation);
+}
+
+std::vector<int> RegimeLabeller::label(const arma::fmat& heights, const arma::fmat& reference,
+                                       const std::vector<Date>& dates, int running_mean_days,
+                                       arma::vec* correlation) {
+  project(heights, &reference);
+  if (running_mean_days > 1) {
+    arma::mat by_day = pcs_.t();  // a column per day
+    running_mean(by_day, dates, running_mean_days);
+    pcs_ = by_day.t();
+  }
+  return assign(correlation);
 }
 
 }  // namespace isohypse

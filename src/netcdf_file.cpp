@@ -252,8 +252,14 @@ void File::read(int varid, const std::vector<std::size_t>& start, const std::vec
                 std::vector<float>& out) const {
   out.resize(product(count));
   if (out.empty()) return;
-  check(nc_get_vara_float(ncid_, varid, start.data(), count.data(), out.data()), "nc_get_vara_float",
-        path_, var_label(varid));
+  read(varid, start, count, out.data());
+}
+
+void File::read(int varid, const std::vector<std::size_t>& start, const std::vector<std::size_t>& count,
+                float* out) const {
+  if (product(count) == 0) return;
+  check(nc_get_vara_float(ncid_, varid, start.data(), count.data(), out), "nc_get_vara_float", path_,
+        var_label(varid));
 }
 
 int File::def_dim(const std::string& name, std::size_t length) {

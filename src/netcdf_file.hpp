@@ -78,6 +78,9 @@ public:
             std::vector<double>& out) const;
   void read(int varid, const std::vector<std::size_t>& start, const std::vector<std::size_t>& count,
             std::vector<float>& out) const;
+  // The same into memory the caller sized (product of count floats).
+  void read(int varid, const std::vector<std::size_t>& start, const std::vector<std::size_t>& count,
+            float* out) const;
 
   // Writing (define mode until end_define()).
   int def_dim(const std::string& name, std::size_t length);  // 0 = unlimited

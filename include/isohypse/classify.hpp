@@ -33,20 +33,22 @@ struct ClassifyConfig {
   std::vector<std::pair<int, int>> windows = {{1, 3}, {4, 7}, {8, 14}, {15, 28}, {29, 45}};
   int reforecast_window_days = 7;         // reforecasts initialised within +-N days of the year
   int lead_smoothing_days = 5;            // running mean of the model climate along lead
+  int threads = 0;                        // members read and labelled at once; 0 = every core
 
   // "1-3,4-7,8-14": throws InputError naming the flag.
   static std::vector<std::pair<int, int>> parse_windows(const std::string& text);
 };
 
 // Where classify's time went, in seconds of wall time (for --timings and the
-// benchmark). Reading and labelling overlap (two threads), so read_s and
-// label_s are each thread's busy time within members_wall_s.
+// benchmark). Members are read and labelled on several threads at once, so
+// read_s and label_s are sums over the threads within members_wall_s.
 struct ClassifyTimings {
   double scan_s = 0;          // metadata of every forecast and reforecast file
   double reference_s = 0;     // climatology, or the model climate from reforecasts (read here)
-  double read_s = 0;          // forecast members: read, unpacked, to daily means and the regime grid
-  double label_s = 0;         // anomalies, projection, nearest centroid
-  double members_wall_s = 0;  // the two above, overlapped
+  double read_s = 0;          // forecast members: netCDF-C reads (one thread at a time)
+  double label_s = 0;         // unpacking, daily means, regridding, anomalies, projection, labels
+  double members_wall_s = 0;  // the two above, on `threads` threads
+  int threads = 0;
   double statistics_s = 0;    // probabilities, windows, persistence, transitions, observed regime
   double document_s = 0;      // the JSON document
   double total_s = 0;

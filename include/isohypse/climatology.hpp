@@ -44,6 +44,8 @@ void subtract_climatology(Field& heights, const Climatology& clim);
 // Centred N-day running mean within each run of consecutive days (shorter
 // windows at the ends of a run); N <= 1 leaves the data unchanged. NaN
 // values are skipped in the averages.
+// values: n x n_dates (a column per date).
 void running_mean(arma::fmat& values, const std::vector<Date>& dates, int days);
+void running_mean(arma::mat& values, const std::vector<Date>& dates, int days);
 
 }  // namespace isohypse

@@ -96,6 +96,31 @@ struct DomainSelection {
   std::vector<Run> lon_runs;               // contiguous file index runs, in output order
 };
 
+// The values of one read as the file stores them (packed, file order), with
+// what it takes to unpack them. HeightDataset::read_raw fills it (netCDF-C:
+// one thread at a time); unpack() turns it into metres on the domain's grid
+// without netCDF-C, on any thread. The buffer keeps its memory from read to
+// read.
+struct RawBlock {
+  struct Box {
+    std::size_t offset = 0;    // into values
+    std::size_t lat_skip = 0;  // the domain's first latitude row within the box
+    std::size_t s_time = 1, s_lat = 1, s_lon = 1;  // strides in values
+    std::vector<DomainSelection::Run> runs;        // longitude starts relative to the box
+  };
+  std::vector<float> values;
+  std::vector<Box> boxes;
+  std::size_t nlat = 0, nlon_out = 0, count = 0;
+  bool lat_descending = false;
+  Packing packing;
+  double to_metres = 1.0;
+};
+
+// Heights in metres (n_points x count, NaN where missing) from a raw block;
+// returns how many values were missing. `out` keeps its memory when its
+// size holds.
+std::size_t unpack(const RawBlock& raw, arma::fmat& out);
+
 class HeightDataset {
 public:
   // Opens `path`, chooses the variable (`variable` if given) and the level.
@@ -122,7 +147,10 @@ public:
   // unchanged, which saves fresh pages on repeated reads). Returns how many
   // values were missing (now NaN).
   std::size_t read_into(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
-                 arma::fmat& out) const;
+                        arma::fmat& out) const;
+  // The first half of read_into: the stored values, to unpack() elsewhere.
+  void read_raw(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
+                RawBlock& raw) const;
 
   // Number of values equal to a fill/missing/out-of-range code in the chosen
   // variable at the chosen level over the whole grid and all steps.

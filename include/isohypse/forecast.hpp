@@ -17,7 +17,11 @@
 #include <string>
 #include <vector>
 
+#include <map>
+#include <memory>
+
 #include "isohypse/calendar.hpp"
+#include "isohypse/dataset.hpp"
 #include "isohypse/field.hpp"
 
 namespace isohypse {
@@ -71,6 +75,45 @@ private:
   bool pick_ = false;  // every target point is a source node
   arma::uvec idx_[4];
   arma::fvec w_[4];
+};
+
+// The members of several initialisations as one list that threads can
+// share. read(k, raw) fetches member k's stored values: it calls netCDF-C,
+// which is not thread-safe, so call it from one thread at a time (e.g. under
+// a lock). finish(k, raw, ...) turns them into daily heights in metres on
+// the target grid without netCDF-C, on any thread. Members are listed
+// initialisation by initialisation, file by file, in file order; a file is
+// opened at its first member's read and closed after its last.
+class EnsembleReader {
+public:
+  struct Slot {
+    std::size_t init = 0;    // index into the initialisations given
+    std::size_t member = 0;  // index into that initialisation's members
+  };
+  // A thread's intermediate buffers (their memory is reused member after member).
+  struct Work {
+    arma::fmat unpacked, daily;
+  };
+
+  EnsembleReader(std::vector<const Initialisation*> inits, const Regridder& to_target, std::string variable);
+  ~EnsembleReader();
+  std::size_t size() const { return slots_.size(); }
+  const Slot& slot(std::size_t k) const { return slots_[k]; }
+
+  void read(std::size_t k, RawBlock& raw);
+  // heights: n_target_points x n_leads (lead 0 first). Throws DataError
+  // naming the file, the member and the lead day when a value is missing.
+  void finish(std::size_t k, const RawBlock& raw, Work& work, arma::fmat& heights) const;
+
+private:
+  struct OpenFile;
+  std::vector<const Initialisation*> inits_;
+  const Regridder& to_target_;
+  std::string variable_;
+  std::vector<Slot> slots_;
+  std::vector<char> one_step_per_day_;  // per initialisation: no averaging needed
+  std::map<std::string, std::unique_ptr<OpenFile>> open_;
+  std::map<std::string, std::size_t> reads_left_;
 };
 
 // Calls use(m, heights) for every member m (an index into init.members),

@@ -12,6 +12,7 @@
 #include <armadillo>
 #include <vector>
 
+#include "isohypse/calendar.hpp"
 #include "isohypse/regime_model.hpp"
 
 namespace isohypse {
@@ -26,10 +27,21 @@ public:
   // the nearest centroid per day.
   std::vector<int> label(const arma::fmat& anomalies, arma::vec* correlation = nullptr);
 
+  // The same for the anomalies heights - reference (both n_points x n_days)
+  // after the model's centred running mean of `running_mean_days` over
+  // `dates` (climatology.hpp's running_mean). The mean is taken on the
+  // components: both steps are linear, so this equals projecting the
+  // smoothed fields, and it spares two passes over them.
+  std::vector<int> label(const arma::fmat& heights, const arma::fmat& reference, const std::vector<Date>& dates,
+                         int running_mean_days, arma::vec* correlation = nullptr);
+
   // The principal components of the last label() call, n_days x n_eof.
   const arma::mat& components() const { return pcs_; }
 
 private:
+  void project(const arma::fmat& x, const arma::fmat* reference);
+  std::vector<int> assign(arma::vec* correlation);
+
   const RegimeModel& model_;
   arma::fvec weights_;   // float, as the anomalies are multiplied in float
   arma::mat weighted_;   // n_points x n_days: w x - m in double

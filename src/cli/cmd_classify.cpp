@@ -17,7 +17,7 @@ void add_classify(CLI::App& app) {
     std::string model, out, weights = "equal", issue, csv, windows;
     std::vector<std::string> forecasts, reforecasts, analysis;
     std::string variable;
-    int lag = 0, refc_window = 7, smoothing = 5;
+    int lag = 0, refc_window = 7, smoothing = 5, threads = 0;
     bool members = false, quiet = false, timings = false;
   };
   auto a = std::make_shared<Args>();
@@ -38,6 +38,7 @@ void add_classify(CLI::App& app) {
   sub->add_option("--reforecast-window", a->refc_window, "Reforecasts within +-N days of the year")->capture_default_str();
   sub->add_option("--lead-smoothing", a->smoothing, "Running mean of the model climate in lead, days")
       ->capture_default_str();
+  sub->add_option("--threads", a->threads, "Threads reading and labelling members (default: every core)");
   sub->add_option("--csv", a->csv, "Also write daily.csv and windows.csv into this folder");
   sub->add_flag("--members", a->members, "Include member-level assignments");
   sub->add_flag("--quiet", a->quiet, "Print nothing but errors");
@@ -58,6 +59,8 @@ void add_classify(CLI::App& app) {
     cfg.reforecast_window_days = a->refc_window;
     cfg.lead_smoothing_days = a->smoothing;
     cfg.member_detail = a->members;
+    if (a->threads < 0) throw InputError("--threads must be 0 (every core) or positive");
+    cfg.threads = a->threads;
     using Clock = std::chrono::steady_clock;
     auto since = [](Clock::time_point t) { return std::chrono::duration<double>(Clock::now() - t).count(); };
     const auto t_start = Clock::now();
@@ -87,9 +90,9 @@ void add_classify(CLI::App& app) {
       row("regime model (read and SHA-256)", model_s);
       row("scan: metadata of every forecast and reforecast file", tm.scan_s);
       row("references: climatology or reforecast model climate", tm.reference_s);
-      row("members, read and labelled on two threads", tm.members_wall_s);
-      row("  of which reading (netCDF-C, unpack, daily means, regrid)", tm.read_s);
-      row("  of which labelling (anomalies, projection, centroids)", tm.label_s);
+      row(("members, read and labelled on " + std::to_string(tm.threads) + " threads").c_str(), tm.members_wall_s);
+      row("  reading with netCDF-C (one thread at a time; summed)", tm.read_s);
+      row("  unpacking, anomalies, projection, labels (summed)", tm.label_s);
       row("statistics: probabilities, windows, persistence", tm.statistics_s);
       row("guidance document built", tm.document_s);
       row(a->csv.empty() ? "written (JSON)" : "written (JSON and CSV)", write_s);
