@@ -1,5 +1,6 @@
 #include "isohypse/climatology.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <limits>
 
@@ -23,9 +24,23 @@ arma::rowvec Climatology::basis(const Date& d) const {
 }
 
 arma::fmat Climatology::evaluate(const std::vector<Date>& dates) const {
-  arma::mat B(dates.size(), coefficients.n_cols);
-  for (std::size_t t = 0; t < dates.size(); ++t) B.row(t) = basis(dates[t]);
-  return arma::conv_to<arma::fmat>::from(coefficients * B.t());
+  // A few terms per value: plain loops (a BLAS call here would be the
+  // process's first, paying OpenBLAS's start-up on the critical path).
+  const arma::uword np = coefficients.n_rows, nc = coefficients.n_cols;
+  arma::fmat out(np, dates.size(), arma::fill::none);
+  std::vector<double> acc(np);
+  for (std::size_t t = 0; t < dates.size(); ++t) {
+    const arma::rowvec b = basis(dates[t]);
+    std::fill(acc.begin(), acc.end(), 0.0);
+    for (arma::uword c = 0; c < nc; ++c) {  // column by column: contiguous, vectorised
+      const double* col = coefficients.colptr(c);
+      const double bc = b(c);
+      for (arma::uword p = 0; p < np; ++p) acc[p] += col[p] * bc;
+    }
+    float* o = out.colptr(t);
+    for (arma::uword p = 0; p < np; ++p) o[p] = static_cast<float>(acc[p]);
+  }
+  return out;
 }
 
 Climatology fit_climatology(const Field& h, const ClimatologyOptions& opt) {
