@@ -214,7 +214,7 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
     EnsembleReader::Work work;
     arma::fmat heights;
     RegimeLabeller labeller;
-    double read_s = 0, label_s = 0;
+    double read_s = 0, unpack_s = 0, label_s = 0;
   };
   std::vector<std::unique_ptr<Worker>> workers;  // owns every worker
   std::vector<Worker*> idle;
@@ -254,6 +254,9 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
         const std::size_t i = reader.slot(k).init;
         const Initialisation& in = *chosen[i];
         reader.finish(k, w->raw, w->work, w->heights);
+        w->unpack_s += seconds_since(t0);
+        t0 = Clock::now();
+
         arma::vec cor;
         MemberTrack& t = tracks[k];
         t.initialisation = in.id();
@@ -275,6 +278,7 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
     timings->threads = static_cast<int>(workers.size());
     for (const auto& w : workers) {
       timings->read_s += w->read_s;
+      timings->unpack_s += w->unpack_s;
       timings->label_s += w->label_s;
     }
   }

@@ -41,13 +41,15 @@ struct ClassifyConfig {
 
 // Where classify's time went, in seconds of wall time (for --timings and the
 // benchmark). Members are read and labelled on several threads at once, so
-// read_s and label_s are sums over the threads within members_wall_s.
+// read_s, unpack_s and label_s are sums over the threads within
+// members_wall_s.
 struct ClassifyTimings {
   double scan_s = 0;          // metadata of every forecast and reforecast file
   double reference_s = 0;     // climatology, or the model climate from reforecasts (read here)
   double read_s = 0;          // forecast members: netCDF-C reads (one thread at a time)
-  double label_s = 0;         // unpacking, daily means, regridding, anomalies, projection, labels
-  double members_wall_s = 0;  // the two above, on `threads` threads
+  double unpack_s = 0;        // ... unpacked to metres, daily means, regridded
+  double label_s = 0;         // anomalies, projection, labels (and --members detail)
+  double members_wall_s = 0;  // the three above, on `threads` threads
   int threads = 0;
   double statistics_s = 0;    // probabilities, windows, persistence, transitions, observed regime
   double document_s = 0;      // the JSON document

@@ -1,6 +1,7 @@
 // isohypse classify: lagged-ensemble forecasts in, regime guidance out.
 #include <unistd.h>
 
+#include <algorithm>
 #include <chrono>
 #include <cstdio>
 #include <iostream>
@@ -82,7 +83,7 @@ void add_classify(CLI::App& app) {
     if (a->timings) {
       const double write_s = since(t_write);
       char line[160];
-      std::cerr << "classify timings (s, wall clock):\n";
+      std::cerr << "classify timings (s; the member rows are summed over threads):\n";
       auto row = [&](const char* what, double s) {
         std::snprintf(line, sizeof line, "  %-58s %8.3f\n", what, s);
         std::cerr << line;
@@ -90,12 +91,18 @@ void add_classify(CLI::App& app) {
       row("regime model (read and SHA-256)", model_s);
       row("scan: metadata of every forecast and reforecast file", tm.scan_s);
       row("references: climatology or reforecast model climate", tm.reference_s);
-      row(("members, read and labelled on " + std::to_string(tm.threads) + " threads").c_str(), tm.members_wall_s);
-      row("  reading with netCDF-C (one thread at a time; summed)", tm.read_s);
-      row("  unpacking, anomalies, projection, labels (summed)", tm.label_s);
+      row(("members, on " + std::to_string(tm.threads) + " threads").c_str(), tm.members_wall_s);
+      row("  read with netCDF-C (one thread at a time)", tm.read_s);
+      row("  unpacked to metres, daily means, regridding", tm.unpack_s);
+      row("  anomalies, projection, nearest centroid", tm.label_s);
       row("statistics: probabilities, windows, persistence", tm.statistics_s);
       row("guidance document built", tm.document_s);
       row(a->csv.empty() ? "written (JSON)" : "written (JSON and CSV)", write_s);
+      const double files = model_s + tm.scan_s + tm.read_s + tm.unpack_s;
+      const double work = files + tm.reference_s + tm.label_s + tm.statistics_s + tm.document_s + write_s;
+      std::snprintf(line, sizeof line, "  reading files (model, scan, read, unpack): %.0f %% of the %.3f s of work\n",
+                    100.0 * files / std::max(work, 1e-9), work);
+      std::cerr << line;
       row("total", since(t_start));
     }
     if (!a->quiet) {
