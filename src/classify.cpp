@@ -256,7 +256,6 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
         reader.finish(k, w->raw, w->work, w->heights);
         w->unpack_s += seconds_since(t0);
         t0 = Clock::now();
-
         arma::vec cor;
         MemberTrack& t = tracks[k];
         t.initialisation = in.id();
