@@ -165,6 +165,16 @@ void write_regime_model(const RegimeModel& m, const std::string& path) {
   out.commit();
 }
 
+bool is_regime_model(const std::string& path) {
+  try {
+    nc::File f = nc::File::open(path);
+    auto version = f.num_att(NC_GLOBAL, "isohypse_format_version");
+    return version && !version->empty();
+  } catch (const std::exception&) {
+    return false;
+  }
+}
+
 RegimeModel read_regime_model(const std::string& path) {
   nc::File f = nc::File::open(path);
   RegimeModel m;

@@ -79,6 +79,9 @@ void write_regime_model(const RegimeModel& model, const std::string& path);
 // Reads and checks the format version (a different one is refused, naming
 // both). Throws InputError (missing) or DataError (not a regime model).
 RegimeModel read_regime_model(const std::string& path);
+// True when `path` opens as NetCDF and carries isohypse_format_version (of
+// any version): a regime model rather than a height file. Never throws.
+bool is_regime_model(const std::string& path);
 
 // Per day: the nearest centroid (squared distance in component space) and the
 // uncentred anomaly correlation with it; labels -1 where the correlation is

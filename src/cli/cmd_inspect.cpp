@@ -6,9 +6,11 @@
 
 #include "cli/commands.hpp"
 #include "isohypse/dataset.hpp"
+#include "isohypse/derive.hpp"
 #include "isohypse/error.hpp"
 #include "isohypse/inspect.hpp"
 #include "isohypse/reader.hpp"
+#include "isohypse/regime_model.hpp"
 
 namespace isohypse::cli {
 
@@ -20,7 +22,8 @@ void add_inspect(CLI::App& app) {
     bool json = false;
   };
   auto args = std::make_shared<Args>();
-  CLI::App* sub = app.add_subcommand("inspect", "Describe height files: variables, grid, levels, time, packing, gaps");
+  CLI::App* sub = app.add_subcommand(
+      "inspect", "Describe height files (variables, grid, levels, time, packing, gaps) or a regime model");
   sub->add_option("files", args->files, "Files or quoted globs (e.g. 'data/hgt500_*.nc')")->required();
   sub->add_option("--variable", args->variable, "Height variable to describe (default: found automatically)");
   sub->add_option("--level", args->level, "Pressure level in hPa")->capture_default_str();
@@ -31,6 +34,27 @@ void add_inspect(CLI::App& app) {
     int failures = 0;
     nlohmann::json last_failure;
     for (const std::string& p : paths) {
+      if (is_regime_model(p)) {  // the summary derive printed, with the model's identity
+        nlohmann::json j;
+        try {
+          RegimeModel m = read_regime_model(p);
+          j = model_summary(m);
+          j["kind"] = "regime model";
+          j["path"] = p;
+          j["sha256"] = m.sha256;
+          if (!args->json)
+            std::cout << p << ": isohypse regime model, format version " << m.format_version << ", SHA-256 "
+                      << m.sha256 << "\n"
+                      << summary_text(m) << "\n";
+        } catch (const Error& ex) {
+          j = {{"path", p}, {"kind", "regime model"}, {"error", ex.what()}, {"error_kind", "data"}};
+          ++failures;
+          last_failure = j;
+          if (!args->json && paths.size() > 1) std::cout << p << ": " << ex.what() << "\n\n";
+        }
+        if (args->json) all.push_back(j);
+        continue;
+      }
       nlohmann::json j = describe_file(p, args->variable, args->level);
       if (j.contains("error")) {
         ++failures;

@@ -15,6 +15,7 @@ with k chosen automatically, must
   - with k: auto, choose k = 4.
 The thresholds are the issue's."""
 import csv
+import hashlib
 import json
 import os
 import time
@@ -24,7 +25,7 @@ import netCDF4
 import numpy as np
 from scipy.optimize import linear_sum_assignment
 
-from common import BUILD, check, finish, run, scratch
+from common import BIN, BUILD, check, finish, run, scratch
 from derive_data import FAST, derive, write_config
 
 tmp = scratch()
@@ -113,4 +114,18 @@ for k_arg in ("4", "auto"):
     k = evaluate(out, f"--k {k_arg}")
     if k_arg == "auto":
         check(k == n_true, f"k: auto chooses {k} regimes; {n_true} were planted")
+
+# inspect on a regime model describes it; its SHA-256 equals Python's hashlib
+# (FIPS 180-4, the Secure Hash Standard), the identity guidance provenance cites.
+model = os.path.join(tmp, "model_k4.nc")
+if os.path.exists(model):
+    r = run([BIN, "inspect", model])
+    check(r.returncode == 0 and "isohypse regime model, format version 1" in r.stdout and "R4" in r.stdout,
+          "inspect describes a regime model: format, regimes")
+    r = run([BIN, "inspect", "--json", model])
+    j = json.loads(r.stdout) if r.returncode == 0 else {}
+    with open(model, "rb") as f:
+        digest = hashlib.sha256(f.read()).hexdigest()
+    check(j.get("kind") == "regime model" and j.get("k") == 4 and j.get("sha256") == digest,
+          f"inspect --json: kind, k = {j.get('k')} and the SHA-256 equal hashlib's ({digest[:12]}...)")
 finish()
