@@ -459,8 +459,12 @@ DomainSelection HeightDataset::select(const std::optional<Domain>& domain) const
 }
 
 arma::fmat HeightDataset::read(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member) const {
+  // A one-off read: its raw buffer goes with it (a reader may hold many
+  // files open; read_into keeps one per file for repeated reads).
+  RawBlock raw;
+  read_raw(sel, t0, count, member, raw);
   arma::fmat out;
-  read_into(sel, t0, count, member, out);
+  unpack(raw, out);
   return out;
 }
 

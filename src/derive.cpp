@@ -1,5 +1,6 @@
 #include "isohypse/derive.hpp"
 
+#include <malloc.h>
 #include <spdlog/spdlog.h>
 
 #include <algorithm>
@@ -166,6 +167,7 @@ RegimeModel derive_regimes(const DeriveConfig& cfg, const DeriveProgress& progre
     spdlog::warn("{} duplicate dates in the inputs (first kept), e.g. {}", rep.duplicates.size(),
                  to_string(rep.duplicates.front()));
   if (rep.missing_days) spdlog::info("{} days missing from the record in {} gaps", rep.missing_days, rep.gaps.size());
+  malloc_trim(0);  // the read buffers go back to the system (glibc keeps freed memory otherwise): a lower peak
   lap("read");
 
   // climatology and anomalies
@@ -179,6 +181,7 @@ RegimeModel derive_regimes(const DeriveConfig& cfg, const DeriveProgress& progre
                  100.0 * double(nan_count) / double(field.values.n_elem));
   }
   running_mean(field.values, field.dates, cfg.running_mean_days);
+  malloc_trim(0);  // and the climatology's work blocks
   lap("climatology");
 
   // season and weights

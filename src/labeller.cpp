@@ -1,5 +1,6 @@
 #include "isohypse/labeller.hpp"
 
+#include <algorithm>
 #include <string>
 
 #include "isohypse/climatology.hpp"
@@ -19,21 +20,28 @@ void RegimeLabeller::project(const arma::fmat& x, const arma::fmat* reference) {
     throw InputError("regime labels: the reference has " + std::to_string(reference->n_rows) + " x " +
                      std::to_string(reference->n_cols) + " values for " + std::to_string(np) + " x " +
                      std::to_string(n) + " fields");
-  // Anomaly and weight in float (as derive computes them), centred in double.
-  weighted_.set_size(np, n);
+  // Anomaly and weight in float (as derive computes them), centred in
+  // double, a block of days at a time: a long analysis record never gets a
+  // double copy of its own.
+  constexpr arma::uword kBlock = 256;
   const float* w = weights_.memptr();
   const double* mean = model_.eof_mean.memptr();
-  for (arma::uword t = 0; t < n; ++t) {
-    const float* xt = x.colptr(t);
-    double* b = weighted_.colptr(t);
-    if (reference) {
-      const float* r = reference->colptr(t);
-      for (arma::uword i = 0; i < np; ++i) b[i] = static_cast<double>((xt[i] - r[i]) * w[i]) - mean[i];
-    } else {
-      for (arma::uword i = 0; i < np; ++i) b[i] = static_cast<double>(xt[i] * w[i]) - mean[i];
+  pcs_.set_size(n, model_.eofs.n_cols);
+  for (arma::uword c0 = 0; c0 < n; c0 += kBlock) {
+    const arma::uword nb = std::min(kBlock, n - c0);
+    weighted_.set_size(np, nb);
+    for (arma::uword j = 0; j < nb; ++j) {
+      const float* xt = x.colptr(c0 + j);
+      double* b = weighted_.colptr(j);
+      if (reference) {
+        const float* r = reference->colptr(c0 + j);
+        for (arma::uword i = 0; i < np; ++i) b[i] = static_cast<double>((xt[i] - r[i]) * w[i]) - mean[i];
+      } else {
+        for (arma::uword i = 0; i < np; ++i) b[i] = static_cast<double>(xt[i] * w[i]) - mean[i];
+      }
     }
+    pcs_.rows(c0, c0 + nb - 1) = weighted_.t() * model_.eofs;
   }
-  pcs_ = weighted_.t() * model_.eofs;
   // A NaN or Inf anywhere in a day's field leaves a NaN or Inf in its
   // components: checking these few numbers spares a pass over the fields.
   if (!pcs_.is_finite())

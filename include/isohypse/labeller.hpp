@@ -44,7 +44,7 @@ private:
 
   const RegimeModel& model_;
   arma::fvec weights_;   // float, as the anomalies are multiplied in float
-  arma::mat weighted_;   // n_points x n_days: w x - m in double
+  arma::mat weighted_;   // n_points x (a block of) days: w x - m in double
   arma::mat pcs_;
   arma::vec cor_;
 };
