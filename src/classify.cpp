@@ -216,33 +216,13 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
     RegimeLabeller labeller;
     double read_s = 0, unpack_s = 0, label_s = 0;
   };
-  std::vector<std::unique_ptr<Worker>> workers;  // owns every worker
-  std::vector<Worker*> idle;
-  std::mutex netcdf, pool;
-  auto take_worker = [&]() -> Worker* {
-    std::lock_guard<std::mutex> lock(pool);
-    if (idle.empty()) {
-      workers.push_back(std::make_unique<Worker>(model));
-      return workers.back().get();
-    }
-    Worker* w = idle.back();
-    idle.pop_back();
-    return w;
-  };
-  auto give_back = [&](Worker* w) {
-    std::lock_guard<std::mutex> lock(pool);
-    idle.push_back(w);
-  };
+  detail::StatePool<Worker> workers([&] { return std::make_unique<Worker>(model); });
+  std::mutex netcdf;
   report("classify", 0, static_cast<int>(n_members));
   detail::parallel_for(
       n_members, cfg.threads,
       [&](std::size_t k) {
-        Worker* w = take_worker();
-        struct Return {  // hands the worker back on every exit
-          decltype(give_back)& f;
-          Worker* w;
-          ~Return() { f(w); }
-        } back{give_back, w};
+        const auto w = workers.lease();
         Clock::time_point t0;
         {
           std::lock_guard<std::mutex> lock(netcdf);
@@ -274,8 +254,8 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
       },
       [&](std::size_t done, std::size_t n) { report("classify", static_cast<int>(done), static_cast<int>(n)); });
   if (timings) {
-    timings->threads = static_cast<int>(workers.size());
-    for (const auto& w : workers) {
+    timings->threads = static_cast<int>(workers.all().size());
+    for (const auto& w : workers.all()) {
       timings->read_s += w->read_s;
       timings->unpack_s += w->unpack_s;
       timings->label_s += w->label_s;

@@ -9,6 +9,7 @@
 #include <cstddef>
 #include <exception>
 #include <functional>
+#include <memory>
 #include <mutex>
 #include <thread>
 #include <vector>
@@ -91,5 +92,51 @@ void parallel_for(std::size_t n, int threads, Task&& task,
   for (auto& t : pool) t.join();
   if (error) std::rethrow_exception(error);
 }
+
+// Per-thread state for parallel_for's tasks (buffers to reuse): lease()
+// hands a task a state no other running task holds, made on first need, so
+// there are at most as many as tasks ever ran at once; the lease gives it
+// back when it ends, whatever way the task leaves.
+template <class State>
+class StatePool {
+public:
+  explicit StatePool(std::function<std::unique_ptr<State>()> make) : make_(std::move(make)) {}
+
+  class Lease {
+  public:
+    Lease(StatePool& pool, State* s) : pool_(pool), state_(s) {}
+    Lease(const Lease&) = delete;
+    Lease& operator=(const Lease&) = delete;
+    ~Lease() {
+      std::lock_guard<std::mutex> lock(pool_.m_);
+      pool_.idle_.push_back(state_);
+    }
+    State& operator*() const { return *state_; }
+    State* operator->() const { return state_; }
+
+  private:
+    StatePool& pool_;
+    State* state_;
+  };
+
+  Lease lease() {
+    std::lock_guard<std::mutex> lock(m_);
+    if (idle_.empty()) {
+      all_.push_back(make_());
+      return Lease(*this, all_.back().get());
+    }
+    State* s = idle_.back();
+    idle_.pop_back();
+    return Lease(*this, s);
+  }
+  // Every state made (call when no task runs).
+  const std::vector<std::unique_ptr<State>>& all() const { return all_; }
+
+private:
+  std::function<std::unique_ptr<State>()> make_;
+  std::mutex m_;
+  std::vector<std::unique_ptr<State>> all_;
+  std::vector<State*> idle_;
+};
 
 }  // namespace isohypse::detail
