@@ -62,36 +62,57 @@ Climatology fit_climatology(const Field& h, const ClimatologyOptions& opt) {
   c.coefficients.set_size(np, ncoef);
   const arma::mat BtB_inv = arma::inv_sympd(B.t() * B);
 
-  // Points without missing values share one solve; others get their own.
-  const arma::uword block = 1024;
+  // Y B (points x coefficients) in double straight from the float record, a
+  // block of points at a time so that the block's sums stay in cache: no
+  // double copy of the record. A point with a missing day gets NaN sums and
+  // its own solve below.
+  arma::mat YB(np, ncoef, arma::fill::zeros);
+  const arma::uword block = 256;
   for (arma::uword p0 = 0; p0 < np; p0 += block) {
-    arma::uword p1 = std::min(np, p0 + block) - 1;
-    arma::mat Y = arma::conv_to<arma::mat>::from(h.values.rows(p0, p1));  // points x time
-    arma::mat coef = (Y * B) * BtB_inv;  // BtB_inv is symmetric
-    for (arma::uword i = 0; i <= p1 - p0; ++i) {
-      if (Y.row(i).is_finite()) continue;
-      arma::uvec ok = arma::find_finite(Y.row(i));
-      if (ok.n_elem < 2 * ncoef)
-        throw NumericalError("grid point " + std::to_string(p0 + i) + " (lat " +
-                             std::to_string(h.grid.lat((p0 + i) / h.grid.n_lon())) + ", lon " +
-                             std::to_string(h.grid.lon((p0 + i) % h.grid.n_lon())) + ") has only " +
-                             std::to_string(ok.n_elem) + " valid days");
-      arma::mat Bi = B.rows(ok);
-      arma::rowvec y = Y.row(i);
-      coef.row(i) = arma::solve(Bi, arma::vec(y.cols(ok).t())).t();
+    const arma::uword nb = std::min(block, np - p0);
+    for (arma::uword t = 0; t < nt; ++t) {
+      const float* x = h.values.colptr(t) + p0;
+      for (arma::uword k = 0; k < ncoef; ++k) {
+        const double b = B(t, k);
+        double* acc = YB.colptr(k) + p0;
+        for (arma::uword i = 0; i < nb; ++i) acc[i] += static_cast<double>(x[i]) * b;
+      }
     }
-    c.coefficients.rows(p0, p1) = coef;
+  }
+  c.coefficients = YB * BtB_inv;  // BtB_inv is symmetric
+  for (arma::uword p = 0; p < np; ++p) {
+    if (YB.row(p).is_finite()) continue;
+    const arma::rowvec y = arma::conv_to<arma::rowvec>::from(h.values.row(p));
+    arma::uvec ok = arma::find_finite(y);
+    if (ok.n_elem < 2 * ncoef)
+      throw NumericalError("grid point " + std::to_string(p) + " (lat " +
+                           std::to_string(h.grid.lat(p / h.grid.n_lon())) + ", lon " +
+                           std::to_string(h.grid.lon(p % h.grid.n_lon())) + ") has only " +
+                           std::to_string(ok.n_elem) + " valid days");
+    arma::mat Bi = B.rows(ok);
+    c.coefficients.row(p) = arma::solve(Bi, arma::vec(y.cols(ok).t())).t();
   }
   if (opt.detrend) c.coefficients.col(ncoef - 1) /= 3652.5;
   return c;
 }
 
 void subtract_climatology(Field& h, const Climatology& clim) {
-  const arma::uword chunk = 512;
-  for (arma::uword t0 = 0; t0 < h.n_times(); t0 += chunk) {
-    arma::uword t1 = std::min<arma::uword>(h.n_times(), t0 + chunk);
-    std::vector<Date> dates(h.dates.begin() + t0, h.dates.begin() + t1);
-    h.values.cols(t0, t1 - 1) -= clim.evaluate(dates);
+  // Day by day into one reused column (no climatology field the size of the record).
+  const arma::uword np = clim.coefficients.n_rows, nc = clim.coefficients.n_cols;
+  if (np != h.n_points())
+    throw InputError("climatology of " + std::to_string(np) + " points for a field of " +
+                     std::to_string(h.n_points()));
+  std::vector<double> acc(np);
+  for (arma::uword t = 0; t < h.n_times(); ++t) {
+    const arma::rowvec b = clim.basis(h.dates[t]);
+    std::fill(acc.begin(), acc.end(), 0.0);
+    for (arma::uword k = 0; k < nc; ++k) {
+      const double* col = clim.coefficients.colptr(k);
+      const double bk = b(k);
+      for (arma::uword p = 0; p < np; ++p) acc[p] += col[p] * bk;
+    }
+    float* v = h.values.colptr(t);
+    for (arma::uword p = 0; p < np; ++p) v[p] -= static_cast<float>(acc[p]);
   }
   h.units = "m (anomaly)";
 }

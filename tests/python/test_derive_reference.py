@@ -135,6 +135,34 @@ check(len(inputs) == 1 and inputs[0].get("path") == os.path.abspath(src)
       and inputs[0].get("bytes") == os.path.getsize(src),
       f"provenance lists the input with its size ({inputs})")
 
+# ---------------------------------------------------------------- 5. a point with missing days
+# Its climatology is the least-squares fit over its valid days alone (numpy.linalg.lstsq);
+# the other points keep the fit over every day.
+holed = heights.copy()
+pi, pj = 2, 5                                     # file row 2 (60N), column 5 (150E)
+holed[100:140, pi, pj] = np.nan
+holed[700:705, pi, pj] = np.nan
+src_holed = os.path.join(tmp, "hgt500_holed.nc")
+write_heights(src_holed, holed, lat, lon, first, fill_value=-9999.0)
+out_holed = os.path.join(tmp, "model_holed.nc")
+r = derive("--out", out_holed, "--config", cfg, "--input", src_holed, "--k", "2", "--seed", str(SEED))
+check(r.returncode == 0 and "missing values" in r.stdout + r.stderr,
+      "derive accepts a record with 45 missing days at one point and says so" + (f": {r.stderr.strip()[-300:]}" if r.returncode else ""))
+if r.returncode == 0:
+    with netCDF4.Dataset(out_holed) as m:
+        C2 = np.asarray(m["climatology_coefficient"][:], dtype=np.float64).reshape(coef.shape[0], -1)
+    with netCDF4.Dataset(src_holed) as ds:
+        h2 = np.ma.filled(ds["hgt"][:].astype(np.float64), np.nan)[:, ::-1, :].reshape(n_days, -1)
+    p = (len(lat) - 1 - pi) * len(lon) + pj          # the model's point index (latitudes ascending)
+    ok = np.isfinite(h2[:, p])
+    want = np.linalg.lstsq(B[ok], h2[ok, p], rcond=None)[0]
+    d_hole = np.abs(C2[:, p] - want).max()
+    check(ok.sum() == n_days - 45 and d_hole < 1e-3,
+          f"the holed point's coefficients equal lstsq over its {ok.sum()} valid days (max diff {d_hole:.2e} m)")
+    others = np.delete(np.arange(h2.shape[1]), p)
+    d_rest = np.abs(C2[:, others] - np.linalg.lstsq(B, h2[:, others], rcond=None)[0]).max()
+    check(d_rest < 1e-3, f"the other points' coefficients are the full fit (max diff {d_rest:.2e} m)")
+
 # ---------------------------------------------------------------- 2. real data
 HGT = "/usr/share/ncarg/data/cdf/hgt.nc"
 if not os.path.exists(HGT):
