@@ -10,6 +10,7 @@
 #include <map>
 #include <memory>
 #include <mutex>
+#include <set>
 #include <sstream>
 
 #include "isohypse/atomic_file.hpp"
@@ -152,37 +153,78 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
                        std::to_string(chosen.back()->native_grid.n_lon()) + ")");
   }
   lap(timings ? &timings->scan_s : nullptr);
-  ModelClimateCache cache;
-  auto model_climate = [&](const Initialisation& in) -> const arma::fmat& {
+  // Reforecast initialisations within the window of days of the year of `in`.
+  auto near_reforecasts = [&](const Initialisation& in) {
     std::vector<const Initialisation*> near;
-    std::string key;
     for (const auto& r : refc)
-      if (circular_day_distance(r.init, in.init) <= cfg.reforecast_window_days && r.n_leads >= in.n_leads) {
+      if (circular_day_distance(r.init, in.init) <= cfg.reforecast_window_days && r.n_leads >= in.n_leads)
         near.push_back(&r);
-        key += r.id() + ";";
-      }
     if (near.empty())
       throw InputError("no reforecast initialised within " + std::to_string(cfg.reforecast_window_days) +
                        " days of the year of " + in.id() + " with at least " + std::to_string(in.n_leads) +
                        " lead days (reforecasts run from " + refc.front().id() + " to " + refc.back().id() + ")");
+    return near;
+  };
+  std::mutex netcdf;  // netCDF-C is not thread-safe: every read holds this
+  ModelClimateCache cache;
+  if (!refc.empty()) {
+    // The member sum of every reforecast initialisation some chosen one
+    // needs, each read once. Threads share the initialisations (reads under
+    // the lock); each sums its members in order, so the result does not
+    // depend on the threads.
+    std::set<const Initialisation*> wanted;
+    for (const auto* in : chosen)
+      for (const auto* r : near_reforecasts(*in)) wanted.insert(r);
+    std::vector<const Initialisation*> needed;
+    for (const auto& r : refc)
+      if (wanted.count(&r)) needed.push_back(&r);
+    EnsembleReader reader(needed, regrid, cfg.variable);
+    std::vector<std::size_t> first_slot(needed.size() + 1, reader.size());
+    for (std::size_t k = reader.size(); k-- > 0;) first_slot[reader.slot(k).init] = k;
+    struct Buffers {
+      RawBlock raw;
+      EnsembleReader::Work work;
+      arma::fmat heights;
+    };
+    detail::StatePool<Buffers> buffers([] { return std::make_unique<Buffers>(); });
+    std::vector<ModelClimateCache::Sum> sums(needed.size());
+    report("reforecasts", 0, static_cast<int>(needed.size()));
+    detail::parallel_for(
+        needed.size(), cfg.threads,
+        [&](std::size_t u) {
+          const auto b = buffers.lease();
+          ModelClimateCache::Sum& s = sums[u];
+          for (std::size_t k = first_slot[u]; k < reader.size() && reader.slot(k).init == u; ++k) {
+            {
+              std::lock_guard<std::mutex> lock(netcdf);
+              reader.read(k, b->raw);
+            }
+            reader.finish(k, b->raw, b->work, b->heights);
+            if (s.total.is_empty()) s.total.zeros(b->heights.n_rows, b->heights.n_cols);
+            s.total += b->heights;
+            ++s.members;
+          }
+        },
+        [&](std::size_t done, std::size_t n) { report("reforecasts", static_cast<int>(done), static_cast<int>(n)); });
+    for (std::size_t u = 0; u < needed.size(); ++u) {
+      for (const auto& f : needed[u]->files) cache.files_used.push_back(f);
+      cache.per_init.emplace(needed[u]->id(), std::move(sums[u]));
+    }
+  }
+  // The model climate of `in`: the mean of the near reforecasts' members by
+  // lead, smoothed in lead.
+  auto model_climate = [&](const Initialisation& in) -> const arma::fmat& {
+    std::string key;
+    std::vector<const Initialisation*> near = near_reforecasts(in);
+    for (const auto* r : near) key += r->id() + ";";
     auto it = cache.by_key.find(key);
     if (it != cache.by_key.end()) return it->second;
     arma::fmat sum(model.grid.n_points(), in.n_leads, arma::fill::zeros);
     std::size_t n = 0;
     for (const auto* r : near) {
-      auto found = cache.per_init.find(r->id());
-      if (found == cache.per_init.end()) {
-        ModelClimateCache::Sum s;
-        for_each_member(*r, regrid, cfg.variable, [&](std::size_t, arma::fmat& m) {
-          if (s.total.is_empty()) s.total.zeros(m.n_rows, m.n_cols);
-          s.total += m;
-          ++s.members;
-        });
-        for (const auto& f : r->files) cache.files_used.push_back(f);
-        found = cache.per_init.emplace(r->id(), std::move(s)).first;
-      }
-      sum += found->second.total.cols(0, in.n_leads - 1);
-      n += found->second.members;
+      const ModelClimateCache::Sum& s = cache.per_init.at(r->id());
+      sum += s.total.cols(0, in.n_leads - 1);
+      n += s.members;
     }
     sum /= static_cast<float>(n);
     std::vector<Date> leads;  // consecutive days: a plain centred running mean in lead
@@ -217,7 +259,6 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
     double read_s = 0, unpack_s = 0, label_s = 0;
   };
   detail::StatePool<Worker> workers([&] { return std::make_unique<Worker>(model); });
-  std::mutex netcdf;
   report("classify", 0, static_cast<int>(n_members));
   detail::parallel_for(
       n_members, cfg.threads,

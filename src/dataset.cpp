@@ -8,6 +8,7 @@
 #include <sstream>
 
 #include "isohypse/error.hpp"
+#include "hdf5_chunks.hpp"
 #include "netcdf_file.hpp"
 
 namespace isohypse {
@@ -145,6 +146,9 @@ struct HeightDataset::Impl {
   std::vector<Role> roles;  // per dimension of var
   bool lat_before_lon = true;
   mutable RawBlock scratch;  // the raw hyperslab, reused by every read (no fresh pages each time)
+  // Compressed NetCDF-4 variables: their chunks read directly (see hdf5_chunks.hpp).
+  mutable std::unique_ptr<detail::ChunkReader> chunks;
+  mutable bool chunks_tried = false;
 
   explicit Impl(nc::File f) : file(std::move(f)) {}
 
@@ -490,6 +494,7 @@ void HeightDataset::read_raw(const DomainSelection& sel, std::size_t t0, std::si
   raw.lat_descending = info.lat_descending();
   raw.packing = info.packing;
   raw.to_metres = info.to_metres;
+  raw.path = info.path;
   raw.boxes.clear();
 
   // What to ask netCDF-C for: each longitude run's box, or, when the domain
@@ -532,10 +537,12 @@ void HeightDataset::read_raw(const DomainSelection& sel, std::size_t t0, std::si
         case Role::Other: start.push_back(0); cnt.push_back(1); break;
       }
     }
-    im.file.read(im.var.id, start, cnt, raw.values.data() + offset);
+    inflates_chunks();  // opens the chunk reader at the first read
+    RawBlock::Box box;
+    box.inflated = !(im.chunks && im.chunks->read(start, cnt, box.stored));
+    if (box.inflated) im.file.read(im.var.id, start, cnt, raw.values.data() + offset);
     // In the buffer the time index is slowest (time precedes lat/lon in every
     // layout isohypse accepts except a trailing time, handled by strides).
-    RawBlock::Box box;
     box.offset = offset;
     box.lat_skip = sel.lat_start - w.lat0;
     box.runs = w.runs;
@@ -551,7 +558,12 @@ void HeightDataset::read_raw(const DomainSelection& sel, std::size_t t0, std::si
   }
 }
 
-std::size_t unpack(const RawBlock& raw, arma::fmat& out) {
+std::size_t unpack(RawBlock& raw, arma::fmat& out) {
+  for (RawBlock::Box& box : raw.boxes)
+    if (!box.inflated) {  // compressed chunks: inflated here, on the caller's thread
+      inflate_chunks(box.stored, raw.values.data() + box.offset, raw.path);
+      box.inflated = true;
+    }
   const std::size_t nlat = raw.nlat, nlon_out = raw.nlon_out, count = raw.count;
   out.set_size(nlat * nlon_out, count);  // every element is written below
   std::size_t n_missing = 0;
@@ -602,6 +614,19 @@ std::size_t unpack(const RawBlock& raw, arma::fmat& out) {
         }
       }
   return n_missing;
+}
+
+bool HeightDataset::inflates_chunks() const {
+  const Impl& im = *impl_;
+  if (!im.chunks_tried) {
+    im.chunks_tried = true;
+    if (im.info.format.rfind("NetCDF-4", 0) == 0) {
+      std::vector<std::size_t> lengths;
+      for (int d : im.var.dims) lengths.push_back(im.file.dim(d).length);
+      im.chunks = detail::ChunkReader::open(im.info.path, im.var.name, lengths);
+    }
+  }
+  return im.chunks != nullptr;
 }
 
 std::size_t HeightDataset::count_missing() const {

@@ -265,7 +265,7 @@ void EnsembleReader::read(std::size_t k, RawBlock& raw) {
   if (--reads_left_[path] == 0) open_.erase(it);  // the file's last member: close it
 }
 
-void EnsembleReader::finish(std::size_t k, const RawBlock& raw, Work& work, arma::fmat& heights) const {
+void EnsembleReader::finish(std::size_t k, RawBlock& raw, Work& work, arma::fmat& heights) const {
   const Slot& s = slots_.at(k);
   const Initialisation& in = *inits_[s.init];
   const bool one_per_day = one_step_per_day_[s.init] && raw.count == static_cast<std::size_t>(in.n_leads);

@@ -106,6 +106,7 @@ nlohmann::json describe_file(const std::string& path, const std::string& variabl
     if (pk.valid_min) j["packing"]["valid_min"] = *pk.valid_min;
     if (pk.valid_max) j["packing"]["valid_max"] = *pk.valid_max;
     j["missing_values"] = ds.count_missing();
+    j["chunks_inflated_by_isohypse"] = ds.inflates_chunks();
   } catch (const Error& e) {
     j["error"] = e.what();
     j["error_kind"] = dynamic_cast<const InputError*>(&e) ? "input" : "data";
@@ -177,6 +178,8 @@ std::string describe_text(const nlohmann::json& j) {
   o << "; missing codes";
   for (const auto& m : pk["missing_codes"]) o << " " << m.get<double>();
   o << "; " << j["missing_values"] << " missing values in " << j["variable"].get<std::string>() << "\n";
+  if (j.value("chunks_inflated_by_isohypse", false))
+    o << "  storage     compressed chunks, read directly and inflated by isohypse on every core\n";
   return o.str();
 }
 

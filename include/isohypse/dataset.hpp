@@ -101,13 +101,41 @@ struct DomainSelection {
 // one thread at a time); unpack() turns it into metres on the domain's grid
 // without netCDF-C, on any thread. The buffer keeps its memory from read to
 // read.
+// A hyperslab's compressed chunks as the file stores them (filled by the
+// HDF5 chunk reader, inflated by inflate_chunks on any thread).
+struct StoredChunks {
+  struct Layout {
+    std::vector<std::size_t> chunk;   // chunk lengths per dimension
+    std::vector<int> filters;         // the pipeline in write order: 1 deflate, 2 shuffle
+    std::size_t type_size = 4;        // bytes per value
+    int type = 0;                     // 0 float32, 1 float64, 2 int16
+  };
+  struct Chunk {
+    std::vector<std::size_t> offset;  // of the chunk's first value, per dimension
+    unsigned filter_mask = 0;         // bit i set: filter i was not applied to this chunk
+    std::vector<unsigned char> bytes;
+  };
+  Layout layout;
+  std::vector<std::size_t> start, count;  // the hyperslab
+  std::vector<Chunk> chunks;
+};
+
+// The hyperslab's values as floats (the stored numbers, not yet unpacked),
+// row-major over `count` like nc_get_vara_float, into out (product of count
+// values). Throws DataError naming `path` when a chunk does not inflate to
+// its size.
+void inflate_chunks(const StoredChunks& stored, float* out, const std::string& path);
+
 struct RawBlock {
   struct Box {
     std::size_t offset = 0;    // into values
     std::size_t lat_skip = 0;  // the domain's first latitude row within the box
     std::size_t s_time = 1, s_lat = 1, s_lon = 1;  // strides in values
     std::vector<DomainSelection::Run> runs;        // longitude starts relative to the box
+    StoredChunks stored;                           // compressed: inflated into values by unpack()
+    bool inflated = true;
   };
+  std::string path;  // for messages
   std::vector<float> values;
   std::vector<Box> boxes;
   std::size_t nlat = 0, nlon_out = 0, count = 0;
@@ -116,10 +144,10 @@ struct RawBlock {
   double to_metres = 1.0;
 };
 
-// Heights in metres (n_points x count, NaN where missing) from a raw block;
-// returns how many values were missing. `out` keeps its memory when its
-// size holds.
-std::size_t unpack(const RawBlock& raw, arma::fmat& out);
+// Heights in metres (n_points x count, NaN where missing) from a raw block,
+// inflating its compressed chunks first; returns how many values were
+// missing. `out` keeps its memory when its size holds.
+std::size_t unpack(RawBlock& raw, arma::fmat& out);
 
 class HeightDataset {
 public:
@@ -152,6 +180,11 @@ public:
   // The first half of read_into: the stored values, to unpack() elsewhere.
   void read_raw(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
                 RawBlock& raw) const;
+
+  // True when the variable's compressed chunks are read directly with HDF5
+  // and inflated by unpack() (on the caller's thread) rather than inside
+  // netCDF-C: zlib with or without shuffle, float32/float64/int16.
+  bool inflates_chunks() const;
 
   // Number of values equal to a fill/missing/out-of-range code in the chosen
   // variable at the chosen level over the whole grid and all steps.

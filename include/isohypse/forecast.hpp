@@ -101,9 +101,10 @@ public:
   const Slot& slot(std::size_t k) const { return slots_[k]; }
 
   void read(std::size_t k, RawBlock& raw);
-  // heights: n_target_points x n_leads (lead 0 first). Throws DataError
+  // heights: n_target_points x n_leads (lead 0 first); compressed chunks in
+  // `raw` are inflated here (see unpack). Throws DataError
   // naming the file, the member and the lead day when a value is missing.
-  void finish(std::size_t k, const RawBlock& raw, Work& work, arma::fmat& heights) const;
+  void finish(std::size_t k, RawBlock& raw, Work& work, arma::fmat& heights) const;
 
 private:
   struct OpenFile;

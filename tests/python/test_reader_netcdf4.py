@@ -189,6 +189,69 @@ for member in range(3):
 j = json.loads(run([BIN, "inspect", "--json", p3]).stdout)
 check(j["missing_values"] == 6, f"inspect counts the 6 missing values of every kind ({j['missing_values']})")
 
+# 3c. Compressed NetCDF-4 (zlib, with and without shuffle), whose chunks isohypse reads
+#     directly with HDF5 and inflates itself (src/hdf5_chunks.cpp): float32, float64 and
+#     packed int16, chunks that do not divide the grid, a domain across the dateline that cuts
+#     chunks, a never-written chunk and fletcher32 (both left to netCDF-C). Every value must
+#     equal netCDF4-python's (Unidata netCDF4-python, masked and scaled read).
+def compressed_case(name, dtype, shuffle, fletcher32=False, unwritten=False):
+    path = os.path.join(tmp, name)
+    nm, nt, nla, nlo = 3, 5, 37, 72
+    with netCDF4.Dataset(path, "w", format="NETCDF4") as ds:
+        ds.createDimension("number", nm)
+        ds.createDimension("time", nt)
+        ds.createDimension("lat", nla)
+        ds.createDimension("lon", nlo)
+        nb = ds.createVariable("number", "i4", ("number",)); nb[:] = np.arange(nm)
+        t = ds.createVariable("time", "f8", ("time",)); t.units = "days since 2024-12-30"; t[:] = np.arange(nt)
+        la = ds.createVariable("lat", "f4", ("lat",)); la.units = "degrees_north"; la[:] = np.linspace(90, -90, nla)
+        lo = ds.createVariable("lon", "f4", ("lon",)); lo.units = "degrees_east"; lo[:] = np.arange(0, 360, 5.0)
+        fill = {"i2": np.int16(-32767), "f4": np.float32(1e20), "f8": 1e20}[dtype]
+        z = ds.createVariable("z", dtype, ("number", "time", "lat", "lon"), zlib=True, complevel=4, shuffle=shuffle,
+                              fletcher32=fletcher32, chunksizes=(1, 2, 10, 14), fill_value=fill)
+        z.standard_name = "geopotential"
+        z.units = "m2 s-2"
+        if dtype == "i2":
+            z.scale_factor = 0.9
+            z.add_offset = 52000.0
+        vals = (5500 + 200 * np.cos(np.deg2rad(la[:]))[None, None, :, None]
+                + rng.normal(0, 50, (nm, nt, nla, nlo))) * G0
+        if unwritten:                    # member 1 never writes the chunk [0:2, 0:10, 42:56] (80-45N, 210-275E)
+            for m in (0, 2):
+                z[m] = vals[m]
+            z[1, 2:] = vals[1, 2:]
+            z[1, 0:2, 10:] = vals[1, 0:2, 10:]
+            z[1, 0:2, 0:10, 0:42] = vals[1, 0:2, 0:10, 0:42]
+            z[1, 0:2, 0:10, 56:] = vals[1, 0:2, 0:10, 56:]
+        else:
+            z[:] = vals
+        if dtype == "i2":                # a fill value inside a compressed chunk
+            z.set_auto_maskandscale(False)
+            z[1, 3, 8, 40] = -32767
+            z.set_auto_maskandscale(True)
+    with netCDF4.Dataset(path) as ds:
+        masked = np.ma.filled(ds["z"][:].astype(np.float64), np.nan) / G0
+        flat, flon = np.asarray(ds["lat"][:], float), np.asarray(ds["lon"][:], float)
+    li = np.where((flat >= 20 - 1e-6) & (flat <= 80 + 1e-6))[0][::-1]
+    off = np.mod(flon - 170.0, 360.0)
+    lj = np.where(off <= 150 + 1e-6)[0]
+    lj = lj[np.argsort(off[lj])]
+    for m in range(nm):
+        got = tool("read_tool", "--member", str(m), "--domain", "20,80,170,-40", path)
+        exp = masked[m][:, li][:, :, lj]
+        compare(got, exp, flat[li], 170.0 + off[lj], f"compressed {name}, member {m}", tol=2e-3)
+    return json.loads(run([BIN, "inspect", "--json", path]).stdout).get("chunks_inflated_by_isohypse")
+
+
+direct = [compressed_case("zlib_f4.nc", "f4", shuffle=False),
+          compressed_case("zlib_shuffle_f4.nc", "f4", shuffle=True),
+          compressed_case("zlib_shuffle_f8.nc", "f8", shuffle=True),
+          compressed_case("zlib_shuffle_i2.nc", "i2", shuffle=True),
+          compressed_case("zlib_unwritten.nc", "f4", shuffle=False, unwritten=True)]
+check(direct == [True] * 5, f"zlib chunks are read directly and inflated by isohypse ({direct})")
+check(compressed_case("zlib_fletcher32.nc", "f4", shuffle=True, fletcher32=True) is False,
+      "a fletcher32 checksum leaves the reading to netCDF-C")
+
 # 4. Real data that a Debian package ships: hgt.nc of libncarg-data.
 HGT = "/usr/share/ncarg/data/cdf/hgt.nc"
 if os.path.exists(HGT):
