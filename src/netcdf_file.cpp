@@ -42,6 +42,8 @@ File File::open(const std::string& path) {
     std::string why = nc_strerror(status);
     if (status == NC_ENOTNC)
       why = "not a NetCDF or HDF5 file (or the file is truncated or damaged)";
+    else if (status == NC_EHDFERR)
+      why += ": the HDF5 layer cannot read it (a NetCDF-4 file that is truncated or damaged)";
     throw DataError(path + ": cannot open: " + why);
   }
   File f(ncid, path);

@@ -296,6 +296,22 @@ data = open(p1, "rb").read()
 open(trunc4, "wb").write(data[: len(data) // 2])
 r = run([os.path.dirname(BIN) + "/tools/read_tool", trunc4])
 check(r.returncode != 0 and trunc4 in r.stderr, f"a truncated NetCDF-4 file is refused naming it: {r.stderr.strip()[:150]}")
+# A compressed NetCDF-4 file cut short, and one with damaged chunk bytes (isohypse inflates those itself).
+ztrunc = os.path.join(tmp, "zlib_truncated.nc")
+data = open(os.path.join(tmp, "zlib_shuffle_f4.nc"), "rb").read()
+open(ztrunc, "wb").write(data[: len(data) // 2])
+refused(["inspect", ztrunc], 3, [ztrunc, "truncated or damaged"], "a truncated compressed NetCDF-4 file")
+zbad = os.path.join(tmp, "zlib_damaged.nc")
+damaged = bytearray(open(os.path.join(tmp, "zlib_f4.nc"), "rb").read())
+for i in range(len(damaged) // 2, len(damaged) // 2 + 4000):
+    damaged[i] ^= 0x5A
+open(zbad, "wb").write(bytes(damaged))
+r = run([os.path.dirname(BIN) + "/tools/read_tool", "--member", "0", zbad])
+r1 = run([os.path.dirname(BIN) + "/tools/read_tool", "--member", "1", zbad])
+r2 = run([os.path.dirname(BIN) + "/tools/read_tool", "--member", "2", zbad])
+bad = [x for x in (r, r1, r2) if x.returncode != 0]
+check(len(bad) >= 1 and all(zbad in x.stderr and ("damaged" in x.stderr or "HDF" in x.stderr) for x in bad),
+      f"damaged compressed chunks are refused naming the file: {bad[0].stderr.strip()[:150] if bad else 'no member failed'}")
 nohgt = os.path.join(tmp, "temperature.nc")
 with netCDF4.Dataset(nohgt, "w") as ds:
     ds.createDimension("time", 1); ds.createDimension("lat", 2); ds.createDimension("lon", 2)
