@@ -145,7 +145,6 @@ struct HeightDataset::Impl {
   nc::Var var;
   std::vector<Role> roles;  // per dimension of var
   bool lat_before_lon = true;
-  mutable RawBlock scratch;  // the raw hyperslab, reused by every read (no fresh pages each time)
   // Compressed NetCDF-4 variables: their chunks read directly (see hdf5_chunks.hpp).
   mutable std::unique_ptr<detail::ChunkReader> chunks;
   mutable bool chunks_tried = false;
@@ -463,19 +462,11 @@ DomainSelection HeightDataset::select(const std::optional<Domain>& domain) const
 }
 
 arma::fmat HeightDataset::read(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member) const {
-  // A one-off read: its raw buffer goes with it (a reader may hold many
-  // files open; read_into keeps one per file for repeated reads).
-  RawBlock raw;
+  RawBlock raw;  // goes with the read: a reader may hold many files open
   read_raw(sel, t0, count, member, raw);
   arma::fmat out;
   unpack(raw, out);
   return out;
-}
-
-std::size_t HeightDataset::read_into(const DomainSelection& sel, std::size_t t0, std::size_t count,
-                                     std::size_t member, arma::fmat& out) const {
-  read_raw(sel, t0, count, member, impl_->scratch);
-  return unpack(impl_->scratch, out);
 }
 
 void HeightDataset::read_raw(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
@@ -632,12 +623,14 @@ bool HeightDataset::inflates_chunks() const {
 std::size_t HeightDataset::count_missing() const {
   DomainSelection all = select(std::nullopt);
   std::size_t n = 0;
+  RawBlock raw;  // both buffers serve every chunk
   arma::fmat v;
   const std::size_t nt = impl_->info.times.size();
   const std::size_t chunk = std::max<std::size_t>(1, (1u << 22) / std::max<arma::uword>(1, all.grid.n_points()));
   for (std::size_t m = 0; m < impl_->info.members; ++m)
     for (std::size_t t = 0; t < nt; t += chunk) {
-      n += read_into(all, t, std::min(chunk, nt - t), m, v);
+      read_raw(all, t, std::min(chunk, nt - t), m, raw);
+      n += unpack(raw, v);
     }
   return n;
 }

@@ -171,13 +171,9 @@ public:
   // Heights in metres, n_points x count, for time steps [t0, t0+count) of
   // member `member`: NaN where missing.
   arma::fmat read(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member = 0) const;
-  // The same into `out` (resized; its memory is reused when the size is
-  // unchanged, which saves fresh pages on repeated reads, and so is the raw
-  // buffer, kept by the dataset until it closes). Returns how many values
-  // were missing (now NaN).
-  std::size_t read_into(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
-                        arma::fmat& out) const;
-  // The first half of read_into: the stored values, to unpack() elsewhere.
+  // The same in two steps, for repeated reads into the same buffers: the
+  // stored values (netCDF-C or HDF5: one thread at a time), then unpack()
+  // on any thread.
   void read_raw(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
                 RawBlock& raw) const;
 
