@@ -23,22 +23,32 @@ arma::rowvec Climatology::basis(const Date& d) const {
   return b;
 }
 
+namespace {
+
+// The climatology of one date at every point, in double, into `acc` (sized
+// to the points): a few terms per value, column by column (contiguous,
+// vectorised), no BLAS call (it would be the process's first, paying
+// OpenBLAS's start-up on classify's critical path).
+void climatology_of_day(const Climatology& clim, const Date& d, std::vector<double>& acc) {
+  const arma::rowvec b = clim.basis(d);
+  std::fill(acc.begin(), acc.end(), 0.0);
+  const arma::uword np = clim.coefficients.n_rows;
+  for (arma::uword k = 0; k < clim.coefficients.n_cols; ++k) {
+    const double* col = clim.coefficients.colptr(k);
+    const double bk = b(k);
+    for (arma::uword p = 0; p < np; ++p) acc[p] += col[p] * bk;
+  }
+}
+
+}  // namespace
+
 arma::fmat Climatology::evaluate(const std::vector<Date>& dates) const {
-  // A few terms per value: plain loops (a BLAS call here would be the
-  // process's first, paying OpenBLAS's start-up on the critical path).
-  const arma::uword np = coefficients.n_rows, nc = coefficients.n_cols;
-  arma::fmat out(np, dates.size(), arma::fill::none);
-  std::vector<double> acc(np);
+  arma::fmat out(coefficients.n_rows, dates.size(), arma::fill::none);
+  std::vector<double> acc(coefficients.n_rows);
   for (std::size_t t = 0; t < dates.size(); ++t) {
-    const arma::rowvec b = basis(dates[t]);
-    std::fill(acc.begin(), acc.end(), 0.0);
-    for (arma::uword c = 0; c < nc; ++c) {  // column by column: contiguous, vectorised
-      const double* col = coefficients.colptr(c);
-      const double bc = b(c);
-      for (arma::uword p = 0; p < np; ++p) acc[p] += col[p] * bc;
-    }
+    climatology_of_day(*this, dates[t], acc);
     float* o = out.colptr(t);
-    for (arma::uword p = 0; p < np; ++p) o[p] = static_cast<float>(acc[p]);
+    for (arma::uword p = 0; p < out.n_rows; ++p) o[p] = static_cast<float>(acc[p]);
   }
   return out;
 }
@@ -98,19 +108,13 @@ Climatology fit_climatology(const Field& h, const ClimatologyOptions& opt) {
 
 void subtract_climatology(Field& h, const Climatology& clim) {
   // Day by day into one reused column (no climatology field the size of the record).
-  const arma::uword np = clim.coefficients.n_rows, nc = clim.coefficients.n_cols;
+  const arma::uword np = clim.coefficients.n_rows;
   if (np != h.n_points())
     throw InputError("climatology of " + std::to_string(np) + " points for a field of " +
                      std::to_string(h.n_points()));
   std::vector<double> acc(np);
   for (arma::uword t = 0; t < h.n_times(); ++t) {
-    const arma::rowvec b = clim.basis(h.dates[t]);
-    std::fill(acc.begin(), acc.end(), 0.0);
-    for (arma::uword k = 0; k < nc; ++k) {
-      const double* col = clim.coefficients.colptr(k);
-      const double bk = b(k);
-      for (arma::uword p = 0; p < np; ++p) acc[p] += col[p] * bk;
-    }
+    climatology_of_day(clim, h.dates[t], acc);
     float* v = h.values.colptr(t);
     for (arma::uword p = 0; p < np; ++p) v[p] -= static_cast<float>(acc[p]);
   }
