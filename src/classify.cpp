@@ -181,27 +181,18 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
     EnsembleReader reader(needed, regrid, cfg.variable);
     std::vector<std::size_t> first_slot(needed.size() + 1, reader.size());
     for (std::size_t k = reader.size(); k-- > 0;) first_slot[reader.slot(k).init] = k;
-    struct Buffers {
-      RawBlock raw;
-      EnsembleReader::Work work;
-      arma::fmat heights;
-    };
-    detail::StatePool<Buffers> buffers([] { return std::make_unique<Buffers>(); });
+    detail::StatePool<EnsembleReader::Work> buffers([] { return std::make_unique<EnsembleReader::Work>(); });
     std::vector<ModelClimateCache::Sum> sums(needed.size());
     report("reforecasts", 0, static_cast<int>(needed.size()));
     detail::parallel_for(
         needed.size(), cfg.threads,
         [&](std::size_t u) {
-          const auto b = buffers.lease();
+          const auto w = buffers.lease();
           ModelClimateCache::Sum& s = sums[u];
           for (std::size_t k = first_slot[u]; k < reader.size() && reader.slot(k).init == u; ++k) {
-            {
-              std::lock_guard<std::mutex> lock(netcdf);
-              reader.read(k, b->raw);
-            }
-            reader.finish(k, b->raw, b->work, b->heights);
-            if (s.total.is_empty()) s.total.zeros(b->heights.n_rows, b->heights.n_cols);
-            s.total += b->heights;
+            reader.fetch(k, netcdf, *w);
+            if (s.total.is_empty()) s.total.zeros(w->heights.n_rows, w->heights.n_cols);
+            s.total += w->heights;
             ++s.members;
           }
         },
@@ -252,11 +243,10 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
   std::vector<json> detail(cfg.member_detail ? n_members : 0);
   struct Worker {  // one thread's buffers, reused member after member
     explicit Worker(const RegimeModel& m) : labeller(m) {}
-    RawBlock raw;
     EnsembleReader::Work work;
-    arma::fmat heights;
     RegimeLabeller labeller;
-    double read_s = 0, unpack_s = 0, label_s = 0;
+    EnsembleReader::Times times;
+    double label_s = 0;
   };
   detail::StatePool<Worker> workers([&] { return std::make_unique<Worker>(model); });
   report("classify", 0, static_cast<int>(n_members));
@@ -264,26 +254,17 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
       n_members, cfg.threads,
       [&](std::size_t k) {
         const auto w = workers.lease();
-        Clock::time_point t0;
-        {
-          std::lock_guard<std::mutex> lock(netcdf);
-          t0 = Clock::now();  // reading proper, not the wait for the lock
-          reader.read(k, w->raw);
-          w->read_s += seconds_since(t0);
-        }
-        t0 = Clock::now();
+        reader.fetch(k, netcdf, w->work, &w->times);
+        const auto t0 = Clock::now();
         const std::size_t i = reader.slot(k).init;
         const Initialisation& in = *chosen[i];
-        reader.finish(k, w->raw, w->work, w->heights);
-        w->unpack_s += seconds_since(t0);
-        t0 = Clock::now();
         arma::vec cor;
         MemberTrack& t = tracks[k];
         t.initialisation = in.id();
         t.member = in.members[reader.slot(k).member].number;
         t.weight = init_weights[i];
         t.first_offset = -ages[i];
-        t.labels = w->labeller.label(w->heights, reference[i], valid_model[i], model.running_mean_days, &cor);
+        t.labels = w->labeller.label(w->work.heights, reference[i], valid_model[i], model.running_mean_days, &cor);
         if (cfg.member_detail) {
           json labels = json::array();
           for (int l : t.labels) labels.push_back(states[static_cast<std::size_t>(l)]);
@@ -297,8 +278,8 @@ json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, con
   if (timings) {
     timings->threads = static_cast<int>(workers.all().size());
     for (const auto& w : workers.all()) {
-      timings->read_s += w->read_s;
-      timings->unpack_s += w->unpack_s;
+      timings->read_s += w->times.read_s;
+      timings->unpack_s += w->times.finish_s;
       timings->label_s += w->label_s;
     }
   }

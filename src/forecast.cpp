@@ -1,6 +1,7 @@
 #include "isohypse/forecast.hpp"
 
 #include <algorithm>
+#include <chrono>
 #include <cmath>
 #include <map>
 #include <set>
@@ -265,17 +266,17 @@ void EnsembleReader::read(std::size_t k, RawBlock& raw) {
   if (--reads_left_[path] == 0) open_.erase(it);  // the file's last member: close it
 }
 
-void EnsembleReader::finish(std::size_t k, RawBlock& raw, Work& work, arma::fmat& heights) const {
+void EnsembleReader::finish(std::size_t k, Work& work) const {
   const Slot& s = slots_.at(k);
   const Initialisation& in = *inits_[s.init];
-  const bool one_per_day = one_step_per_day_[s.init] && raw.count == static_cast<std::size_t>(in.n_leads);
+  const bool one_per_day = one_step_per_day_[s.init] && work.raw.count == static_cast<std::size_t>(in.n_leads);
   const bool identity = to_target_.identity();
-  // Each step writes into the next buffer; the last one is `heights`.
-  arma::fmat& unpacked = (one_per_day && identity) ? heights : work.unpacked;
-  const bool complete = unpack(raw, unpacked) == 0;
+  // Each step writes into the next buffer; the last one is work.heights.
+  arma::fmat& unpacked = (one_per_day && identity) ? work.heights : work.unpacked;
+  const bool complete = unpack(work.raw, unpacked) == 0;
   const arma::fmat* current = &unpacked;
   if (!one_per_day) {
-    arma::fmat& daily = identity ? heights : work.daily;
+    arma::fmat& daily = identity ? work.heights : work.daily;
     daily.set_size(unpacked.n_rows, static_cast<arma::uword>(in.n_leads));
     for (int l = 0; l < in.n_leads; ++l) {
       const auto& steps = in.lead_steps[static_cast<std::size_t>(l)];
@@ -285,25 +286,37 @@ void EnsembleReader::finish(std::size_t k, RawBlock& raw, Work& work, arma::fmat
     }
     current = &daily;
   }
-  if (!identity) to_target_.apply_into(*current, heights);
+  if (!identity) to_target_.apply_into(*current, work.heights);
   for (int l = 0; !complete && l < in.n_leads; ++l)  // which lead day (the margin may hold the gap)
-    if (!heights.col(l).is_finite()) {
+    if (!work.heights.col(l).is_finite()) {
       const MemberSource& ms = in.members[s.member];
       throw DataError(in.files[ms.file] + ": member " + std::to_string(ms.number) + " has missing values on lead day " +
                       std::to_string(l) + " (" + to_string(in.valid_model(l)) + ")");
     }
 }
 
+void EnsembleReader::fetch(std::size_t k, std::mutex& netcdf, Work& work, Times* times) {
+  using Clock = std::chrono::steady_clock;
+  Clock::time_point t0;
+  {
+    std::lock_guard<std::mutex> lock(netcdf);
+    t0 = Clock::now();  // reading proper, not the wait for the lock
+    read(k, work.raw);
+    if (times) times->read_s += std::chrono::duration<double>(Clock::now() - t0).count();
+  }
+  t0 = Clock::now();
+  finish(k, work);
+  if (times) times->finish_s += std::chrono::duration<double>(Clock::now() - t0).count();
+}
+
 void for_each_member(const Initialisation& init, const Regridder& to_target, const std::string& variable,
                      const std::function<void(std::size_t, arma::fmat&)>& use) {
   EnsembleReader reader({&init}, to_target, variable);
-  RawBlock raw;  // one set of buffers for every member
-  EnsembleReader::Work work;
-  arma::fmat heights;
+  EnsembleReader::Work work;  // one set of buffers for every member
   for (std::size_t k = 0; k < reader.size(); ++k) {
-    reader.read(k, raw);
-    reader.finish(k, raw, work, heights);
-    use(reader.slot(k).member, heights);
+    reader.read(k, work.raw);
+    reader.finish(k, work);
+    use(reader.slot(k).member, work.heights);
   }
 }
 

@@ -203,14 +203,12 @@ TEST_CASE("forecast: a 360_day file with 12-hourly steps across 30 February beco
   // every member's raw block read first, then finished last to first.
   EnsembleReader reader({&exact.front()}, none, "");
   REQUIRE(reader.size() == nm);
-  std::vector<RawBlock> raws(nm);
-  for (std::size_t k = 0; k < nm; ++k) reader.read(k, raws[k]);
-  EnsembleReader::Work work;
+  std::vector<EnsembleReader::Work> works(nm);
+  for (std::size_t k = 0; k < nm; ++k) reader.read(k, works[k].raw);
   for (std::size_t k = nm; k-- > 0;) {
-    arma::fmat h;
-    reader.finish(k, raws[k], work, h);
+    reader.finish(k, works[k]);
     CHECK(reader.slot(k).member == k);
-    CHECK(arma::approx_equal(h, direct[k], "absdiff", 0.0f));
+    CHECK(arma::approx_equal(works[k].heights, direct[k], "absdiff", 0.0f));
   }
   fs::remove(path);
 }

@@ -19,6 +19,7 @@
 
 #include <map>
 #include <memory>
+#include <mutex>
 
 #include "isohypse/calendar.hpp"
 #include "isohypse/dataset.hpp"
@@ -79,20 +80,26 @@ private:
 
 // The members of several initialisations as one list that threads can
 // share. read(k, raw) fetches member k's stored values: it calls netCDF-C,
-// which is not thread-safe, so call it from one thread at a time (e.g. under
-// a lock). finish(k, raw, ...) turns them into daily heights in metres on
-// the target grid without netCDF-C, on any thread. Members are listed
-// initialisation by initialisation, file by file, in file order; a file is
-// opened at its first member's read and closed after its last.
+// which is not thread-safe, so call it from one thread at a time. finish(k,
+// work) turns them into daily heights in metres on the target grid without
+// netCDF-C, on any thread; fetch() does both, holding a given lock for the
+// read only. Members are listed initialisation by initialisation, file by
+// file, in file order; a file is opened at its first member's read and
+// closed after its last.
 class EnsembleReader {
 public:
   struct Slot {
     std::size_t init = 0;    // index into the initialisations given
     std::size_t member = 0;  // index into that initialisation's members
   };
-  // A thread's intermediate buffers (their memory is reused member after member).
+  // A thread's buffers (their memory is reused member after member).
   struct Work {
+    RawBlock raw;             // what read() fetched
     arma::fmat unpacked, daily;
+    arma::fmat heights;       // finish(): n_target_points x n_leads (lead 0 first)
+  };
+  struct Times {  // seconds, added to by fetch()
+    double read_s = 0, finish_s = 0;
   };
 
   EnsembleReader(std::vector<const Initialisation*> inits, const Regridder& to_target, std::string variable);
@@ -101,10 +108,12 @@ public:
   const Slot& slot(std::size_t k) const { return slots_[k]; }
 
   void read(std::size_t k, RawBlock& raw);
-  // heights: n_target_points x n_leads (lead 0 first); compressed chunks in
-  // `raw` are inflated here (see unpack). Throws DataError
-  // naming the file, the member and the lead day when a value is missing.
-  void finish(std::size_t k, RawBlock& raw, Work& work, arma::fmat& heights) const;
+  // work.raw (from read) into work.heights, inflating compressed chunks
+  // (see unpack). Throws DataError naming the file, the member and the lead
+  // day when a value is missing.
+  void finish(std::size_t k, Work& work) const;
+  // read() under `netcdf`, then finish() outside it.
+  void fetch(std::size_t k, std::mutex& netcdf, Work& work, Times* times = nullptr);
 
 private:
   struct OpenFile;
