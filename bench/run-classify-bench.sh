@@ -15,15 +15,7 @@ DIR=${1:-/tmp/isohypse-classify-bench}
 BUILD=${BUILD:-build}
 PY=/usr/bin/python3  # the Python with numpy, netCDF4 and cftime
 
-if [[ ! -x /usr/bin/time ]]; then
-  echo "== installing GNU time (Debian package 'time') for wall time and peak RSS"
-  apt-get install -y time >/dev/null
-fi
-if [[ ! -x "$BUILD/isohypse" || ! -x "$BUILD/isohypse-demo-world" ]]; then
-  echo "== building isohypse in $BUILD/"
-  cmake -S . -B "$BUILD" -DCMAKE_BUILD_TYPE=Release >/dev/null
-  cmake --build "$BUILD" -j2 --target isohypse isohypse-demo-world
-fi
+source bench/common.sh
 R=$DIR/results
 mkdir -p "$R" "$DIR/forecasts"
 
@@ -59,21 +51,6 @@ for day in (1, 2, 3, 4):
 EOF
 fi
 du -sh "$DIR/forecasts"
-
-timed() {  # timed NAME COMMAND...: /usr/bin/time -v's report goes to $R/NAME.time
-  local name=$1
-  shift
-  /usr/bin/time -v -o "$R/$name.time" "$@"
-}
-field() {  # field FILE LABEL: a value from /usr/bin/time -v's report
-  grep -F "$2" "$1" | sed 's/.*: //'
-}
-seconds() {  # h:mm:ss or m:ss.ss -> seconds
-  echo "$1" | awk -F: '{ s = 0; for (i = 1; i <= NF; i++) s = s * 60 + $i; print s }'
-}
-cpu() {  # cpu FILE: user + system seconds (the wall time means little on a shared machine)
-  echo "$(field "$1" "User time") $(field "$1" "System time")" | awk '{ print $1 + $2 }'
-}
 
 echo "== isohypse classify ($(nproc) cores)"
 timed isohypse "$BUILD/isohypse" classify --model "$DIR/model.nc" --forecasts "$DIR/forecasts/fc_*.nc" --quiet \

@@ -12,37 +12,13 @@ DIR=${1:-/tmp/isohypse-bench}
 BUILD=${BUILD:-build}
 PY=/usr/bin/python3  # the Python with numpy, netCDF4 and scikit-learn
 
-if [[ ! -x /usr/bin/time ]]; then
-  echo "== installing GNU time (Debian package 'time') for wall time and peak RSS"
-  apt-get install -y time >/dev/null
-fi
-if [[ ! -x "$BUILD/isohypse" || ! -x "$BUILD/isohypse-demo-world" ]]; then
-  echo "== building isohypse in $BUILD/"
-  cmake -S . -B "$BUILD" -DCMAKE_BUILD_TYPE=Release >/dev/null
-  cmake --build "$BUILD" -j2 --target isohypse isohypse-demo-world
-fi
+source bench/common.sh
 if ! compgen -G "$DIR/reanalysis/hgt500_*.nc" >/dev/null; then
   echo "== generating the benchmark world in $DIR"
   "$BUILD/isohypse-demo-world" --out "$DIR" --size bench
 fi
 mkdir -p "$DIR/results"
 R=$DIR/results
-
-# Runs a command under /usr/bin/time -v; the report goes to $1.time.
-timed() {
-  local name=$1
-  shift
-  /usr/bin/time -v -o "$R/$name.time" "$@"
-}
-field() {  # field FILE LABEL: a value from /usr/bin/time -v's report
-  grep -F "$2" "$1" | sed 's/.*: //'
-}
-cpu() {  # user + system seconds from /usr/bin/time -v's report
-  echo "$(field "$1" "User time (seconds)") $(field "$1" "System time (seconds)")" | awk '{ print $1 + $2 }'
-}
-seconds() {  # h:mm:ss or m:ss.ss -> seconds
-  echo "$1" | awk -F: '{ s = 0; for (i = 1; i <= NF; i++) s = s * 60 + $i; print s }'
-}
 
 echo "== isohypse derive ($(nproc) cores, load average $(cut -d' ' -f1-3 /proc/loadavg))"
 timed isohypse "$BUILD/isohypse" --log-level debug derive --input "$DIR/reanalysis/*.nc" --domain 20,80,170,-40 \
