@@ -198,7 +198,6 @@ Regridder::Regridder(const Grid& from, const Grid& to, const std::string& what) 
 }
 
 arma::fmat Regridder::apply(const arma::fmat& v) const {
-  if (identity_) return v;
   arma::fmat out;
   apply_into(v, out);
   return out;
