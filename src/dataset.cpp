@@ -552,7 +552,7 @@ void HeightDataset::read_raw(const DomainSelection& sel, std::size_t t0, std::si
 std::size_t unpack(RawBlock& raw, arma::fmat& out) {
   for (RawBlock::Box& box : raw.boxes)
     if (!box.inflated) {  // compressed chunks: inflated here, on the caller's thread
-      inflate_chunks(box.stored, raw.values.data() + box.offset, raw.path);
+      detail::inflate_chunks(box.stored, raw.values.data() + box.offset, raw.path);
       box.inflated = true;
     }
   const std::size_t nlat = raw.nlat, nlon_out = raw.nlon_out, count = raw.count;

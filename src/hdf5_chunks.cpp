@@ -144,8 +144,6 @@ bool ChunkReader::read(const std::vector<std::size_t>& start, const std::vector<
   return ok;
 }
 
-}  // namespace detail
-
 void inflate_chunks(const StoredChunks& s, float* out, const std::string& path) {
   const StoredChunks::Layout& lay = s.layout;
   const std::size_t rank = lay.chunk.size();
@@ -223,5 +221,7 @@ void inflate_chunks(const StoredChunks& s, float* out, const std::string& path) 
     }
   }
 }
+
+}  // namespace detail
 
 }  // namespace isohypse

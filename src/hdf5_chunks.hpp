@@ -36,4 +36,10 @@ private:
   StoredChunks::Layout layout_;
 };
 
+// The hyperslab's values as floats (the stored numbers, not yet unpacked),
+// row-major over `count` like nc_get_vara_float, into out (product of count
+// values). Thread-safe (zlib only). Throws DataError naming `path` when a
+// chunk does not inflate to its size.
+void inflate_chunks(const StoredChunks& stored, float* out, const std::string& path);
+
 }  // namespace isohypse::detail

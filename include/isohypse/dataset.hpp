@@ -102,7 +102,7 @@ struct DomainSelection {
 // without netCDF-C, on any thread. The buffer keeps its memory from read to
 // read.
 // A hyperslab's compressed chunks as the file stores them (filled by the
-// HDF5 chunk reader, inflated by inflate_chunks on any thread).
+// HDF5 chunk reader, src/hdf5_chunks.hpp; inflated by unpack on any thread).
 struct StoredChunks {
   struct Layout {
     std::vector<std::size_t> chunk;   // chunk lengths per dimension
@@ -119,12 +119,6 @@ struct StoredChunks {
   std::vector<std::size_t> start, count;  // the hyperslab
   std::vector<Chunk> chunks;
 };
-
-// The hyperslab's values as floats (the stored numbers, not yet unpacked),
-// row-major over `count` like nc_get_vara_float, into out (product of count
-// values). Throws DataError naming `path` when a chunk does not inflate to
-// its size.
-void inflate_chunks(const StoredChunks& stored, float* out, const std::string& path);
 
 struct RawBlock {
   struct Box {
