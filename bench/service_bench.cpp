@@ -20,9 +20,9 @@
 #include <unistd.h>
 #include <vector>
 
-#include "isohypse/archive.hpp"
-#include "isohypse/atomic_file.hpp"
-#include "isohypse/service.hpp"
+#include "isohypse/service/archive.hpp"
+#include "isohypse/base/atomic_file.hpp"
+#include "isohypse/service/service.hpp"
 
 namespace fs = std::filesystem;
 using Clock = std::chrono::steady_clock;

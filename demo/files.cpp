@@ -5,9 +5,9 @@
 #include <initializer_list>
 #include <utility>
 
-#include "isohypse/atomic_file.hpp"
-#include "isohypse/error.hpp"
-#include "netcdf_file.hpp"
+#include "isohypse/base/atomic_file.hpp"
+#include "isohypse/base/error.hpp"
+#include "io/netcdf_file.hpp"
 
 namespace demo {
 

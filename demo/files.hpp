@@ -7,7 +7,7 @@
 #include <string>
 #include <vector>
 
-#include "isohypse/calendar.hpp"
+#include "isohypse/base/calendar.hpp"
 #include "world.hpp"
 
 namespace demo {

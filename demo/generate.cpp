@@ -9,9 +9,9 @@
 
 #include "files.hpp"
 #include "processes.hpp"
-#include "isohypse/atomic_file.hpp"
-#include "isohypse/error.hpp"
-#include "numerics_random.hpp"
+#include "isohypse/base/atomic_file.hpp"
+#include "isohypse/base/error.hpp"
+#include "base/random.hpp"
 
 namespace demo {
 

@@ -9,7 +9,7 @@
 
 #include "generate.hpp"
 #include "processes.hpp"
-#include "isohypse/error.hpp"
+#include "isohypse/base/error.hpp"
 
 int main(int argc, char** argv) {
   CLI::App app{"isohypse-demo-world: writes an invented world of 500 hPa heights with four planted circulation "

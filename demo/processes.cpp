@@ -12,7 +12,7 @@
 #include <thread>
 #include <vector>
 
-#include "isohypse/error.hpp"
+#include "isohypse/base/error.hpp"
 
 namespace demo {
 

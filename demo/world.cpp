@@ -4,8 +4,8 @@
 #include <cmath>
 #include <numbers>
 
-#include "isohypse/error.hpp"
-#include "numerics_random.hpp"
+#include "isohypse/base/error.hpp"
+#include "base/random.hpp"
 
 namespace demo {
 

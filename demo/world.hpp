@@ -21,7 +21,7 @@
 #include <string>
 #include <vector>
 
-#include "isohypse/calendar.hpp"
+#include "isohypse/base/calendar.hpp"
 
 namespace demo {
 

@@ -6,8 +6,8 @@
 #include <fstream>
 #include <unistd.h>
 
-#include "isohypse/archive.hpp"
-#include "isohypse/error.hpp"
+#include "isohypse/service/archive.hpp"
+#include "isohypse/base/error.hpp"
 
 using namespace isohypse;
 namespace fs = std::filesystem;

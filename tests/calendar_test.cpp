@@ -3,8 +3,8 @@
 // which were recomputed with cftime 1.6.
 #include <doctest/doctest.h>
 
-#include "isohypse/calendar.hpp"
-#include "isohypse/error.hpp"
+#include "isohypse/base/calendar.hpp"
+#include "isohypse/base/error.hpp"
 
 using namespace isohypse;
 

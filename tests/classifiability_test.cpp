@@ -4,8 +4,8 @@
 #include <string>
 #include <thread>
 
-#include "isohypse/classifiability.hpp"
-#include "isohypse/error.hpp"
+#include "isohypse/numerics/classifiability.hpp"
+#include "isohypse/base/error.hpp"
 
 using namespace isohypse;
 

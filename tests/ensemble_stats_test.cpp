@@ -2,8 +2,8 @@
 
 #include <cmath>
 
-#include "isohypse/ensemble_stats.hpp"
-#include "isohypse/error.hpp"
+#include "isohypse/numerics/ensemble_stats.hpp"
+#include "isohypse/base/error.hpp"
 
 using namespace isohypse;
 

@@ -3,8 +3,8 @@
 #include <cmath>
 #include <string>
 
-#include "isohypse/eof.hpp"
-#include "isohypse/error.hpp"
+#include "isohypse/numerics/eof.hpp"
+#include "isohypse/base/error.hpp"
 
 using namespace isohypse;
 

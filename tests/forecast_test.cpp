@@ -12,10 +12,10 @@
 #include <string>
 #include <vector>
 
-#include "isohypse/dataset.hpp"
-#include "isohypse/error.hpp"
-#include "isohypse/forecast.hpp"
-#include "netcdf_file.hpp"
+#include "isohypse/io/dataset.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/io/forecast.hpp"
+#include "io/netcdf_file.hpp"
 
 using namespace isohypse;
 

@@ -2,8 +2,8 @@
 
 #include <string>
 
-#include "isohypse/error.hpp"
-#include "isohypse/kmeans.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/numerics/kmeans.hpp"
 
 using namespace isohypse;
 

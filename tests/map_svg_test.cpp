@@ -7,7 +7,7 @@
 #include <filesystem>
 #include <map>
 
-#include "isohypse/map_svg.hpp"
+#include "isohypse/render/map_svg.hpp"
 
 using namespace isohypse;
 

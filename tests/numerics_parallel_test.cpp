@@ -7,7 +7,7 @@
 #include <stdexcept>
 #include <vector>
 
-#include "numerics_parallel.hpp"
+#include "base/parallel.hpp"
 
 using isohypse::detail::parallel_for;
 using isohypse::detail::StatePool;

@@ -2,8 +2,8 @@
 
 #include <cmath>
 
-#include "isohypse/error.hpp"
-#include "isohypse/regime_sequence.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/numerics/regime_sequence.hpp"
 
 using namespace isohypse;
 

@@ -7,8 +7,8 @@
 #include <cmath>
 #include <numeric>
 
-#include "isohypse/error.hpp"
-#include "isohypse/scores.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/numerics/scores.hpp"
 
 using namespace isohypse;
 

@@ -7,9 +7,10 @@
 #include <iostream>
 
 #include "cli/commands.hpp"
-#include "isohypse/atomic_file.hpp"
-#include "isohypse/classify.hpp"
-#include "isohypse/error.hpp"
+#include "isohypse/io/regime_model_file.hpp"
+#include "isohypse/base/atomic_file.hpp"
+#include "isohypse/stages/classify.hpp"
+#include "isohypse/base/error.hpp"
 
 namespace isohypse::cli {
 

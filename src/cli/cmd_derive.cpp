@@ -6,10 +6,11 @@
 #include <sstream>
 
 #include "cli/commands.hpp"
-#include "isohypse/atomic_file.hpp"
-#include "isohypse/json_config.hpp"
-#include "isohypse/derive.hpp"
-#include "isohypse/error.hpp"
+#include "isohypse/io/regime_model_file.hpp"
+#include "isohypse/base/atomic_file.hpp"
+#include "isohypse/base/json_config.hpp"
+#include "isohypse/stages/derive.hpp"
+#include "isohypse/base/error.hpp"
 
 namespace isohypse::cli {
 

@@ -5,12 +5,13 @@
 #include <iostream>
 
 #include "cli/commands.hpp"
-#include "isohypse/dataset.hpp"
-#include "isohypse/derive.hpp"
-#include "isohypse/error.hpp"
-#include "isohypse/inspect.hpp"
-#include "isohypse/reader.hpp"
-#include "isohypse/regime_model.hpp"
+#include "isohypse/io/regime_model_file.hpp"
+#include "isohypse/io/dataset.hpp"
+#include "isohypse/stages/derive.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/io/inspect.hpp"
+#include "isohypse/io/reader.hpp"
+#include "isohypse/numerics/regime_model.hpp"
 
 namespace isohypse::cli {
 

@@ -7,10 +7,10 @@
 #include <iostream>
 
 #include "cli/commands.hpp"
-#include "isohypse/atomic_file.hpp"
-#include "isohypse/json_config.hpp"
-#include "isohypse/error.hpp"
-#include "isohypse/service.hpp"
+#include "isohypse/base/atomic_file.hpp"
+#include "isohypse/base/json_config.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/service/service.hpp"
 
 namespace isohypse::cli {
 

@@ -6,13 +6,14 @@
 #include <iostream>
 
 #include "cli/commands.hpp"
-#include "isohypse/error.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/base/vocabulary.hpp"
 
 int main(int argc, char** argv) {
   CLI::App app{
       "isohypse " ISOHYPSE_VERSION
-      ": circulation-regime guidance from 500 hPa heights.\n"
-      "Regime guidance supports, and never replaces, official warnings and the judgement of licensed forecasters."};
+      ": circulation-regime guidance from 500 hPa heights.\n" +
+      std::string(isohypse::kCaution)};
   app.require_subcommand(1);
   app.set_version_flag("--version", "isohypse " ISOHYPSE_VERSION);
   std::string log_level = "info";

@@ -72,7 +72,7 @@ try:
           f"model grid {len(m['grid']['lat'])} x {len(m['grid']['lon'])} equals the file's")
     err = float(np.abs(api_pattern - pattern).max())
     check(err <= 0.05 + 1e-9, f"patterns equal the file's within the 0.1 m rounding (max error {err:.3f} m)")
-    check(np.allclose([r["climatological_frequency"] for r in m["regimes"]], freq), "frequencies equal the file's")
+    check(np.allclose([r["frequency"] for r in m["regimes"]], freq), "frequencies equal the file's")
     t = np.array(m["transitions"]["probabilities"], dtype=float)
     check(t.shape == (5, 5) and np.allclose(np.nansum(t, axis=1)[:4], 1.0, atol=1e-6),
           "transition matrix 5 x 5, regime rows sum to 1")

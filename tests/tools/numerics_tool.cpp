@@ -30,10 +30,10 @@
 
 #include <nlohmann/json.hpp>
 
-#include "isohypse/classifiability.hpp"
-#include "isohypse/eof.hpp"
-#include "isohypse/error.hpp"
-#include "isohypse/kmeans.hpp"
+#include "isohypse/numerics/classifiability.hpp"
+#include "isohypse/numerics/eof.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/numerics/kmeans.hpp"
 
 namespace {
 

@@ -7,9 +7,9 @@
 #include <nlohmann/json.hpp>
 #include <string>
 
-#include "isohypse/dataset.hpp"
-#include "isohypse/error.hpp"
-#include "isohypse/reader.hpp"
+#include "isohypse/io/dataset.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/io/reader.hpp"
 
 int main(int argc, char** argv) {
   using namespace isohypse;

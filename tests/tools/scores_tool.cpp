@@ -10,8 +10,8 @@
 #include <string>
 #include <vector>
 
-#include "isohypse/error.hpp"
-#include "isohypse/scores.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/numerics/scores.hpp"
 
 namespace {
 

@@ -1,0 +1,193 @@
+// One NetCDF/HDF5 file seen as 500 hPa heights: which variable, which level,
+// the grid, the time axis and the ensemble members, and hyperslab reads of
+// just the domain, level, member and time steps asked for.
+//
+// What it handles (CF Conventions 1.10; NetCDF User Guide app. B):
+//  - NetCDF-3 classic and 64-bit offset, NetCDF-4 and NetCDF-4 classic (HDF5)
+//    through netCDF-C;
+//  - the height variable found by standard_name (geopotential,
+//    geopotential_height), then units, then common names, or named by the
+//    user; an ambiguous choice is refused, listing the candidates;
+//  - the level picked from a pressure dimension in hPa, Pa or mbar; a file
+//    without a level dimension is taken as single-level (its `lev`/`level`
+//    attribute, if any, must match);
+//  - packing: value = packed * scale_factor + add_offset, after _FillValue,
+//    missing_value and valid_min/valid_max/valid_range (in packed units)
+//    turned into NaN; geopotential (m2 s-2) / g0 (9.80665 m s-2) -> metres,
+//    "dam" -> metres;
+//  - latitudes returned ascending, the domain's longitudes contiguous for
+//    files in 0..360 or -180..180 and domains across the dateline or the
+//    prime meridian;
+//  - CF time in every CF calendar (see calendar.hpp).
+// Every error names the file. Not thread-safe (netCDF-C is not): use one
+// dataset from one thread.
+#pragma once
+
+#include <armadillo>
+#include <memory>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "isohypse/base/calendar.hpp"
+#include "isohypse/base/field.hpp"
+
+namespace isohypse {
+
+// Standard gravity (WMO), m s-2.
+inline constexpr double kStandardGravity = 9.80665;
+
+// A variable that could hold 500 hPa heights, with why it qualifies.
+struct HeightCandidate {
+  std::string name;
+  std::string standard_name;
+  std::string units;
+  std::string long_name;
+  std::vector<std::string> dims;
+  bool geopotential = false;  // m2 s-2 (true) or metres of height (false)
+  int score = 0;              // 3 standard_name, +2 units, +1 common name
+};
+
+struct Packing {
+  bool packed = false;
+  double scale_factor = 1.0;
+  double add_offset = 0.0;
+  std::vector<double> missing;  // _FillValue and missing_value, packed units
+  std::optional<double> valid_min, valid_max;
+  std::string stored_type;  // "short", "float", ...
+};
+
+// What a file holds, in the file's own order, decoded.
+struct DatasetInfo {
+  std::string path;
+  std::string format;                 // e.g. "NetCDF-4 classic model"
+  std::vector<HeightCandidate> candidates;
+  std::string variable;               // the chosen one
+  std::string units;                  // as in the file
+  double to_metres = 1.0;             // multiply unpacked values by this
+  bool geopotential = false;
+  Packing packing;
+  arma::vec file_lat;                 // as stored (maybe descending)
+  arma::vec file_lon;                 // as stored
+  std::vector<double> levels;         // hPa, empty when no level dimension
+  std::string level_note;             // how the level was chosen
+  std::size_t level_index = 0;
+  Calendar calendar = Calendar::Standard;
+  std::string time_units;
+  std::vector<Instant> times;         // decoded, file order
+  std::optional<Instant> reference_time;  // forecast_reference_time, if any
+  std::size_t members = 1;            // length of the member dimension (1 if none)
+  std::string member_dim;             // empty if none
+  std::vector<int> member_numbers;     // values of the member coordinate, if it has one
+  std::optional<int> member_number;   // a per-member file's number (scalar realization/number variable or attribute)
+  std::string time_dim;
+
+  bool lat_descending() const { return file_lat.n_elem > 1 && file_lat(0) > file_lat(file_lat.n_elem - 1); }
+  // "0..360", "-180..180" or "regional"
+  std::string lon_convention() const;
+  bool global_in_lon() const;
+};
+
+// Which part of the file's grid a domain takes, and in what order.
+struct DomainSelection {
+  Grid grid;                               // the output grid (ascending lat, contiguous lon)
+  std::size_t lat_start = 0, lat_count = 0;  // file index range
+  struct Run { std::size_t start, count, out_offset; };
+  std::vector<Run> lon_runs;               // contiguous file index runs, in output order
+};
+
+// The values of one read as the file stores them (packed, file order), with
+// what it takes to unpack them. HeightDataset::read_raw fills it (netCDF-C:
+// one thread at a time); unpack() turns it into metres on the domain's grid
+// without netCDF-C, on any thread. The buffer keeps its memory from read to
+// read.
+// A hyperslab's compressed chunks as the file stores them (filled by the
+// HDF5 chunk reader, src/hdf5_chunks.hpp; inflated by unpack on any thread).
+struct StoredChunks {
+  struct Layout {
+    std::vector<std::size_t> chunk;   // chunk lengths per dimension
+    std::vector<int> filters;         // the pipeline in write order: 1 deflate, 2 shuffle
+    std::size_t type_size = 4;        // bytes per value
+    int type = 0;                     // 0 float32, 1 float64, 2 int16
+  };
+  struct Chunk {
+    std::vector<std::size_t> offset;  // of the chunk's first value, per dimension
+    unsigned filter_mask = 0;         // bit i set: filter i was not applied to this chunk
+    std::vector<unsigned char> bytes;
+  };
+  Layout layout;
+  std::vector<std::size_t> start, count;  // the hyperslab
+  std::vector<Chunk> chunks;
+};
+
+struct RawBlock {
+  struct Box {
+    std::size_t offset = 0;    // into values
+    std::size_t lat_skip = 0;  // the domain's first latitude row within the box
+    std::size_t s_time = 1, s_lat = 1, s_lon = 1;  // strides in values
+    std::vector<DomainSelection::Run> runs;        // longitude starts relative to the box
+    StoredChunks stored;                           // compressed: inflated into values by unpack()
+    bool inflated = true;
+  };
+  std::string path;  // for messages
+  std::vector<float> values;
+  std::vector<Box> boxes;
+  std::size_t nlat = 0, nlon_out = 0, count = 0;
+  bool lat_descending = false;
+  Packing packing;
+  double to_metres = 1.0;
+};
+
+// Heights in metres (n_points x count, NaN where missing) from a raw block,
+// inflating its compressed chunks first; returns how many values were
+// missing. `out` keeps its memory when its size holds.
+std::size_t unpack(RawBlock& raw, arma::fmat& out);
+
+class HeightDataset {
+public:
+  // Opens `path`, chooses the variable (`variable` if given) and the level.
+  // Throws InputError (missing file, unknown variable name) or DataError
+  // (not NetCDF, truncated, no height variable, ambiguous, no such level,
+  // unknown units, undecodable time), each naming the file.
+  static HeightDataset open(const std::string& path, const std::string& variable = "", double level_hpa = 500.0);
+  // Like open() but only lists candidates when no variable qualifies
+  // (for `inspect`, which describes files it cannot use too).
+  HeightDataset(HeightDataset&&) noexcept;
+  HeightDataset& operator=(HeightDataset&&) noexcept;
+  ~HeightDataset();
+
+  const DatasetInfo& info() const;
+
+  // The selection for `domain` (the whole grid when empty). Throws InputError
+  // naming the file when the grid does not cover the domain, listing both.
+  DomainSelection select(const std::optional<Domain>& domain) const;
+
+  // Heights in metres, n_points x count, for time steps [t0, t0+count) of
+  // member `member`: NaN where missing.
+  arma::fmat read(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member = 0) const;
+  // The same in two steps, for repeated reads into the same buffers: the
+  // stored values (netCDF-C or HDF5: one thread at a time), then unpack()
+  // on any thread.
+  void read_raw(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
+                RawBlock& raw) const;
+
+  // True when the variable's compressed chunks are read directly with HDF5
+  // and inflated by unpack() (on the caller's thread) rather than inside
+  // netCDF-C: zlib with or without shuffle, float32/float64/int16.
+  bool inflates_chunks() const;
+
+  // Number of values equal to a fill/missing/out-of-range code in the chosen
+  // variable at the chosen level over the whole grid and all steps.
+  std::size_t count_missing() const;
+
+private:
+  struct Impl;
+  explicit HeightDataset(std::unique_ptr<Impl> impl);
+  std::unique_ptr<Impl> impl_;
+};
+
+// Lists the candidate height variables of a file without choosing (for
+// inspect on a file that fails open()).
+std::vector<HeightCandidate> list_height_candidates(const std::string& path);
+
+}  // namespace isohypse

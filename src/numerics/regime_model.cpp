@@ -1,0 +1,157 @@
+#include "isohypse/numerics/regime_model.hpp"
+
+#include <cmath>
+#include <cstdio>
+#include <limits>
+#include <sstream>
+
+#include "isohypse/base/error.hpp"
+#include "isohypse/base/vocabulary.hpp"
+
+namespace isohypse {
+
+
+nlohmann::json regime_json(const RegimeInfo& r) {
+  return {{"id", r.id},
+          {"name", r.name},
+          {"frequency", r.frequency},
+          {"mean_run_days", r.mean_run},
+          {"median_run_days", r.median_run},
+          {"longest_run_days", r.longest_run},
+          {"episodes_5_days_or_more", r.episodes},
+          {"residence_days", number_or_null(r.residence_days)}};
+}
+
+RegimeInfo regime_from_json(const nlohmann::json& j) {
+  // Models written before the keys were unified say mean_run, median_run,
+  // longest_run and episodes.
+  auto key = [&](const char* now, const char* before) -> const nlohmann::json& {
+    return j.contains(now) ? j.at(now) : j.at(before);
+  };
+  RegimeInfo r;
+  r.id = j.at("id");
+  r.name = j.at("name");
+  r.frequency = j.at("frequency");
+  r.mean_run = key("mean_run_days", "mean_run");
+  r.median_run = key("median_run_days", "median_run");
+  r.longest_run = key("longest_run_days", "longest_run");
+  r.episodes = key("episodes_5_days_or_more", "episodes");
+  const auto& res = j.at("residence_days");
+  r.residence_days = res.is_null() ? arma::datum::inf : res.get<double>();
+  return r;
+}
+
+nlohmann::json k_table_json(const std::vector<RegimeCountEntry>& table) {
+  nlohmann::json rows = nlohmann::json::array();
+  for (const auto& e : table)
+    rows.push_back({{"k", e.k},
+                    {"classifiability", e.index},
+                    {"surrogate_level", e.surrogate_level},
+                    {"significant", e.significant}});
+  return rows;
+}
+
+std::vector<RegimeCountEntry> k_table_from_json(const nlohmann::json& j) {
+  std::vector<RegimeCountEntry> table;
+  for (const auto& e : j)
+    table.push_back({e.at("k"), e.contains("classifiability") ? e.at("classifiability") : e.at("index"),
+                     e.at("surrogate_level"), e.at("significant")});
+  return table;
+}
+
+nlohmann::json matrix_json(const arma::mat& m) {
+  nlohmann::json rows = nlohmann::json::array();
+  for (arma::uword i = 0; i < m.n_rows; ++i) {
+    nlohmann::json row = nlohmann::json::array();
+    for (arma::uword c = 0; c < m.n_cols; ++c) row.push_back(number_or_null(m(i, c)));
+    rows.push_back(std::move(row));
+  }
+  return rows;
+}
+
+nlohmann::json transition_json(const std::vector<std::string>& states, const arma::mat& probabilities,
+                               const arma::mat& counts) {
+  nlohmann::json j = {{"states", states}, {"probabilities", matrix_json(probabilities)}};
+  if (!counts.is_empty()) j["counts"] = matrix_json(counts);
+  return j;
+}
+
+std::vector<std::string> model_states(const RegimeModel& model) {
+  std::vector<std::string> ids;
+  for (const auto& r : model.regimes) ids.push_back(r.id);
+  return state_list(ids);
+}
+
+void assign_regimes(const arma::mat& pcs, const arma::mat& centroids, double threshold, std::vector<int>& labels,
+                    arma::vec& correlation) {
+  if (pcs.n_cols != centroids.n_rows)
+    throw InputError("assign_regimes: " + std::to_string(pcs.n_cols) + " components per day but centroids have " +
+                     std::to_string(centroids.n_rows));
+  // Plain loops: no temporaries per day (classify labels thousands of member-days).
+  const arma::uword n = pcs.n_rows, k = centroids.n_cols, ne = centroids.n_rows;
+  labels.assign(n, -1);
+  correlation.set_size(n);
+  std::vector<double> cnorm(k);
+  for (arma::uword j = 0; j < k; ++j) {
+    double s = 0;
+    for (arma::uword e = 0; e < ne; ++e) s += centroids(e, j) * centroids(e, j);
+    cnorm[j] = std::sqrt(s);
+  }
+  for (arma::uword i = 0; i < n; ++i) {
+    double best = std::numeric_limits<double>::infinity(), xx = 0;
+    arma::uword bj = 0;
+    for (arma::uword e = 0; e < ne; ++e) xx += pcs(i, e) * pcs(i, e);
+    for (arma::uword j = 0; j < k; ++j) {
+      double d = 0;
+      for (arma::uword e = 0; e < ne; ++e) {
+        const double diff = pcs(i, e) - centroids(e, j);
+        d += diff * diff;
+      }
+      if (d < best) {
+        best = d;
+        bj = j;
+      }
+    }
+    double dot = 0;
+    for (arma::uword e = 0; e < ne; ++e) dot += pcs(i, e) * centroids(e, bj);
+    const double xn = std::sqrt(xx);
+    const double c = (xn > 0 && cnorm[bj] > 0) ? dot / (xn * cnorm[bj]) : 0.0;
+    correlation(i) = c;
+    labels[i] = c >= threshold ? static_cast<int>(bj) : -1;
+  }
+}
+
+namespace {
+std::string lat_text(double lat) {
+  char b[16];
+  std::snprintf(b, sizeof b, "%.0f%s", std::abs(lat), lat >= 0 ? "N" : "S");
+  return b;
+}
+std::string lon_text(double lon) {
+  double l = std::fmod(lon, 360.0);
+  if (l > 180) l -= 360;
+  if (l <= -180) l += 360;
+  char b[16];
+  if (std::abs(l) < 0.5 || std::abs(std::abs(l) - 180) < 0.5) std::snprintf(b, sizeof b, "%.0f", std::abs(l));
+  else std::snprintf(b, sizeof b, "%.0f%s", std::abs(l), l > 0 ? "E" : "W");
+  return b;
+}
+std::string centre_text(const arma::vec& p, const Grid& g, arma::uword i) {
+  double v = p(i);
+  char amp[32];
+  std::snprintf(amp, sizeof amp, "%+.0f m", v);
+  return std::string(v >= 0 ? "ridge " : "trough ") + lat_text(g.lat(i / g.n_lon())) + " " +
+         lon_text(g.lon(i % g.n_lon())) + " " + amp;
+}
+}  // namespace
+
+std::string describe_pattern(const arma::vec& p, const Grid& g) {
+  arma::uword imax = p.index_max(), imin = p.index_min();
+  arma::uword first = std::abs(p(imax)) >= std::abs(p(imin)) ? imax : imin;
+  arma::uword second = first == imax ? imin : imax;
+  std::string name = centre_text(p, g, first);
+  if (std::abs(p(second)) >= 0.5 * std::abs(p(first))) name += " / " + centre_text(p, g, second);
+  return name;
+}
+
+}  // namespace isohypse

@@ -1,0 +1,303 @@
+#include "isohypse/numerics/scores.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <map>
+#include <numeric>
+#include <random>
+#include <string>
+
+#include "isohypse/base/error.hpp"
+
+namespace isohypse {
+namespace {
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+
+// Every binary-event score starts here: equal non-zero sizes, p in [0, 1],
+// o in {0, 1}.
+void check_binary(const char* who, const arma::vec& p, const arma::vec& o) {
+  if (p.n_elem != o.n_elem || p.n_elem == 0) {
+    throw InputError(std::string(who) + ": forecast probabilities and outcomes must have the same, non-zero length; found " +
+                     std::to_string(p.n_elem) + " probabilities and " + std::to_string(o.n_elem) + " outcomes");
+  }
+  for (arma::uword i = 0; i < p.n_elem; ++i) {
+    if (!(p[i] >= 0.0 && p[i] <= 1.0)) {
+      throw InputError(std::string(who) + ": probability of case " + std::to_string(i) +
+                       " must be in [0, 1]; found " + std::to_string(p[i]));
+    }
+    if (o[i] != 0.0 && o[i] != 1.0) {
+      throw InputError(std::string(who) + ": outcome of case " + std::to_string(i) + " must be 0 or 1; found " +
+                       std::to_string(o[i]));
+    }
+  }
+}
+
+void check_table(const char* who, const arma::umat& table) {
+  if (table.n_rows != table.n_cols || table.n_rows == 0) {
+    throw InputError(std::string(who) + ": contingency table must be square and non-empty; found " +
+                     std::to_string(table.n_rows) + " x " + std::to_string(table.n_cols));
+  }
+  if (arma::accu(table) == 0) {
+    throw InputError(std::string(who) + ": contingency table holds no case");
+  }
+}
+
+// Murphy's parts from per-group sums (count, sum of p, sum of o).
+struct Group {
+  double n = 0.0, sum_p = 0.0, sum_o = 0.0;
+};
+
+BrierParts parts_from_groups(const std::vector<Group>& groups, const arma::vec& p, const arma::vec& o) {
+  BrierParts parts{};
+  const double total = static_cast<double>(p.n_elem);
+  parts.brier = brier_score(p, o);
+  parts.base_rate = arma::mean(o);
+  parts.uncertainty = parts.base_rate * (1.0 - parts.base_rate);
+  double rel = 0.0, res = 0.0;
+  for (const Group& g : groups) {
+    if (g.n == 0.0) continue;
+    const double pbar = g.sum_p / g.n, obar = g.sum_o / g.n;
+    rel += g.n * (pbar - obar) * (pbar - obar);
+    res += g.n * (obar - parts.base_rate) * (obar - parts.base_rate);
+  }
+  parts.reliability = rel / total;
+  parts.resolution = res / total;
+  return parts;
+}
+
+// Index of the bin [e_i, e_i+1) holding x, the last bin closed; edges sorted.
+std::size_t bin_of(double x, const arma::vec& edges) {
+  const auto it = std::upper_bound(edges.begin(), edges.end(), x);
+  const auto i = static_cast<std::size_t>(it - edges.begin());
+  return std::min<std::size_t>(i == 0 ? 0 : i - 1, edges.n_elem - 2);
+}
+
+// Uniform integer in [0, n) by rejection: unbiased, and unlike
+// std::uniform_int_distribution the same on every standard library.
+std::uint64_t uniform_below(std::mt19937_64& rng, std::uint64_t n) {
+  const std::uint64_t limit = std::numeric_limits<std::uint64_t>::max() - std::numeric_limits<std::uint64_t>::max() % n;
+  std::uint64_t u;
+  do {
+    u = rng();
+  } while (u >= limit);
+  return u % n;
+}
+
+// Quantile of sorted values with linear interpolation (Hyndman & Fan 1996
+// type 7, numpy's default).
+double sorted_quantile(const std::vector<double>& sorted, double q) {
+  const double h = q * static_cast<double>(sorted.size() - 1);
+  const auto lo = static_cast<std::size_t>(std::floor(h));
+  const std::size_t hi = std::min(lo + 1, sorted.size() - 1);
+  return sorted[lo] + (h - static_cast<double>(lo)) * (sorted[hi] - sorted[lo]);
+}
+
+}  // namespace
+
+double brier_score(const arma::vec& p, const arma::vec& o) {
+  check_binary("brier_score", p, o);
+  return arma::mean(arma::square(p - o));
+}
+
+BrierParts brier_decomposition(const arma::vec& p, const arma::vec& o, const arma::vec& bin_edges) {
+  check_binary("brier_decomposition", p, o);
+  std::vector<Group> groups;
+  if (bin_edges.is_empty()) {
+    std::map<double, Group> by_value;
+    for (arma::uword i = 0; i < p.n_elem; ++i) {
+      Group& g = by_value[p[i]];
+      g.n += 1.0;
+      g.sum_p += p[i];
+      g.sum_o += o[i];
+    }
+    for (const auto& [value, g] : by_value) groups.push_back(g);
+  } else {
+    if (bin_edges.n_elem < 2 || !bin_edges.is_finite()) {
+      throw InputError("brier_decomposition: bin_edges must hold at least 2 finite edges; found " +
+                       std::to_string(bin_edges.n_elem));
+    }
+    for (arma::uword i = 1; i < bin_edges.n_elem; ++i) {
+      if (!(bin_edges[i] > bin_edges[i - 1])) {
+        throw InputError("brier_decomposition: bin_edges must be strictly increasing; edge " + std::to_string(i) +
+                         " is " + std::to_string(bin_edges[i]) + " after " + std::to_string(bin_edges[i - 1]));
+      }
+    }
+    if (p.min() < bin_edges.front() || p.max() > bin_edges.back()) {
+      throw InputError("brier_decomposition: bin_edges [" + std::to_string(bin_edges.front()) + ", " +
+                       std::to_string(bin_edges.back()) + "] must cover every probability; found range [" +
+                       std::to_string(p.min()) + ", " + std::to_string(p.max()) + "]");
+    }
+    groups.resize(bin_edges.n_elem - 1);
+    for (arma::uword i = 0; i < p.n_elem; ++i) {
+      Group& g = groups[bin_of(p[i], bin_edges)];
+      g.n += 1.0;
+      g.sum_p += p[i];
+      g.sum_o += o[i];
+    }
+  }
+  return parts_from_groups(groups, p, o);
+}
+
+double skill_score(double score, double reference) {
+  if (reference == 0.0) return kNaN;
+  return 1.0 - score / reference;
+}
+
+double multicategory_brier(const arma::rowvec& p, int observed) {
+  if (p.is_empty()) throw InputError("multicategory_brier: the forecast has no category");
+  if (observed < 0 || static_cast<arma::uword>(observed) >= p.n_elem) {
+    throw InputError("multicategory_brier: observed category must be in 0 .. " + std::to_string(p.n_elem - 1) +
+                     "; found " + std::to_string(observed));
+  }
+  double sum = 0.0;
+  for (arma::uword k = 0; k < p.n_elem; ++k) {
+    if (!(p[k] >= 0.0 && p[k] <= 1.0)) {
+      throw InputError("multicategory_brier: probability of category " + std::to_string(k) +
+                       " must be in [0, 1]; found " + std::to_string(p[k]));
+    }
+    const double d = p[k] - (static_cast<arma::uword>(observed) == k ? 1.0 : 0.0);
+    sum += d * d;
+  }
+  return sum;
+}
+
+double mean_multicategory_brier(const arma::mat& p, const std::vector<int>& observed) {
+  if (p.n_rows != observed.size() || observed.empty()) {
+    throw InputError("mean_multicategory_brier: forecast rows and observed labels must have the same, non-zero count; found " +
+                     std::to_string(p.n_rows) + " rows and " + std::to_string(observed.size()) + " labels");
+  }
+  double sum = 0.0;
+  for (arma::uword i = 0; i < p.n_rows; ++i) sum += multicategory_brier(arma::rowvec(p.row(i)), observed[i]);
+  return sum / static_cast<double>(p.n_rows);
+}
+
+double roc_area(const arma::vec& p, const arma::vec& o) {
+  check_binary("roc_area", p, o);
+  const arma::uvec order = arma::stable_sort_index(p);
+  const double events = arma::accu(o), non_events = static_cast<double>(o.n_elem) - events;
+  if (events == 0.0 || non_events == 0.0) return kNaN;
+  // Walk groups of tied probabilities upward. Twice the count of concordant
+  // pairs stays an exact integer in double for any realistic N.
+  double twice_wins = 0.0, non_events_below = 0.0;
+  for (arma::uword start = 0; start < order.n_elem;) {
+    arma::uword end = start;
+    double group_events = 0.0, group_non_events = 0.0;
+    while (end < order.n_elem && p[order[end]] == p[order[start]]) {
+      (o[order[end]] == 1.0 ? group_events : group_non_events) += 1.0;
+      ++end;
+    }
+    twice_wins += 2.0 * group_events * non_events_below + group_events * group_non_events;
+    non_events_below += group_non_events;
+    start = end;
+  }
+  return twice_wins / (2.0 * events * non_events);
+}
+
+std::vector<ReliabilityBin> reliability_diagram(const arma::vec& p, const arma::vec& o, int n_bins) {
+  check_binary("reliability_diagram", p, o);
+  if (n_bins < 1) throw InputError("reliability_diagram: n_bins must be at least 1; found " + std::to_string(n_bins));
+  // Edges as i / n_bins, correctly rounded, so a probability written as the
+  // same fraction (0.6 for 3/5) falls in the bin it starts; linspace's
+  // accumulated 3 * 0.2 = 0.6000000000000001 would put it one bin lower.
+  arma::vec edges(static_cast<arma::uword>(n_bins) + 1);
+  for (arma::uword b = 0; b < edges.n_elem; ++b) edges[b] = static_cast<double>(b) / n_bins;
+  std::vector<Group> groups(static_cast<std::size_t>(n_bins));
+  for (arma::uword i = 0; i < p.n_elem; ++i) {
+    Group& g = groups[bin_of(p[i], edges)];
+    g.n += 1.0;
+    g.sum_p += p[i];
+    g.sum_o += o[i];
+  }
+  std::vector<ReliabilityBin> bins;
+  bins.reserve(groups.size());
+  for (std::size_t b = 0; b < groups.size(); ++b) {
+    const Group& g = groups[b];
+    bins.push_back({edges[b], edges[b + 1], g.n > 0 ? g.sum_p / g.n : kNaN, g.n > 0 ? g.sum_o / g.n : kNaN,
+                    static_cast<std::size_t>(g.n)});
+  }
+  return bins;
+}
+
+arma::umat contingency(const std::vector<int>& forecast, const std::vector<int>& observed, int K) {
+  if (forecast.size() != observed.size() || forecast.empty()) {
+    throw InputError("contingency: forecast and observed labels must have the same, non-zero count; found " +
+                     std::to_string(forecast.size()) + " forecasts and " + std::to_string(observed.size()) +
+                     " observations");
+  }
+  if (K < 1) throw InputError("contingency: K must be at least 1; found " + std::to_string(K));
+  arma::umat table(static_cast<arma::uword>(K), static_cast<arma::uword>(K), arma::fill::zeros);
+  for (std::size_t i = 0; i < forecast.size(); ++i) {
+    for (const auto& [what, label] : {std::pair{"forecast", forecast[i]}, std::pair{"observed", observed[i]}}) {
+      if (label < 0 || label >= K) {
+        throw InputError(std::string("contingency: ") + what + " label of case " + std::to_string(i) +
+                         " must be in 0 .. " + std::to_string(K - 1) + "; found " + std::to_string(label));
+      }
+    }
+    ++table(static_cast<arma::uword>(forecast[i]), static_cast<arma::uword>(observed[i]));
+  }
+  return table;
+}
+
+double proportion_correct(const arma::umat& table) {
+  check_table("proportion_correct", table);
+  return static_cast<double>(arma::accu(table.diag())) / static_cast<double>(arma::accu(table));
+}
+
+double heidke_skill(const arma::umat& table) {
+  check_table("heidke_skill", table);
+  const arma::mat t = arma::conv_to<arma::mat>::from(table);
+  const double total = arma::accu(t);
+  const double chance = arma::dot(arma::sum(t, 1), arma::sum(t, 0).t()) / (total * total);
+  if (chance == 1.0) return kNaN;
+  return (proportion_correct(table) - chance) / (1.0 - chance);
+}
+
+arma::vec frequency_bias(const arma::umat& table) {
+  check_table("frequency_bias", table);
+  const arma::mat t = arma::conv_to<arma::mat>::from(table);
+  return arma::vec(arma::sum(t, 1)) / arma::vec(arma::sum(t, 0).t());
+}
+
+Interval block_bootstrap(const std::vector<int>& block_of_case,
+                         const std::function<double(const std::vector<std::size_t>& case_indices)>& statistic,
+                         int resamples, double level, std::uint64_t seed) {
+  if (block_of_case.empty()) throw InputError("block_bootstrap: no case to resample");
+  if (resamples < 1) throw InputError("block_bootstrap: resamples must be at least 1; found " + std::to_string(resamples));
+  if (!(level > 0.0 && level < 1.0)) {
+    throw InputError("block_bootstrap: level must be in (0, 1); found " + std::to_string(level));
+  }
+  // Blocks in ascending label order, so the draw depends only on the labels.
+  std::map<int, std::vector<std::size_t>> by_label;
+  for (std::size_t i = 0; i < block_of_case.size(); ++i) by_label[block_of_case[i]].push_back(i);
+  std::vector<const std::vector<std::size_t>*> blocks;
+  for (const auto& [label, cases] : by_label) blocks.push_back(&cases);
+
+  std::vector<std::size_t> all(block_of_case.size());
+  std::iota(all.begin(), all.end(), std::size_t{0});
+  Interval interval{statistic(all), kNaN, kNaN, 0};
+
+  std::mt19937_64 rng(seed);
+  std::vector<double> values;
+  values.reserve(static_cast<std::size_t>(resamples));
+  std::vector<std::size_t> cases;
+  for (int r = 0; r < resamples; ++r) {
+    cases.clear();
+    for (std::size_t b = 0; b < blocks.size(); ++b) {
+      const auto& block = *blocks[uniform_below(rng, blocks.size())];
+      cases.insert(cases.end(), block.begin(), block.end());
+    }
+    const double value = statistic(cases);
+    if (std::isfinite(value)) values.push_back(value);
+  }
+  interval.finite_resamples = values.size();
+  if (!values.empty()) {
+    std::sort(values.begin(), values.end());
+    interval.lower = sorted_quantile(values, (1.0 - level) / 2.0);
+    interval.upper = sorted_quantile(values, (1.0 + level) / 2.0);
+  }
+  return interval;
+}
+
+}  // namespace isohypse

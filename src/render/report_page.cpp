@@ -1,0 +1,274 @@
+// Rendering a verification report: a self-contained HTML page with inline
+// SVG (no scripts, fonts or network), and a short text for the terminal.
+#include <algorithm>
+#include <cmath>
+#include <vector>
+#include <cstdio>
+#include <map>
+#include <sstream>
+
+#include "isohypse/render/report_page.hpp"
+
+#include "isohypse/base/calendar.hpp"
+#include "isohypse/base/vocabulary.hpp"
+
+namespace isohypse {
+
+namespace {
+
+using json = nlohmann::json;
+
+// Colours and escaping come from the shared vocabulary (base/vocabulary.hpp).
+std::string colour_of(const std::string& state, const json& states) {
+  return state_colour(states.get<std::vector<std::string>>(), state);
+}
+
+std::string esc(const std::string& s) { return html_escape(s); }
+
+std::string fmt(const json& v, const char* f = "%.2f") {
+  if (!v.is_number()) return "&ndash;";
+  char b[32];
+  std::snprintf(b, sizeof b, f, v.get<double>());
+  return b;
+}
+
+std::string interval_text(const json& i) {
+  return fmt(i["estimate"]) + " <small>(" + fmt(i["lower"]) + " to " + fmt(i["upper"]) + ")</small>";
+}
+
+// A line chart of series y(x); y may be null.
+std::string line_chart(const std::string& title, const std::vector<std::pair<std::string, std::vector<std::pair<double, json>>>>& series,
+                       double ymin, double ymax, const std::string& xlabel) {
+  const double W = 640, H = 280, L = 50, R = 130, T = 30, B = 40;
+  double xmax = 1;
+  for (const auto& s : series)
+    for (const auto& [x, y] : s.second) xmax = std::max(xmax, x);
+  auto X = [&](double x) { return L + (W - L - R) * x / xmax; };
+  auto Y = [&](double y) { return T + (H - T - B) * (1 - (y - ymin) / (ymax - ymin)); };
+  std::ostringstream o;
+  o << "<svg class=\"chart\" viewBox=\"0 0 " << W << " " << H << "\" width=\"" << W << "\" height=\"" << H
+    << "\" role=\"img\" aria-label=\"" << esc(title) << "\">";
+  o << "<text x=\"" << L << "\" y=\"18\" font-weight=\"bold\">" << esc(title) << "</text>";
+  for (int i = 0; i <= 4; ++i) {
+    double y = ymin + (ymax - ymin) * i / 4;
+    o << "<line x1=\"" << L << "\" x2=\"" << W - R << "\" y1=\"" << Y(y) << "\" y2=\"" << Y(y)
+      << "\" stroke=\"#ddd\"/><text x=\"" << L - 6 << "\" y=\"" << Y(y) + 4 << "\" text-anchor=\"end\">" << fmt(json(y))
+      << "</text>";
+  }
+  for (int i = 0; i <= 5; ++i) {
+    double x = xmax * i / 5;
+    o << "<text x=\"" << X(x) << "\" y=\"" << H - B + 16 << "\" text-anchor=\"middle\">" << fmt(json(x), "%.0f")
+      << "</text>";
+  }
+  o << "<text x=\"" << (L + W - R) / 2 << "\" y=\"" << H - 6 << "\" text-anchor=\"middle\">" << esc(xlabel) << "</text>";
+  if (ymin < 0 && ymax > 0)
+    o << "<line x1=\"" << L << "\" x2=\"" << W - R << "\" y1=\"" << Y(0) << "\" y2=\"" << Y(0) << "\" stroke=\"#888\"/>";
+  int si = 0;
+  for (const auto& [name, pts] : series) {
+    std::string col = series_colour(si);
+    o << "<polyline class=\"series\" fill=\"none\" stroke=\"" << col << "\" stroke-width=\"2\" points=\"";
+    for (const auto& [x, y] : pts)
+      if (y.is_number()) o << X(x) << "," << Y(std::clamp(y.get<double>(), ymin, ymax)) << " ";
+    o << "\"/><text x=\"" << W - R + 8 << "\" y=\"" << T + 16 * si + 10 << "\" fill=\"" << col << "\">" << esc(name)
+      << "</text>";
+    ++si;
+  }
+  o << "</svg>";
+  return o.str();
+}
+
+std::string reliability_chart(const json& windows) {
+  const double S = 300, M = 40;
+  std::ostringstream o;
+  o << "<svg class=\"chart\" viewBox=\"0 0 " << S + 150 << " " << S + 20 << "\" width=\"" << S + 150 << "\" height=\""
+    << S + 20 << "\" role=\"img\" aria-label=\"reliability diagram\">";
+  auto P = [&](double v) { return M + (S - 2 * M) * v; };
+  auto Q = [&](double v) { return S - M - (S - 2 * M) * v; };
+  o << "<text x=\"" << M << "\" y=\"18\" font-weight=\"bold\">Reliability (all states pooled)</text>";
+  o << "<line x1=\"" << P(0) << "\" y1=\"" << Q(0) << "\" x2=\"" << P(1) << "\" y2=\"" << Q(1)
+    << "\" stroke=\"#888\" stroke-dasharray=\"4 3\"/>";
+  o << "<rect x=\"" << P(0) << "\" y=\"" << Q(1) << "\" width=\"" << P(1) - P(0) << "\" height=\"" << Q(0) - Q(1)
+    << "\" fill=\"none\" stroke=\"#444\"/>";
+  o << "<text x=\"" << (P(0) + P(1)) / 2 << "\" y=\"" << S - 8 << "\" text-anchor=\"middle\">forecast probability</text>";
+  o << "<text x=\"12\" y=\"" << (Q(0) + Q(1)) / 2 << "\" transform=\"rotate(-90 12 " << (Q(0) + Q(1)) / 2
+    << ")\" text-anchor=\"middle\">observed frequency</text>";
+  int wi = 0;
+  for (const auto& w : windows) {
+    std::string col = series_colour(wi);
+    o << "<polyline class=\"series\" fill=\"none\" stroke=\"" << col << "\" stroke-width=\"2\" points=\"";
+    for (const auto& b : w["reliability"])
+      if (b["count"].get<int>() >= 5 && b["mean_forecast"].is_number())
+        o << P(b["mean_forecast"].get<double>()) << "," << Q(b["observed_frequency"].get<double>()) << " ";
+    o << "\"/><text x=\"" << S + 4 << "\" y=\"" << 40 + 16 * wi << "\" fill=\"" << col << "\">days "
+      << w["first_lead_days"] << "-" << w["last_lead_days"] << "</text>";
+    ++wi;
+  }
+  o << "</svg>";
+  return o.str();
+}
+
+// Observed sequence (top row) against the most likely regime of guidance
+// issued `lead` days before each date.
+std::string sequence_chart(const json& rep) {
+  const json& states = rep["states"];
+  const json& obs = rep["sequence"]["observed"];
+  std::map<std::string, int> day_index;
+  for (std::size_t i = 0; i < obs.size(); ++i) day_index[obs[i][0]] = static_cast<int>(i);
+  const std::vector<int> leads = {1, 3, 5, 7, 10, 14, 21, 28};
+  // (lead, day) -> most likely, from the guidance issued lead days before.
+  std::map<std::pair<int, int>, std::string> cell;
+  for (const auto& g : rep["sequence"]["guidance"]) {
+    Date issue = parse_date(g["issue_date"].get<std::string>(), Calendar::ProlepticGregorian);
+    for (const auto& e : g["most_likely"]) {
+      int lead = e[0];
+      if (std::find(leads.begin(), leads.end(), lead) == leads.end()) continue;
+      auto it = day_index.find(to_string(add_days(issue, lead)));
+      if (it != day_index.end()) cell[{lead, it->second}] = e[1];
+    }
+  }
+  const double cw = std::max(2.0, std::min(8.0, 900.0 / std::max<std::size_t>(1, obs.size()))), rh = 16, L = 90;
+  const double W = L + cw * obs.size() + 10, H = rh * (leads.size() + 1) + 60;
+  std::ostringstream o;
+  o << "<svg class=\"chart\" viewBox=\"0 0 " << W << " " << H << "\" width=\"" << W << "\" height=\"" << H
+    << "\" role=\"img\" aria-label=\"observed sequence against guidance\">";
+  o << "<text x=\"" << L - 6 << "\" y=\"" << 12 + rh * 0.7 << "\" text-anchor=\"end\">observed</text>";
+  for (std::size_t i = 0; i < obs.size(); ++i)
+    o << "<rect x=\"" << L + cw * i << "\" y=\"12\" width=\"" << cw << "\" height=\"" << rh - 2 << "\" fill=\""
+      << colour_of(obs[i][1], states) << "\"><title>" << obs[i][0].get<std::string>() << " "
+      << obs[i][1].get<std::string>() << "</title></rect>";
+  for (std::size_t r = 0; r < leads.size(); ++r) {
+    double y = 12 + rh * (r + 1);
+    o << "<text x=\"" << L - 6 << "\" y=\"" << y + rh * 0.7 << "\" text-anchor=\"end\">lead " << leads[r] << " d</text>";
+    for (std::size_t i = 0; i < obs.size(); ++i) {
+      auto it = cell.find({leads[r], static_cast<int>(i)});
+      if (it == cell.end()) continue;
+      o << "<rect x=\"" << L + cw * i << "\" y=\"" << y << "\" width=\"" << cw << "\" height=\"" << rh - 2
+        << "\" fill=\"" << colour_of(it->second, states) << "\"/>";
+    }
+  }
+  double ly = 12 + rh * (leads.size() + 1) + 20;
+  double lx = L;
+  for (const auto& s : states) {
+    o << "<rect x=\"" << lx << "\" y=\"" << ly - 10 << "\" width=\"12\" height=\"12\" fill=\""
+      << colour_of(s, states) << "\"/><text x=\"" << lx + 16 << "\" y=\"" << ly << "\">" << esc(s) << "</text>";
+    lx += 40 + 8 * s.get<std::string>().size();
+  }
+  if (!obs.empty())
+    o << "<text x=\"" << L << "\" y=\"" << H - 6 << "\">" << obs.front()[0].get<std::string>() << "</text><text x=\""
+      << W - 10 << "\" y=\"" << H - 6 << "\" text-anchor=\"end\">" << obs.back()[0].get<std::string>() << "</text>";
+  o << "</svg>";
+  return o.str();
+}
+
+}  // namespace
+
+std::string verification_html(const json& rep) {
+  std::ostringstream o;
+  const json& states = rep["states"];
+  o << "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>isohypse verification "
+    << rep["period"]["from"].get<std::string>() << " to " << rep["period"]["to"].get<std::string>()
+    << "</title><style>body{font-family:sans-serif;margin:1.5em;max-width:1100px;color:#222}"
+       "table{border-collapse:collapse;margin:.5em 0}td,th{border:1px solid #ccc;padding:3px 8px;text-align:right}"
+       "th{background:#f3f3f3}td.l,th.l{text-align:left}.caution{background:#fff4e0;border-left:4px solid #b8860b;"
+       "padding:.6em 1em}svg text{font-size:12px;font-family:sans-serif}small{color:#666}</style></head><body>";
+  o << "<h1>Regime guidance post-mortem</h1><p class=\"caution\">" << esc(rep["caution"].get<std::string>()) << "</p>";
+  o << "<p>Valid dates " << rep["period"]["from"].get<std::string>() << " to " << rep["period"]["to"].get<std::string>()
+    << "; " << rep["guidance"]["files"] << " guidance issues (" << rep["guidance"]["first_issue"].get<std::string>()
+    << " to " << rep["guidance"]["last_issue"].get<std::string>() << "); " << rep["cases"]
+    << " forecast-observation pairs; observations from " << esc(rep["observations"]["source"].get<std::string>())
+    << ". Intervals: " << fmt(json(100 * rep["bootstrap"]["confidence"].get<double>()), "%.0f")
+    << "% block bootstrap over issue dates.</p>";
+  o << "<h2>Regimes</h2><table><tr><th class=\"l\">id</th><th class=\"l\">name</th><th>climatological frequency</th>"
+       "<th>false alarms</th></tr>";
+  for (const auto& r : rep["regimes"])
+    o << "<tr><td class=\"l\" style=\"color:" << colour_of(r["id"], states) << "\">" << r["id"].get<std::string>()
+      << "</td><td class=\"l\">" << esc(r["name"].get<std::string>()) << "</td><td>"
+      << fmt(r["climatological_frequency"]) << "</td><td>" << r["false_alarms"] << "</td></tr>";
+  o << "</table>";
+  o << "<h2>Skill by window</h2><table><tr><th>lead days</th><th>cases</th><th>hit rate of the most likely regime</th>"
+       "<th>Heidke skill</th><th>multi-category Brier skill vs climatology</th></tr>";
+  for (const auto& w : rep["windows"])
+    o << "<tr><td>" << w["first_lead_days"] << "&ndash;" << w["last_lead_days"] << "</td><td>" << w["cases"]
+      << "</td><td>" << interval_text(w["hit_rate"]) << "</td><td>" << interval_text(w["heidke"]) << "</td><td>"
+      << interval_text(w["multicategory_brier_skill"]) << "</td></tr>";
+  o << "</table>";
+  std::vector<std::pair<double, json>> hit, mcbss, hss;
+  for (const auto& l : rep["by_lead"]) {
+    double x = l["lead_days"].get<double>();
+    hit.emplace_back(x, l["hit_rate"]);
+    mcbss.emplace_back(x, l["multicategory_brier_skill"]);
+    hss.emplace_back(x, l["heidke"]);
+  }
+  o << "<h2>Skill against lead</h2>"
+    << line_chart("Skill against lead", {{"hit rate", hit}, {"Heidke", hss}, {"Brier skill", mcbss}}, -0.2, 1.0,
+                  "lead (days)");
+  o << "<h2>Reliability</h2>" << reliability_chart(rep["windows"]);
+  o << "<h2>Observed sequence and the guidance issued before it</h2>" << sequence_chart(rep);
+  o << "<h2>Episodes of at least " << rep["episodes"]["min_days"] << " days</h2><p>caught "
+    << rep["episodes"]["caught"] << ", missed " << rep["episodes"]["missed"] << ", false alarms "
+    << rep["episodes"]["false_alarms"]
+    << " (caught: the most likely regime, or a probability of at least 0.5, on the onset day)</p>"
+       "<table><tr><th class=\"l\">regime</th><th class=\"l\">onset</th><th class=\"l\">end</th><th>days</th>"
+       "<th>caught</th><th>longest lead (days)</th></tr>";
+  for (const auto& e : rep["episodes"]["list"])
+    o << "<tr><td class=\"l\" style=\"color:" << colour_of(e["regime"], states) << "\">" << e["regime"].get<std::string>()
+      << " " << esc(e["name"].get<std::string>()) << "</td><td class=\"l\">" << e["onset"].get<std::string>()
+      << "</td><td class=\"l\">" << e["end"].get<std::string>() << "</td><td>" << e["days"] << "</td><td>"
+      << (e["caught"].get<bool>() ? "yes" : "no") << "</td><td>"
+      << (e["longest_lead_days"].is_null() ? "&ndash;" : std::to_string(e["longest_lead_days"].get<int>()))
+      << "</td></tr>";
+  o << "</table><h2>Frequency bias (forecast / observed days)</h2><table><tr><th>lead days</th>";
+  for (const auto& s : states) o << "<th>" << s.get<std::string>() << "</th>";
+  o << "</tr>";
+  for (const auto& w : rep["windows"]) {
+    o << "<tr><td>" << w["first_lead_days"] << "&ndash;" << w["last_lead_days"] << "</td>";
+    for (const auto& s : states) o << "<td>" << fmt(w["frequency_bias"][s.get<std::string>()]["bias"]) << "</td>";
+    o << "</tr>";
+  }
+  // Months in season order: the one after the largest gap first (Nov, Dec, Jan, ...).
+  std::vector<int> months;
+  for (const auto& [m, fb] : rep["frequency_bias_by_month"].items()) months.push_back(std::stoi(m));
+  std::sort(months.begin(), months.end());
+  if (months.size() > 1) {
+    std::size_t start = 0;
+    int gap = months.front() + 12 - months.back();
+    for (std::size_t i = 1; i < months.size(); ++i)
+      if (months[i] - months[i - 1] > gap) {
+        gap = months[i] - months[i - 1];
+        start = i;
+      }
+    std::rotate(months.begin(), months.begin() + static_cast<long>(start), months.end());
+  }
+  static const char* kMonth[] = {"Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"};
+  for (int mo : months) {
+    const json& fb = rep["frequency_bias_by_month"][std::to_string(mo)];
+    o << "<tr><td>" << kMonth[mo - 1] << "</td>";
+    for (const auto& s : states) o << "<td>" << fmt(fb[s.get<std::string>()]["bias"]) << "</td>";
+    o << "</tr>";
+  }
+  o << "</table><p><small>isohypse " << esc(rep["provenance"]["version"].get<std::string>()) << ", regime model "
+    << esc(rep["provenance"]["model"]["sha256"].get<std::string>().substr(0, 12)) << ", created "
+    << rep["provenance"]["created"].get<std::string>() << "</small></p></body></html>\n";
+  return o.str();
+}
+
+std::string verification_text(const json& rep) {
+  std::ostringstream o;
+  char line[200];
+  o << "Verification of " << rep["guidance"]["files"] << " guidance issues, valid "
+    << rep["period"]["from"].get<std::string>() << " to " << rep["period"]["to"].get<std::string>() << " ("
+    << rep["cases"] << " pairs)\n\nlead days   cases  hit rate  Heidke  Brier skill vs climatology\n";
+  for (const auto& w : rep["windows"]) {
+    auto e = [](const json& i) { return i["estimate"].is_number() ? i["estimate"].get<double>() : NAN; };
+    std::snprintf(line, sizeof line, "%3d-%-3d   %7d  %8.2f  %6.2f  %6.2f\n", w["first_lead_days"].get<int>(),
+                  w["last_lead_days"].get<int>(), w["cases"].get<int>(), e(w["hit_rate"]), e(w["heidke"]),
+                  e(w["multicategory_brier_skill"]));
+    o << line;
+  }
+  o << "\nepisodes of " << rep["episodes"]["min_days"] << "+ days: caught " << rep["episodes"]["caught"] << ", missed "
+    << rep["episodes"]["missed"] << "; false alarms " << rep["episodes"]["false_alarms"] << "\n"
+    << rep["caution"].get<std::string>() << "\n";
+  return o.str();
+}
+
+}  // namespace isohypse
