@@ -43,6 +43,9 @@ int main(int argc, char** argv) {
   } catch (const NumericalError& e) {
     std::cerr << "isohypse: error: " << e.what() << "\n";
     return 4;
+  } catch (const InternalError& e) {
+    std::cerr << "isohypse: internal error (please report it): " << e.what() << "\n";
+    return 5;
   } catch (const std::exception& e) {
     std::cerr << "isohypse: internal error: " << e.what() << "\n";
     return 5;

@@ -1,4 +1,4 @@
-// Errors: the three kinds every stage throws. Messages name the file (or
+// Errors: the kinds every stage throws. Messages name the file (or
 // setting), the variable or dimension, and the expected against the found.
 // They are caught only at the boundaries: the CLI maps them to exit codes,
 // the HTTP service to a status and a JSON error body.
@@ -32,6 +32,14 @@ public:
 // A computation failed: a singular fit, an eigen-solver that did not
 // converge, too few days for the requested EOFs. CLI exit code 4.
 class NumericalError : public Error {
+public:
+  using Error::Error;
+};
+
+// A broken precondition inside the library (sizes that do not match between
+// two of its own steps, an index out of range): a bug, never the user's
+// input. CLI exit code 5, HTTP 500.
+class InternalError : public Error {
 public:
   using Error::Error;
 };
