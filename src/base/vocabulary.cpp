@@ -2,6 +2,9 @@
 
 #include <array>
 #include <cmath>
+#include <sstream>
+
+#include "isohypse/base/error.hpp"
 
 namespace isohypse {
 
@@ -20,6 +23,22 @@ constexpr std::array<const char*, 6> kSeriesColours = {"#1b1b1b", "#6b6b6b", "#8
 }  // namespace
 
 std::vector<LeadWindow> default_windows() { return {{1, 3}, {4, 7}, {8, 14}, {15, 28}, {29, 45}}; }
+
+std::vector<LeadWindow> parse_windows(const std::string& text) {
+  std::vector<LeadWindow> out;
+  std::stringstream ss(text);
+  std::string item;
+  while (std::getline(ss, item, ',')) {
+    int a = 0, b = 0;
+    char dash = 0;
+    std::stringstream is(item);
+    if (!(is >> a >> dash >> b) || dash != '-' || a < 0 || b < a)
+      throw InputError("--windows: '" + item + "' is not a lead range FIRST-LAST (e.g. 1-3,4-7,8-14)");
+    out.emplace_back(a, b);
+  }
+  if (out.empty()) throw InputError("--windows: no windows given");
+  return out;
+}
 
 std::vector<std::string> state_list(const std::vector<std::string>& regime_ids) {
   std::vector<std::string> s = regime_ids;

@@ -55,7 +55,7 @@ void add_classify(CLI::App& app) {
     cfg.lag = a->lag;
     cfg.weights = Weighting::parse(a->weights);
     if (!a->issue.empty()) cfg.issue_date = parse_date(a->issue, Calendar::ProlepticGregorian, "--issue-date");
-    if (!a->windows.empty()) cfg.windows = ClassifyConfig::parse_windows(a->windows);
+    if (!a->windows.empty()) cfg.windows = parse_windows(a->windows);
     if (a->refc_window < 0 || a->refc_window > 60) throw InputError("--reforecast-window must lie in 0..60 days");
     if (a->smoothing < 0 || a->smoothing > 15) throw InputError("--lead-smoothing must lie in 0..15 days");
     cfg.reforecast_window_days = a->refc_window;

@@ -38,7 +38,7 @@ void add_verify(CLI::App& app) {
     if (!a->from.empty()) cfg.from = parse_date(a->from, Calendar::ProlepticGregorian, "--from");
     if (!a->to.empty()) cfg.to = parse_date(a->to, Calendar::ProlepticGregorian, "--to");
     if (cfg.from && cfg.to && days_between(*cfg.from, *cfg.to) < 0) throw InputError("--from is after --to");
-    if (!a->windows.empty()) cfg.windows = ClassifyConfig::parse_windows(a->windows);
+    if (!a->windows.empty()) cfg.windows = parse_windows(a->windows);
     if (a->resamples < 10) throw InputError("--bootstrap needs at least 10 resamples");
     cfg.bootstrap_resamples = a->resamples;
     RegimeModel model = read_regime_model(a->model);

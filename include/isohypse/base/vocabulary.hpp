@@ -39,6 +39,9 @@ using LeadWindow = std::pair<int, int>;
 // The default lead windows of guidance and verification: days 1-3, 4-7,
 // 8-14, 15-28 and 29-45.
 std::vector<LeadWindow> default_windows();
+// "1-3,4-7,8-14": lead windows FIRST-LAST separated by commas. Throws
+// InputError naming --windows and the item that is not a range.
+std::vector<LeadWindow> parse_windows(const std::string& text);
 
 // The list of states: the regime ids, then kNoRegimeState.
 std::vector<std::string> state_list(const std::vector<std::string>& regime_ids);

@@ -35,9 +35,6 @@ struct ClassifyConfig {
   int reforecast_window_days = 7;         // reforecasts initialised within +-N days of the year
   int lead_smoothing_days = 5;            // running mean of the model climate along lead
   int threads = 0;                        // members read and labelled at once; 0 = every core
-
-  // "1-3,4-7,8-14": throws InputError naming the flag.
-  static std::vector<std::pair<int, int>> parse_windows(const std::string& text);
 };
 
 // Where classify's time went, in seconds of wall time (for --timings and the

@@ -72,22 +72,6 @@ struct ModelClimateCache {
 
 }  // namespace
 
-std::vector<std::pair<int, int>> ClassifyConfig::parse_windows(const std::string& text) {
-  std::vector<std::pair<int, int>> out;
-  std::stringstream ss(text);
-  std::string item;
-  while (std::getline(ss, item, ',')) {
-    int a = 0, b = 0;
-    char dash = 0;
-    std::stringstream is(item);
-    if (!(is >> a >> dash >> b) || dash != '-' || a < 0 || b < a)
-      throw InputError("--windows: '" + item + "' is not a lead range FIRST-LAST (e.g. 1-3,4-7,8-14)");
-    out.emplace_back(a, b);
-  }
-  if (out.empty()) throw InputError("--windows: no windows given");
-  return out;
-}
-
 json classify_forecasts(const RegimeModel& model, const ClassifyConfig& cfg, const ClassifyProgress& progress,
                         ClassifyTimings* timings) {
   // Every BLAS call here is small (the climatology of 46 days, one member's

@@ -1,0 +1,29 @@
+// Option builders: the flags several sub-commands share, bound straight to
+// the fields of a stage's config (no copying from an argument struct), with
+// one help text and one parser each. The config must outlive the parse (keep
+// it in a shared_ptr captured by the sub-command's callback).
+#pragma once
+
+#include <CLI/CLI.hpp>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "isohypse/base/calendar.hpp"
+#include "isohypse/base/vocabulary.hpp"
+#include "isohypse/numerics/ensemble_stats.hpp"
+
+namespace isohypse::cli {
+
+// --windows "1-3,4-7": lead windows (parse_windows).
+CLI::Option* add_windows_option(CLI::App* sub, std::vector<LeadWindow>& windows);
+// --variable NAME: the height variable (empty: found automatically).
+CLI::Option* add_variable_option(CLI::App* sub, std::string& variable, const std::string& of_what = "Height");
+// --threads N: 0 is every core; the stage's config validation checks the range.
+CLI::Option* add_threads_option(CLI::App* sub, int& threads);
+// --weights equal | linear | exp:DAYS (Weighting::parse).
+CLI::Option* add_weights_option(CLI::App* sub, Weighting& weights);
+// A date flag, YYYY-MM-DD in the real (proleptic Gregorian) calendar.
+CLI::Option* add_date_option(CLI::App* sub, const std::string& flag, std::optional<Date>& date, const std::string& help);
+
+}  // namespace isohypse::cli
