@@ -29,7 +29,7 @@ TEST_CASE("classifiability index of METHODS.md section 3 (Michelangeli et al. 19
   CHECK(partition_similarity(sets[0], sets[1]) == doctest::Approx(0.8));
   CHECK(anomaly_correlation({1, 0}, {0.6, 0.8}) == doctest::Approx(0.6));
   CHECK_THROWS_AS(anomaly_correlation({0, 0}, {1, 0}), NumericalError);
-  CHECK_THROWS_AS(classifiability({sets[0]}), InputError);
+  CHECK_THROWS_AS(classifiability({sets[0]}), InternalError);
 }
 
 namespace {
@@ -122,5 +122,5 @@ TEST_CASE("red-noise surrogate shape and seed") {
   CHECK(arma::size(a) == arma::size(pcs));
   CHECK(arma::approx_equal(a, red_noise_surrogate(pcs, consecutive, 1), "absdiff", 0.0));
   CHECK_FALSE(arma::approx_equal(a, red_noise_surrogate(pcs, consecutive, 2), "absdiff", 1e-6));
-  CHECK_THROWS_AS(red_noise_surrogate(pcs, std::vector<char>(10, 1), 1), InputError);
+  CHECK_THROWS_AS(red_noise_surrogate(pcs, std::vector<char>(10, 1), 1), InternalError);
 }

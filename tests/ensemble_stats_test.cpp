@@ -77,7 +77,7 @@ TEST_CASE("ensemble: weighting parse and formulas") {
   CHECK(lin2[0] == doctest::Approx(0.25));
   CHECK(lin2[1] == doctest::Approx(1.0));
   CHECK(initialisation_weights({}, Weighting::parse("linear")).empty());
-  CHECK_THROWS_AS(initialisation_weights({0, -1}, Weighting{}), InputError);
+  CHECK_THROWS_AS(initialisation_weights({0, -1}, Weighting{}), InternalError);
   CHECK_THROWS_AS(initialisation_weights({0}, Weighting{WeightScheme::Exponential, 0.0}), InputError);
 }
 
@@ -201,7 +201,7 @@ TEST_CASE("ensemble: current age of the state at each offset (worked by hand)") 
   const auto first_day = current_age(tracks, 2, -1, -1, 3);
   REQUIRE(first_day.size() == 1);
   CHECK(same(first_day[0].probability, arma::vec{1, 0, 0}));
-  CHECK_THROWS_AS(current_age(tracks, 2, 0, 5, 0), InputError);
+  CHECK_THROWS_AS(current_age(tracks, 2, 0, 5, 0), InternalError);
 }
 
 TEST_CASE("ensemble: lasting probabilities on a hand-made set (worked by hand)") {
@@ -226,8 +226,8 @@ TEST_CASE("ensemble: lasting probabilities on a hand-made set (worked by hand)")
   CHECK(d.horizons == std::vector<int>{3, 5, 7});
   CHECK(same(d.cases.row(0), arma::rowvec{7, 5, 3}));
   CHECK(same(d.probability.row(0), arma::rowvec{1, 1, 1}));
-  CHECK_THROWS_AS(lasting_probability(tracks, 2, {}), InputError);
-  CHECK_THROWS_AS(lasting_probability(tracks, 2, {3, 0}), InputError);
+  CHECK_THROWS_AS(lasting_probability(tracks, 2, {}), InternalError);
+  CHECK_THROWS_AS(lasting_probability(tracks, 2, {3, 0}), InternalError);
 }
 
 TEST_CASE("ensemble: current run length of an observed sequence") {
@@ -238,22 +238,22 @@ TEST_CASE("ensemble: current run length of an observed sequence") {
   CHECK(current_run_length({2}, {0}) == 1);
   CHECK(current_run_length({3, 3, 3}, {1, 1, 1}) == 3);  // the first flag does not matter
   CHECK(current_run_length({}, {}) == 0);
-  CHECK_THROWS_AS(current_run_length({0, 1}, {0}), InputError);
-  CHECK_THROWS_AS(current_run_length({0, -2}, {0, 1}), InputError);
+  CHECK_THROWS_AS(current_run_length({0, 1}, {0}), InternalError);
+  CHECK_THROWS_AS(current_run_length({0, -2}, {0, 1}), InternalError);
 }
 
 TEST_CASE("ensemble: bad inputs are refused naming the function and values") {
   const std::vector<MemberTrack> ok = {track(1, 0, {0, 1})};
   CHECK_THROWS_WITH_AS(daily_probabilities(ok, 1, 0, 1), doctest::Contains("daily_probabilities: n_states"),
-                       InputError);
+                       InternalError);
   CHECK_THROWS_WITH_AS(window_summary(ok, 2, 2, 1), doctest::Contains("window_summary: first day offset 2"),
-                       InputError);
+                       InternalError);
   CHECK_THROWS_WITH_AS(daily_probabilities({track(1, -3, {0, 2})}, 2, 0, 1),
-                       doctest::Contains("has label 2 at day offset -2; expected 0..1"), InputError);
-  CHECK_THROWS_AS(current_age({track(1, 0, {-1})}, 2, 0, 1), InputError);
+                       doctest::Contains("has label 2 at day offset -2; expected 0..1"), InternalError);
+  CHECK_THROWS_AS(current_age({track(1, 0, {-1})}, 2, 0, 1), InternalError);
   CHECK_THROWS_WITH_AS(lasting_probability({track(0, 0, {0})}, 2), doctest::Contains("lasting_probability"),
-                       InputError);
-  CHECK_THROWS_AS(window_summary({track(-1, 0, {0})}, 2, 0, 0), InputError);
-  CHECK_THROWS_AS(window_summary({track(std::nan(""), 0, {0})}, 2, 0, 0), InputError);
-  CHECK_THROWS_AS(current_age(ok, 2, 3, 2), InputError);
+                       InternalError);
+  CHECK_THROWS_AS(window_summary({track(-1, 0, {0})}, 2, 0, 0), InternalError);
+  CHECK_THROWS_AS(window_summary({track(std::nan(""), 0, {0})}, 2, 0, 0), InternalError);
+  CHECK_THROWS_AS(current_age(ok, 2, 3, 2), InternalError);
 }

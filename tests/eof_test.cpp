@@ -130,7 +130,7 @@ TEST_CASE("EOF analysis refuses bad input with sizes in the message") {
   CHECK_THROWS_AS(compute_eofs(nan_data, all_consecutive(3), {}), DataError);
   CHECK_THROWS_AS(compute_eofs(three_day_example().cols(0, 1), all_consecutive(2), {}),
                   NumericalError);
-  CHECK_THROWS_AS(compute_eofs(three_day_example(), all_consecutive(2), {}), InputError);
+  CHECK_THROWS_AS(compute_eofs(three_day_example(), all_consecutive(2), {}), InternalError);
   try {
     compute_eofs(three_day_example(), all_consecutive(3), with(EofOptions::Method::Exact, 3));
     FAIL("expected NumericalError");

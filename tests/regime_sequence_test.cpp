@@ -52,6 +52,6 @@ TEST_CASE("a state never left from has NaN transitions and bad labels are refuse
   CHECK(std::isnan(s.residence_days[2]));
   CHECK(s.runs[2].runs.empty());
   CHECK(s.runs[2].mean == 0.0);
-  CHECK_THROWS_AS(sequence_stats({0, 3}, {0, 1}, 3), InputError);
-  CHECK_THROWS_AS(sequence_stats({0, 1}, {0}, 3), InputError);
+  CHECK_THROWS_AS(sequence_stats({0, 3}, {0, 1}, 3), InternalError);
+  CHECK_THROWS_AS(sequence_stats({0, 1}, {0}, 3), InternalError);
 }

@@ -89,13 +89,13 @@ TEST_CASE("scores: input contracts of the binary scores") {
   const arma::vec o2 = {0, 1};
   try {
     brier_score(p3, o2);
-    FAIL("expected InputError");
-  } catch (const InputError& e) {
+    FAIL("expected InternalError");
+  } catch (const InternalError& e) {
     const std::string what = e.what();
     CHECK(what.find("3 probabilities") != std::string::npos);
     CHECK(what.find("2 outcomes") != std::string::npos);
   }
-  CHECK_THROWS_AS(brier_score(arma::vec{}, arma::vec{}), InputError);
+  CHECK_THROWS_AS(brier_score(arma::vec{}, arma::vec{}), InternalError);
   CHECK_THROWS_AS(brier_score(arma::vec{1.2}, arma::vec{1}), InputError);
   CHECK_THROWS_AS(brier_score(arma::vec{arma::datum::nan}, arma::vec{1}), InputError);
   CHECK_THROWS_AS(roc_area(arma::vec{0.5}, arma::vec{0.5}), InputError);
@@ -129,8 +129,8 @@ TEST_CASE("scores: multi-category Brier score") {
 
   CHECK_THROWS_AS(multicategory_brier(arma::rowvec{0.5, 0.5}, 2), InputError);
   CHECK_THROWS_AS(multicategory_brier(arma::rowvec{0.5, 0.5}, -1), InputError);
-  CHECK_THROWS_AS(multicategory_brier(arma::rowvec{}, 0), InputError);
-  CHECK_THROWS_AS(mean_multicategory_brier(p, {1}), InputError);
+  CHECK_THROWS_AS(multicategory_brier(arma::rowvec{}, 0), InternalError);
+  CHECK_THROWS_AS(mean_multicategory_brier(p, {1}), InternalError);
   CHECK_THROWS_AS(mean_multicategory_brier(p, {1, 4}), InputError);
 }
 
@@ -183,8 +183,8 @@ TEST_CASE("scores: Heidke skill, frequency bias and proportion correct") {
   CHECK(b[1] == 0.0);
   CHECK(std::isinf(frequency_bias(arma::umat{{1, 0}, {1, 0}})[1]));
 
-  CHECK_THROWS_AS(heidke_skill(arma::umat(2, 3, arma::fill::ones)), InputError);
-  CHECK_THROWS_AS(proportion_correct(arma::umat(2, 2, arma::fill::zeros)), InputError);
+  CHECK_THROWS_AS(heidke_skill(arma::umat(2, 3, arma::fill::ones)), InternalError);
+  CHECK_THROWS_AS(proportion_correct(arma::umat(2, 2, arma::fill::zeros)), InternalError);
 }
 
 TEST_CASE("scores: contingency table orientation and checks") {
@@ -197,8 +197,8 @@ TEST_CASE("scores: contingency table orientation and checks") {
     for (arma::uword j = 0; j < 3; ++j) CHECK(t(i, j) == expected[i][j]);
   }
   CHECK(proportion_correct(t) == doctest::Approx(0.6));
-  CHECK_THROWS_AS(contingency({0, 1}, {0}, 2), InputError);
-  CHECK_THROWS_AS(contingency({}, {}, 2), InputError);
+  CHECK_THROWS_AS(contingency({0, 1}, {0}, 2), InternalError);
+  CHECK_THROWS_AS(contingency({}, {}, 2), InternalError);
   CHECK_THROWS_AS(contingency({0, 2}, {0, 1}, 2), InputError);
   CHECK_THROWS_AS(contingency({0, 1}, {0, -1}, 2), InputError);
   CHECK_THROWS_AS(contingency({0}, {0}, 0), InputError);

@@ -40,7 +40,7 @@ std::string format_table(const std::vector<RegimeCountRow>& table) {
 
 double anomaly_correlation(const arma::vec& a, const arma::vec& b) {
   if (a.n_elem != b.n_elem)
-    throw InputError("anomaly correlation: vectors of " + std::to_string(a.n_elem) + " and " +
+    throw InternalError("anomaly correlation: vectors of " + std::to_string(a.n_elem) + " and " +
                      std::to_string(b.n_elem) + " elements");
   const double na = arma::norm(a), nb = arma::norm(b);
   if (na == 0.0 || nb == 0.0)
@@ -50,10 +50,10 @@ double anomaly_correlation(const arma::vec& a, const arma::vec& b) {
 
 double partition_similarity(const arma::mat& P, const arma::mat& Q) {
   if (P.n_rows != Q.n_rows)
-    throw InputError("partition similarity: centroids of " + std::to_string(P.n_rows) + " and " +
+    throw InternalError("partition similarity: centroids of " + std::to_string(P.n_rows) + " and " +
                      std::to_string(Q.n_rows) + " dimensions");
   if (P.n_cols == 0 || Q.n_cols == 0)
-    throw InputError("partition similarity: a partition has no centroids");
+    throw InternalError("partition similarity: a partition has no centroids");
   double worst = arma::datum::inf;
   for (uword i = 0; i < P.n_cols; ++i) {
     double best = -arma::datum::inf;
@@ -67,7 +67,7 @@ double partition_similarity(const arma::mat& P, const arma::mat& Q) {
 ClassifiabilityResult classifiability(const std::vector<arma::mat>& sets) {
   const std::size_t n = sets.size();
   if (n < 2)
-    throw InputError("classifiability: needs at least 2 partitions, found " + std::to_string(n));
+    throw InternalError("classifiability: needs at least 2 partitions, found " + std::to_string(n));
   ClassifiabilityResult r;
   r.similarity.eye(n, n);
   for (std::size_t m = 0; m < n; ++m)
@@ -82,7 +82,7 @@ ClassifiabilityResult classifiability(const std::vector<arma::mat>& sets) {
 arma::mat red_noise_surrogate(const arma::mat& pcs, const std::vector<char>& consecutive,
                               std::uint64_t seed) {
   if (consecutive.size() != pcs.n_rows)
-    throw InputError("red-noise surrogate: " + std::to_string(pcs.n_rows) + " days but " +
+    throw InternalError("red-noise surrogate: " + std::to_string(pcs.n_rows) + " days but " +
                      std::to_string(consecutive.size()) + " consecutive-day flags");
   arma::mat out(arma::size(pcs));
   for (uword c = 0; c < pcs.n_cols; ++c) {
@@ -117,7 +117,7 @@ std::vector<RegimeCountRow> regime_count_table(const arma::mat& pcs,
                      std::to_string(opt.surrogates) + ", " + std::to_string(opt.restarts_per_run) +
                      " and " + std::to_string(opt.level));
   if (consecutive.size() != pcs.n_rows)
-    throw InputError(who + ": " + std::to_string(pcs.n_rows) + " days but " +
+    throw InternalError(who + ": " + std::to_string(pcs.n_rows) + " days but " +
                      std::to_string(consecutive.size()) + " consecutive-day flags");
 
   // Data set 0 is the data, 1..S the surrogates; points as columns.

@@ -21,15 +21,15 @@ std::string describe(const MemberTrack& t, std::size_t index) {
 
 void check_tracks(const char* fn, const std::vector<MemberTrack>& tracks, int n_states) {
   if (n_states < 2)
-    throw InputError(std::string(fn) + ": n_states must be >= 2, found " + std::to_string(n_states));
+    throw InternalError(std::string(fn) + ": n_states must be >= 2, found " + std::to_string(n_states));
   for (std::size_t m = 0; m < tracks.size(); ++m) {
     const MemberTrack& t = tracks[m];
     if (!std::isfinite(t.weight) || t.weight <= 0.0)
-      throw InputError(std::string(fn) + ": " + describe(t, m) + " has weight " + std::to_string(t.weight) +
+      throw InternalError(std::string(fn) + ": " + describe(t, m) + " has weight " + std::to_string(t.weight) +
                        "; expected a finite weight > 0");
     for (long long i = 0; i < static_cast<long long>(t.labels.size()); ++i)
       if (t.labels[i] < 0 || t.labels[i] >= n_states)
-        throw InputError(std::string(fn) + ": " + describe(t, m) + " has label " + std::to_string(t.labels[i]) +
+        throw InternalError(std::string(fn) + ": " + describe(t, m) + " has label " + std::to_string(t.labels[i]) +
                          " at day offset " + std::to_string(t.first_offset + i) + "; expected 0.." +
                          std::to_string(n_states - 1));
   }
@@ -37,7 +37,7 @@ void check_tracks(const char* fn, const std::vector<MemberTrack>& tracks, int n_
 
 void check_range(const char* fn, int first, int last) {
   if (first > last)
-    throw InputError(std::string(fn) + ": first day offset " + std::to_string(first) + " is after last " +
+    throw InternalError(std::string(fn) + ": first day offset " + std::to_string(first) + " is after last " +
                      std::to_string(last));
 }
 
@@ -131,7 +131,7 @@ std::string Weighting::to_string() const {
 std::vector<double> initialisation_weights(const std::vector<int>& ages_days, const Weighting& w) {
   for (std::size_t i = 0; i < ages_days.size(); ++i)
     if (ages_days[i] < 0)
-      throw InputError("initialisation_weights: age " + std::to_string(ages_days[i]) + " days at index " +
+      throw InternalError("initialisation_weights: age " + std::to_string(ages_days[i]) + " days at index " +
                        std::to_string(i) + "; expected >= 0");
   if (w.scheme == WeightScheme::Exponential && !(std::isfinite(w.timescale_days) && w.timescale_days > 0.0))
     throw InputError("initialisation_weights: exponential timescale " + std::to_string(w.timescale_days) +
@@ -230,7 +230,7 @@ std::vector<AgeDistribution> current_age(const std::vector<MemberTrack>& tracks,
                                          int last, int max_age) {
   check_tracks("current_age", tracks, n_states);
   check_range("current_age", first, last);
-  if (max_age < 1) throw InputError("current_age: max_age " + std::to_string(max_age) + "; expected >= 1");
+  if (max_age < 1) throw InternalError("current_age: max_age " + std::to_string(max_age) + "; expected >= 1");
   const auto [lo, hi] = covered_days(tracks, first, last);
   if (lo > hi) return {};
   const auto n_days = static_cast<arma::uword>(hi - lo + 1);
@@ -258,9 +258,9 @@ std::vector<AgeDistribution> current_age(const std::vector<MemberTrack>& tracks,
 LastingProbability lasting_probability(const std::vector<MemberTrack>& tracks, int n_states,
                                        const std::vector<int>& horizons) {
   check_tracks("lasting_probability", tracks, n_states);
-  if (horizons.empty()) throw InputError("lasting_probability: no horizons given; expected at least one");
+  if (horizons.empty()) throw InternalError("lasting_probability: no horizons given; expected at least one");
   for (const int n : horizons)
-    if (n < 1) throw InputError("lasting_probability: horizon " + std::to_string(n) + " days; expected >= 1");
+    if (n < 1) throw InternalError("lasting_probability: horizon " + std::to_string(n) + " days; expected >= 1");
   const arma::uword n_h = horizons.size();
   arma::mat lasted(n_states, n_h, arma::fill::zeros), weight(n_states, n_h, arma::fill::zeros);
   LastingProbability out{horizons, arma::mat(n_states, n_h), arma::mat(n_states, n_h, arma::fill::zeros)};
@@ -282,11 +282,11 @@ LastingProbability lasting_probability(const std::vector<MemberTrack>& tracks, i
 
 int current_run_length(const std::vector<int>& labels, const std::vector<char>& consecutive) {
   if (labels.size() != consecutive.size())
-    throw InputError("current_run_length: " + std::to_string(labels.size()) + " labels but " +
+    throw InternalError("current_run_length: " + std::to_string(labels.size()) + " labels but " +
                      std::to_string(consecutive.size()) + " consecutive flags; expected equal lengths");
   for (std::size_t i = 0; i < labels.size(); ++i)
     if (labels[i] < -1)
-      throw InputError("current_run_length: label " + std::to_string(labels[i]) + " at day " + std::to_string(i) +
+      throw InternalError("current_run_length: label " + std::to_string(labels[i]) + " at day " + std::to_string(i) +
                        "; expected >= 0, or -1 for unknown");
   if (labels.empty() || labels.back() == -1) return 0;
   int run = 1;

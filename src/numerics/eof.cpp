@@ -231,7 +231,7 @@ Decomposition randomized_eofs(const arma::fmat& X, const arma::vec& mean, double
 
 double lag1_autocorrelation(const arma::vec& x, const std::vector<char>& consecutive) {
   if (consecutive.size() != x.n_elem)
-    throw InputError("lag-1 autocorrelation: " + std::to_string(x.n_elem) + " values but " +
+    throw InternalError("lag-1 autocorrelation: " + std::to_string(x.n_elem) + " values but " +
                      std::to_string(consecutive.size()) + " consecutive-day flags");
   if (x.n_elem == 0) return 0.0;
   const double m = arma::mean(x);
@@ -263,7 +263,7 @@ EofResult compute_eofs(const arma::fmat& X, const std::vector<char>& consecutive
   const uword n_space = X.n_rows, n_time = X.n_cols;
   if (X.is_empty()) throw InputError("EOF analysis: the anomaly matrix is empty");
   if (consecutive.size() != n_time)
-    throw InputError("EOF analysis: " + std::to_string(n_time) + " days but " +
+    throw InternalError("EOF analysis: " + std::to_string(n_time) + " days but " +
                      std::to_string(consecutive.size()) + " consecutive-day flags");
   if (opt.max_count < 1) throw InputError("EOF analysis: max_count must be >= 1, found " +
                                           std::to_string(opt.max_count));
@@ -325,7 +325,7 @@ EofResult compute_eofs(const arma::fmat& X, const std::vector<char>& consecutive
 
 arma::mat project_onto_eofs(const arma::fmat& X, const arma::vec& mean, const arma::mat& eofs) {
   if (X.n_rows != mean.n_elem || X.n_rows != eofs.n_rows)
-    throw InputError("EOF projection: the data have " + std::to_string(X.n_rows) +
+    throw InternalError("EOF projection: the data have " + std::to_string(X.n_rows) +
                      " grid points, the stored mean " + std::to_string(mean.n_elem) +
                      " and the stored EOFs " + std::to_string(eofs.n_rows));
   require_finite(X, "EOF projection");

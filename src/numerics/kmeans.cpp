@@ -27,7 +27,7 @@ double sq_dist(const double* a, const double* b, uword d) {
 
 void require_points(const arma::mat& data, uword k, const char* who) {
   if (data.n_rows == 0)
-    throw InputError(std::string(who) + ": the points have no dimensions (0 x " +
+    throw InternalError(std::string(who) + ": the points have no dimensions (0 x " +
                      std::to_string(data.n_cols) + " matrix)");
   if (k < 1) throw InputError(std::string(who) + ": k must be >= 1, found " + std::to_string(k));
   if (k > data.n_cols)
@@ -347,7 +347,7 @@ KMeansResult kmeans_from(const arma::mat& data, const arma::mat& initial_centres
                          int max_iterations, double tolerance, LloydStep step) {
   require_points(data, initial_centres.n_cols, "k-means from given centres");
   if (initial_centres.n_rows != data.n_rows)
-    throw InputError("k-means from given centres: the points have " +
+    throw InternalError("k-means from given centres: the points have " +
                      std::to_string(data.n_rows) + " dimensions but the centres " +
                      std::to_string(initial_centres.n_rows));
   if (!initial_centres.is_finite())
@@ -361,7 +361,7 @@ KMeansResult kmeans_from(const arma::mat& data, const arma::mat& initial_centres
 std::vector<int> nearest_centroid(const arma::mat& data, const arma::mat& centroids) {
   if (centroids.n_cols == 0) throw InputError("nearest centroid: no centroids given");
   if (centroids.n_rows != data.n_rows)
-    throw InputError("nearest centroid: the points have " + std::to_string(data.n_rows) +
+    throw InternalError("nearest centroid: the points have " + std::to_string(data.n_rows) +
                      " dimensions but the centroids " + std::to_string(centroids.n_rows));
   if (!data.is_finite()) throw DataError("nearest centroid: the points hold NaN or Inf values");
   std::vector<int> labels(data.n_cols);
@@ -380,7 +380,7 @@ std::vector<int> nearest_centroid(const arma::mat& data, const arma::mat& centro
 
 double adjusted_rand_index(const std::vector<int>& a, const std::vector<int>& b) {
   if (a.size() != b.size())
-    throw InputError("adjusted Rand index: the partitions label " + std::to_string(a.size()) +
+    throw InternalError("adjusted Rand index: the partitions label " + std::to_string(a.size()) +
                      " and " + std::to_string(b.size()) + " points");
   auto pairs = [](double m) { return m * (m - 1.0) / 2.0; };
   std::map<int, double> rows, cols;

@@ -14,10 +14,10 @@ RegimeLabeller::RegimeLabeller(const RegimeModel& model)
 void RegimeLabeller::project(const arma::fmat& x, const arma::fmat* reference) {
   const arma::uword np = model_.eofs.n_rows, n = x.n_cols;
   if (x.n_rows != np)
-    throw InputError("regime labels: the fields have " + std::to_string(x.n_rows) + " grid points, the regime model " +
+    throw InternalError("regime labels: the fields have " + std::to_string(x.n_rows) + " grid points, the regime model " +
                      std::to_string(np));
   if (reference && (reference->n_rows != np || reference->n_cols < n))
-    throw InputError("regime labels: the reference has " + std::to_string(reference->n_rows) + " x " +
+    throw InternalError("regime labels: the reference has " + std::to_string(reference->n_rows) + " x " +
                      std::to_string(reference->n_cols) + " values for " + std::to_string(np) + " x " +
                      std::to_string(n) + " fields");
   // Anomaly and weight in float (as derive computes them), centred in

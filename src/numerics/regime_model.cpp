@@ -85,7 +85,7 @@ std::vector<std::string> model_states(const RegimeModel& model) {
 void assign_regimes(const arma::mat& pcs, const arma::mat& centroids, double threshold, std::vector<int>& labels,
                     arma::vec& correlation) {
   if (pcs.n_cols != centroids.n_rows)
-    throw InputError("assign_regimes: " + std::to_string(pcs.n_cols) + " components per day but centroids have " +
+    throw InternalError("assign_regimes: " + std::to_string(pcs.n_cols) + " components per day but centroids have " +
                      std::to_string(centroids.n_rows));
   // Plain loops: no temporaries per day (classify labels thousands of member-days).
   const arma::uword n = pcs.n_rows, k = centroids.n_cols, ne = centroids.n_rows;

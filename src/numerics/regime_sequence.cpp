@@ -28,14 +28,14 @@ RunLengthStats summarise_runs(std::vector<int> runs, int min_episode) {
 SequenceStats sequence_stats(const std::vector<int>& labels, const std::vector<char>& consecutive,
                              int n_states, int min_episode) {
   if (labels.size() != consecutive.size())
-    throw InputError("regime sequence: " + std::to_string(labels.size()) + " labels but " +
+    throw InternalError("regime sequence: " + std::to_string(labels.size()) + " labels but " +
                      std::to_string(consecutive.size()) + " consecutive-day flags");
   if (n_states < 1 || min_episode < 1)
     throw InputError("regime sequence: n_states and min_episode must be >= 1, found " +
                      std::to_string(n_states) + " and " + std::to_string(min_episode));
   for (std::size_t t = 0; t < labels.size(); ++t)
     if (labels[t] >= n_states)
-      throw InputError("regime sequence: day " + std::to_string(t) + " has label " +
+      throw InternalError("regime sequence: day " + std::to_string(t) + " has label " +
                        std::to_string(labels[t]) + " but there are only " +
                        std::to_string(n_states) + " states (0.." + std::to_string(n_states - 1) +
                        ")");

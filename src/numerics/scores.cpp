@@ -19,7 +19,7 @@ constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 // o in {0, 1}.
 void check_binary(const char* who, const arma::vec& p, const arma::vec& o) {
   if (p.n_elem != o.n_elem || p.n_elem == 0) {
-    throw InputError(std::string(who) + ": forecast probabilities and outcomes must have the same, non-zero length; found " +
+    throw InternalError(std::string(who) + ": forecast probabilities and outcomes must have the same, non-zero length; found " +
                      std::to_string(p.n_elem) + " probabilities and " + std::to_string(o.n_elem) + " outcomes");
   }
   for (arma::uword i = 0; i < p.n_elem; ++i) {
@@ -36,11 +36,11 @@ void check_binary(const char* who, const arma::vec& p, const arma::vec& o) {
 
 void check_table(const char* who, const arma::umat& table) {
   if (table.n_rows != table.n_cols || table.n_rows == 0) {
-    throw InputError(std::string(who) + ": contingency table must be square and non-empty; found " +
+    throw InternalError(std::string(who) + ": contingency table must be square and non-empty; found " +
                      std::to_string(table.n_rows) + " x " + std::to_string(table.n_cols));
   }
   if (arma::accu(table) == 0) {
-    throw InputError(std::string(who) + ": contingency table holds no case");
+    throw InternalError(std::string(who) + ": contingency table holds no case");
   }
 }
 
@@ -146,7 +146,7 @@ double skill_score(double score, double reference) {
 }
 
 double multicategory_brier(const arma::rowvec& p, int observed) {
-  if (p.is_empty()) throw InputError("multicategory_brier: the forecast has no category");
+  if (p.is_empty()) throw InternalError("multicategory_brier: the forecast has no category");
   if (observed < 0 || static_cast<arma::uword>(observed) >= p.n_elem) {
     throw InputError("multicategory_brier: observed category must be in 0 .. " + std::to_string(p.n_elem - 1) +
                      "; found " + std::to_string(observed));
@@ -165,7 +165,7 @@ double multicategory_brier(const arma::rowvec& p, int observed) {
 
 double mean_multicategory_brier(const arma::mat& p, const std::vector<int>& observed) {
   if (p.n_rows != observed.size() || observed.empty()) {
-    throw InputError("mean_multicategory_brier: forecast rows and observed labels must have the same, non-zero count; found " +
+    throw InternalError("mean_multicategory_brier: forecast rows and observed labels must have the same, non-zero count; found " +
                      std::to_string(p.n_rows) + " rows and " + std::to_string(observed.size()) + " labels");
   }
   double sum = 0.0;
@@ -222,7 +222,7 @@ std::vector<ReliabilityBin> reliability_diagram(const arma::vec& p, const arma::
 
 arma::umat contingency(const std::vector<int>& forecast, const std::vector<int>& observed, int K) {
   if (forecast.size() != observed.size() || forecast.empty()) {
-    throw InputError("contingency: forecast and observed labels must have the same, non-zero count; found " +
+    throw InternalError("contingency: forecast and observed labels must have the same, non-zero count; found " +
                      std::to_string(forecast.size()) + " forecasts and " + std::to_string(observed.size()) +
                      " observations");
   }
