@@ -22,12 +22,6 @@ std::vector<double> to_std(const arma::mat& m) {  // row-major for netCDF (slowe
   return std::vector<double>(t.begin(), t.end());
 }
 
-// Writes a matrix whose rows are the slowest netCDF dimension.
-void put_rows(nc::File& f, int var, const arma::mat& m) {
-  std::vector<double> v = to_std(m);
-  f.write_all(var, v);
-}
-
 arma::mat get_rows(const nc::File& f, const std::string& name, arma::uword rows, arma::uword cols) {
   auto v = f.find_var(name);
   if (!v) throw DataError(f.path() + ": not a regime model: variable '" + name + "' is missing");
@@ -59,103 +53,135 @@ double att_num(const nc::File& f, const std::string& name) {
 
 }  // namespace
 
+namespace {
+
+// One variable of the model file: its definition, attributes and values
+// (row-major, slowest netCDF dimension first).
+struct ModelVariable {
+  const char* name;
+  nc_type type;
+  std::vector<int> dims;
+  const char* long_name;
+  const char* units;  // nullptr: none
+  std::vector<double> values;
+  std::vector<std::pair<std::string, std::string>> attributes = {};
+};
+
+std::vector<double> values_of(const arma::vec& v) { return arma::conv_to<std::vector<double>>::from(v); }
+
+struct ModelDims {
+  int lat, lon, coef, eof, regime, state, day;
+};
+
+ModelDims define_dims(nc::File& f, const RegimeModel& m) {
+  const std::size_t k = m.centroids.n_cols;
+  return {f.def_dim("lat", m.grid.n_lat()),  f.def_dim("lon", m.grid.n_lon()),
+          f.def_dim("coef", m.climatology.coefficients.n_cols), f.def_dim("eof", m.eofs.n_cols),
+          f.def_dim("regime", k),  f.def_dim("state", k + 1), f.def_dim("day", m.dates.size())};
+}
+
+// The grid, climatology and EOF variables.
+std::vector<ModelVariable> analysis_variables(const RegimeModel& m, const ModelDims& d) {
+  return {
+      {"lat", NC_DOUBLE, {d.lat}, "latitude", "degrees_north", values_of(m.grid.lat), {{"standard_name", "latitude"}}},
+      {"lon", NC_DOUBLE, {d.lon}, "longitude (contiguous across the domain)", "degrees_east", values_of(m.grid.lon),
+       {{"standard_name", "longitude"}}},
+      {"weight", NC_DOUBLE, {d.lat, d.lon}, "sqrt(cos(latitude)) area weight", "1", values_of(m.weights)},
+      {"climatology_coefficient", NC_DOUBLE, {d.coef, d.lat, d.lon},
+       "least-squares coefficients: mean, cos/sin of annual harmonics 1..H, [trend per day]", "m",
+       to_std(m.climatology.coefficients.t())},
+      {"eof_mean", NC_DOUBLE, {d.lat, d.lon}, "weighted anomaly mean removed before the EOFs", "m",
+       values_of(m.eof_mean)},
+      {"eof", NC_DOUBLE, {d.eof, d.lat, d.lon}, "empirical orthogonal functions of weighted anomalies (unit norm)", "1",
+       to_std(m.eofs.t())},
+      {"eigenvalue", NC_DOUBLE, {d.eof}, "EOF eigenvalue (variance of the principal component)", "m2",
+       values_of(m.eigenvalues)},
+      {"explained_fraction", NC_DOUBLE, {d.eof}, "fraction of the total weighted variance", "1",
+       values_of(m.explained)},
+      {"north_error", NC_DOUBLE, {d.eof}, "North et al. (1982) sampling error of the eigenvalue", "m2",
+       values_of(m.north_error)},
+      {"effective_sample_size", NC_DOUBLE, {d.eof}, "effective sample size of the principal component", "1",
+       values_of(m.effective_n)},
+  };
+}
+
+// The regimes, the labelled record and the transitions.
+std::vector<ModelVariable> regime_variables(const RegimeModel& m, const ModelDims& d) {
+  std::vector<double> freq, t, lab, ins, cor;
+  for (const auto& r : m.regimes) freq.push_back(r.frequency);
+  for (std::size_t i = 0; i < m.dates.size(); ++i) {
+    t.push_back(double(days_between(m.dates.front(), m.dates[i])));
+    lab.push_back(m.labels[i]);
+    ins.push_back(m.in_season[i]);
+    cor.push_back(m.correlation(i));
+  }
+  return {
+      {"centroid", NC_DOUBLE, {d.regime, d.eof}, "regime centroid in principal-component space", "m",
+       to_std(m.centroids.t())},
+      {"pattern", NC_DOUBLE, {d.regime, d.lat, d.lon}, "regime composite 500 hPa height anomaly", "m",
+       to_std(m.patterns.t())},
+      {"frequency", NC_DOUBLE, {d.regime}, "fraction of in-season days in the regime", "1", freq},
+      {"time", NC_INT, {d.day}, "day of the record", nullptr, t,
+       {{"units", "days since " + to_string(m.dates.front())},
+        {"calendar", calendar_name(m.calendar)},
+        {"standard_name", "time"}}},
+      {"label", NC_INT, {d.day}, "regime index 0..k-1, -1 = no regime", "1", lab},
+      {"in_season", NC_BYTE, {d.day}, "1 when the day is in the season of the regime analysis", "1", ins},
+      {"correlation", NC_DOUBLE, {d.day}, "anomaly correlation with the nearest centroid", "1", cor},
+      {"transition", NC_DOUBLE, {d.state, d.state}, "Markov transition probabilities, last state = no regime", "1",
+       to_std(m.transition)},
+      {"transition_count", NC_INT, {d.state, d.state}, "transition counts between consecutive in-season days", "1",
+       to_std(arma::conv_to<arma::mat>::from(m.transition_counts))},
+  };
+}
+
+int define_variable(nc::File& f, const ModelVariable& v) {
+  const int id = f.def_var(v.name, v.type, v.dims);
+  if (v.long_name) f.put_att(id, "long_name", v.long_name);
+  if (v.units) f.put_att(id, "units", v.units);
+  if (v.dims.size() >= 2) f.deflate(id, 1);
+  for (const auto& [name, text] : v.attributes) f.put_att(id, name, text);
+  return id;
+}
+
+void put_global_attributes(nc::File& f, const RegimeModel& m) {
+  f.put_att(NC_GLOBAL, "title", "isohypse regime model");
+  f.put_att(NC_GLOBAL, "Conventions", "CF-1.10");
+  f.put_att(NC_GLOBAL, "isohypse_format_version", NC_INT, {double(m.format_version)});
+  f.put_att(NC_GLOBAL, "domain", m.domain.to_string());
+  f.put_att(NC_GLOBAL, "variable", m.variable);
+  f.put_att(NC_GLOBAL, "calendar", calendar_name(m.calendar));
+  f.put_att(NC_GLOBAL, "season_months", NC_INT, std::vector<double>(m.months.begin(), m.months.end()));
+  f.put_att(NC_GLOBAL, "climatology_harmonics", NC_INT, {double(m.climatology.harmonics)});
+  f.put_att(NC_GLOBAL, "climatology_detrend", NC_INT, {m.climatology.detrend ? 1.0 : 0.0});
+  f.put_att(NC_GLOBAL, "climatology_trend_origin", to_string(m.climatology.trend_origin));
+  f.put_att(NC_GLOBAL, "running_mean_days", NC_INT, {double(m.running_mean_days)});
+  f.put_att(NC_GLOBAL, "no_regime_threshold", NC_DOUBLE, {m.no_regime_threshold});
+  f.put_att(NC_GLOBAL, "total_variance", NC_DOUBLE, {m.total_variance});
+  f.put_att(NC_GLOBAL, "inertia", NC_DOUBLE, {m.inertia});
+  f.put_att(NC_GLOBAL, "k_automatic", NC_INT, {m.k_automatic ? 1.0 : 0.0});
+  nlohmann::json regimes = nlohmann::json::array();
+  for (const auto& r : m.regimes) regimes.push_back(regime_json(r));
+  f.put_att(NC_GLOBAL, "regimes", regimes.dump());
+  f.put_att(NC_GLOBAL, "regime_count_table", k_table_json(m.k_table).dump());
+  f.put_att(NC_GLOBAL, "config", m.config.dump());
+  f.put_att(NC_GLOBAL, "provenance", m.provenance.dump());
+}
+
+}  // namespace
+
 void write_regime_model(const RegimeModel& m, const std::string& path) {
   AtomicFile out(path);
   {
     nc::File f = nc::File::create(out.temp_path());
-    const std::size_t nlat = m.grid.n_lat(), nlon = m.grid.n_lon(), ne = m.eofs.n_cols, k = m.centroids.n_cols;
-    int d_lat = f.def_dim("lat", nlat), d_lon = f.def_dim("lon", nlon);
-    int d_coef = f.def_dim("coef", m.climatology.coefficients.n_cols);
-    int d_eof = f.def_dim("eof", ne), d_reg = f.def_dim("regime", k), d_state = f.def_dim("state", k + 1);
-    int d_day = f.def_dim("day", m.dates.size());
-
-    auto var = [&](const char* name, nc_type t, std::vector<int> dims, const char* long_name, const char* units) {
-      int v = f.def_var(name, t, dims);
-      if (long_name) f.put_att(v, "long_name", long_name);
-      if (units) f.put_att(v, "units", units);
-      if (dims.size() >= 2) f.deflate(v, 1);
-      return v;
-    };
-    int v_lat = var("lat", NC_DOUBLE, {d_lat}, "latitude", "degrees_north");
-    f.put_att(v_lat, "standard_name", "latitude");
-    int v_lon = var("lon", NC_DOUBLE, {d_lon}, "longitude (contiguous across the domain)", "degrees_east");
-    f.put_att(v_lon, "standard_name", "longitude");
-    int v_w = var("weight", NC_DOUBLE, {d_lat, d_lon}, "sqrt(cos(latitude)) area weight", "1");
-    int v_clim = var("climatology_coefficient", NC_DOUBLE, {d_coef, d_lat, d_lon},
-                     "least-squares coefficients: mean, cos/sin of annual harmonics 1..H, [trend per day]", "m");
-    int v_mean = var("eof_mean", NC_DOUBLE, {d_lat, d_lon}, "weighted anomaly mean removed before the EOFs", "m");
-    int v_eof = var("eof", NC_DOUBLE, {d_eof, d_lat, d_lon}, "empirical orthogonal functions of weighted anomalies (unit norm)", "1");
-    int v_ev = var("eigenvalue", NC_DOUBLE, {d_eof}, "EOF eigenvalue (variance of the principal component)", "m2");
-    int v_ex = var("explained_fraction", NC_DOUBLE, {d_eof}, "fraction of the total weighted variance", "1");
-    int v_ne = var("north_error", NC_DOUBLE, {d_eof}, "North et al. (1982) sampling error of the eigenvalue", "m2");
-    int v_en = var("effective_sample_size", NC_DOUBLE, {d_eof}, "effective sample size of the principal component", "1");
-    int v_cen = var("centroid", NC_DOUBLE, {d_reg, d_eof}, "regime centroid in principal-component space", "m");
-    int v_pat = var("pattern", NC_DOUBLE, {d_reg, d_lat, d_lon}, "regime composite 500 hPa height anomaly", "m");
-    int v_freq = var("frequency", NC_DOUBLE, {d_reg}, "fraction of in-season days in the regime", "1");
-    int v_time = var("time", NC_INT, {d_day}, "day of the record", nullptr);
-    const std::string time_units = "days since " + to_string(m.dates.front());
-    f.put_att(v_time, "units", time_units);
-    f.put_att(v_time, "calendar", calendar_name(m.calendar));
-    f.put_att(v_time, "standard_name", "time");
-    int v_lab = var("label", NC_INT, {d_day}, "regime index 0..k-1, -1 = no regime", "1");
-    int v_in = var("in_season", NC_BYTE, {d_day}, "1 when the day is in the season of the regime analysis", "1");
-    int v_cor = var("correlation", NC_DOUBLE, {d_day}, "anomaly correlation with the nearest centroid", "1");
-    int v_tr = var("transition", NC_DOUBLE, {d_state, d_state}, "Markov transition probabilities, last state = no regime", "1");
-    int v_tc = var("transition_count", NC_INT, {d_state, d_state}, "transition counts between consecutive in-season days", "1");
-
-    f.put_att(NC_GLOBAL, "title", "isohypse regime model");
-    f.put_att(NC_GLOBAL, "Conventions", "CF-1.10");
-    f.put_att(NC_GLOBAL, "isohypse_format_version", NC_INT, {double(m.format_version)});
-    f.put_att(NC_GLOBAL, "domain", m.domain.to_string());
-    f.put_att(NC_GLOBAL, "variable", m.variable);
-    f.put_att(NC_GLOBAL, "calendar", calendar_name(m.calendar));
-    std::vector<double> months(m.months.begin(), m.months.end());
-    f.put_att(NC_GLOBAL, "season_months", NC_INT, months);
-    f.put_att(NC_GLOBAL, "climatology_harmonics", NC_INT, {double(m.climatology.harmonics)});
-    f.put_att(NC_GLOBAL, "climatology_detrend", NC_INT, {m.climatology.detrend ? 1.0 : 0.0});
-    f.put_att(NC_GLOBAL, "climatology_trend_origin", to_string(m.climatology.trend_origin));
-    f.put_att(NC_GLOBAL, "running_mean_days", NC_INT, {double(m.running_mean_days)});
-    f.put_att(NC_GLOBAL, "no_regime_threshold", NC_DOUBLE, {m.no_regime_threshold});
-    f.put_att(NC_GLOBAL, "total_variance", NC_DOUBLE, {m.total_variance});
-    f.put_att(NC_GLOBAL, "inertia", NC_DOUBLE, {m.inertia});
-    f.put_att(NC_GLOBAL, "k_automatic", NC_INT, {m.k_automatic ? 1.0 : 0.0});
-    nlohmann::json regimes = nlohmann::json::array();
-    for (const auto& r : m.regimes) regimes.push_back(regime_json(r));
-    nlohmann::json kt = k_table_json(m.k_table);
-    f.put_att(NC_GLOBAL, "regimes", regimes.dump());
-    f.put_att(NC_GLOBAL, "regime_count_table", kt.dump());
-    f.put_att(NC_GLOBAL, "config", m.config.dump());
-    f.put_att(NC_GLOBAL, "provenance", m.provenance.dump());
+    const ModelDims dims = define_dims(f, m);
+    std::vector<ModelVariable> vars = analysis_variables(m, dims);
+    for (auto& v : regime_variables(m, dims)) vars.push_back(std::move(v));
+    std::vector<int> ids;
+    for (const auto& v : vars) ids.push_back(define_variable(f, v));
+    put_global_attributes(f, m);
     f.end_define();
-
-    f.write_all(v_lat, arma::conv_to<std::vector<double>>::from(m.grid.lat));
-    f.write_all(v_lon, arma::conv_to<std::vector<double>>::from(m.grid.lon));
-    f.write_all(v_w, arma::conv_to<std::vector<double>>::from(m.weights));
-    put_rows(f, v_clim, m.climatology.coefficients.t());
-    f.write_all(v_mean, arma::conv_to<std::vector<double>>::from(m.eof_mean));
-    put_rows(f, v_eof, m.eofs.t());
-    f.write_all(v_ev, arma::conv_to<std::vector<double>>::from(m.eigenvalues));
-    f.write_all(v_ex, arma::conv_to<std::vector<double>>::from(m.explained));
-    f.write_all(v_ne, arma::conv_to<std::vector<double>>::from(m.north_error));
-    f.write_all(v_en, arma::conv_to<std::vector<double>>::from(m.effective_n));
-    put_rows(f, v_cen, m.centroids.t());
-    put_rows(f, v_pat, m.patterns.t());
-    std::vector<double> freq;
-    for (const auto& r : m.regimes) freq.push_back(r.frequency);
-    f.write_all(v_freq, freq);
-    std::vector<double> t, lab, ins, cor;
-    for (std::size_t i = 0; i < m.dates.size(); ++i) {
-      t.push_back(double(days_between(m.dates.front(), m.dates[i])));
-      lab.push_back(m.labels[i]);
-      ins.push_back(m.in_season[i]);
-      cor.push_back(m.correlation(i));
-    }
-    f.write_all(v_time, t);
-    f.write_all(v_lab, lab);
-    f.write_all(v_in, ins);
-    f.write_all(v_cor, cor);
-    put_rows(f, v_tr, m.transition);
-    put_rows(f, v_tc, arma::conv_to<arma::mat>::from(m.transition_counts));
+    for (std::size_t i = 0; i < vars.size(); ++i) f.write_all(ids[i], vars[i].values);
     f.close();
   }
   out.commit();

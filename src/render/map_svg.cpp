@@ -145,117 +145,166 @@ std::string band_colour(int band, int n_bands) {
 
 }  // namespace
 
-std::string regime_map_svg(const arma::vec& pattern, const Grid& grid, const std::vector<Segment>& coast,
-                           const std::string& title, double scale, const std::string& regime_colour) {
-  const arma::uword nla = grid.n_lat(), nlo = grid.n_lon();
-  if (pattern.n_elem != grid.n_points() || nla < 2 || nlo < 2)
-    throw InputError("regime map: pattern of " + std::to_string(pattern.n_elem) + " values for a grid of " +
-                     std::to_string(nla) + " x " + std::to_string(nlo));
-  if (!(scale > 0)) scale = arma::abs(pattern).max();
-  if (!(scale > 0)) scale = 1;
-  const double step = band_step(scale);
-  const int n_bands = static_cast<int>(std::ceil(scale / step - 1e-9));
-  const double x0 = grid.lon.front(), x1 = grid.lon.back(), y0 = grid.lat.front(), y1 = grid.lat.back();
-  const double plot_w = 600, coslat = std::cos((y0 + y1) / 2 * M_PI / 180);
-  const double sx = plot_w / (x1 - x0), sy = sx / std::max(coslat, 0.2);
-  const double plot_h = (y1 - y0) * sy;
-  const double left = 40, top = 30, right = 80, bottom = 26;
-  auto X = [&](double lon) { return left + (lon - x0) * sx; };
-  auto Y = [&](double lat) { return top + (y1 - lat) * sy; };
-  auto band_of = [&](double v) {
-    const int b = static_cast<int>(std::floor(std::abs(v) / step));  // (-step, step) is band 0
-    return (v < 0 ? -1 : 1) * std::min(b, n_bands);
-  };
+namespace {
 
-  std::ostringstream o;
-  o << "<svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 " << num(left + plot_w + right) << " "
-    << num(top + plot_h + bottom) << "\" width=\"" << num(left + plot_w + right) << "\" height=\""
-    << num(top + plot_h + bottom) << "\" font-family=\"sans-serif\" font-size=\"11\" role=\"img\">\n";
-  o << "<title>" << html_escape(title) << "</title>\n";
-  if (!regime_colour.empty())
-    o << "<rect class=\"regime-swatch\" x=\"" << num(left - 22) << "\" y=\"7\" width=\"14\" height=\"14\" fill=\""
-      << html_escape(regime_colour) << "\" stroke=\"#222\" stroke-width=\"0.5\"/>\n";
-  o << "<text x=\"" << left << "\" y=\"18\" font-size=\"13\" font-weight=\"bold\">" << html_escape(title) << "</text>\n";
-  o << "<defs><clipPath id=\"plot\"><rect x=\"" << num(left) << "\" y=\"" << num(top) << "\" width=\"" << num(plot_w)
-    << "\" height=\"" << num(plot_h) << "\"/></clipPath></defs>\n<g clip-path=\"url(#plot)\" shape-rendering=\"crispEdges\">\n";
-  // Cells centred on grid points; runs of one band along a row are merged into one rectangle.
-  auto edge = [](const arma::vec& v, arma::uword k, bool upper) {
-    if (upper) return k + 1 < v.n_elem ? (v(k) + v(k + 1)) / 2 : v(k);
-    return k > 0 ? (v(k - 1) + v(k)) / 2 : v(k);
-  };
+// The plot area: plate carree with x shrunk by the cosine of the mid-latitude.
+struct MapFrame {
+  double x0, x1, y0, y1;  // longitude and latitude extent
+  double left = 40, top = 30, right = 80, bottom = 26;
+  double plot_w = 600, plot_h = 0, sx = 0, sy = 0;
+
+  explicit MapFrame(const Grid& grid)
+      : x0(grid.lon.front()), x1(grid.lon.back()), y0(grid.lat.front()), y1(grid.lat.back()) {
+    const double coslat = std::cos((y0 + y1) / 2 * M_PI / 180);
+    sx = plot_w / (x1 - x0);
+    sy = sx / std::max(coslat, 0.2);
+    plot_h = (y1 - y0) * sy;
+  }
+  double X(double lon) const { return left + (lon - x0) * sx; }
+  double Y(double lat) const { return top + (y1 - lat) * sy; }
+  double width() const { return left + plot_w + right; }
+  double height() const { return top + plot_h + bottom; }
+};
+
+// Colour bands of equal width on each side of zero; (-step, step) is band 0.
+struct Bands {
+  double step;
+  int n;
+  explicit Bands(double scale) : step(band_step(scale)), n(static_cast<int>(std::ceil(scale / step - 1e-9))) {}
+  int of(double v) const {
+    const int b = static_cast<int>(std::floor(std::abs(v) / step));
+    return (v < 0 ? -1 : 1) * std::min(b, n);
+  }
+};
+
+// Cell k's lower or upper edge along an axis: half-way to the neighbour.
+double cell_edge(const arma::vec& v, arma::uword k, bool upper) {
+  if (upper) return k + 1 < v.n_elem ? (v(k) + v(k + 1)) / 2 : v(k);
+  return k > 0 ? (v(k - 1) + v(k)) / 2 : v(k);
+}
+
+// Cells centred on grid points; runs of one band along a row are merged into one rectangle.
+void draw_cells(std::ostringstream& o, const arma::vec& pattern, const Grid& grid, const MapFrame& f,
+                const Bands& bands) {
+  const arma::uword nla = grid.n_lat(), nlo = grid.n_lon();
+  o << "<defs><clipPath id=\"plot\"><rect x=\"" << num(f.left) << "\" y=\"" << num(f.top) << "\" width=\""
+    << num(f.plot_w) << "\" height=\"" << num(f.plot_h)
+    << "\"/></clipPath></defs>\n<g clip-path=\"url(#plot)\" shape-rendering=\"crispEdges\">\n";
   for (arma::uword i = 0; i < nla; ++i) {
-    const double ya = Y(edge(grid.lat, i, true)), yb = Y(edge(grid.lat, i, false));
+    const double ya = f.Y(cell_edge(grid.lat, i, true)), yb = f.Y(cell_edge(grid.lat, i, false));
     for (arma::uword j = 0; j < nlo;) {
       const double v = pattern(i * nlo + j);
       arma::uword end = j + 1;
-      const int b = std::isnan(v) ? 0 : band_of(v);
-      while (end < nlo && !std::isnan(pattern(i * nlo + end)) && band_of(pattern(i * nlo + end)) == b) ++end;
+      const int b = std::isnan(v) ? 0 : bands.of(v);
+      while (end < nlo && !std::isnan(pattern(i * nlo + end)) && bands.of(pattern(i * nlo + end)) == b) ++end;
       if (std::isnan(v)) {
         end = j + 1;
-        o << "<rect x=\"" << num(X(edge(grid.lon, j, false))) << "\" y=\"" << num(ya) << "\" width=\""
-          << num(X(edge(grid.lon, j, true)) - X(edge(grid.lon, j, false))) << "\" height=\"" << num(yb - ya)
-          << "\" fill=\"#cccccc\"/>\n";
+        o << "<rect x=\"" << num(f.X(cell_edge(grid.lon, j, false))) << "\" y=\"" << num(ya) << "\" width=\""
+          << num(f.X(cell_edge(grid.lon, j, true)) - f.X(cell_edge(grid.lon, j, false))) << "\" height=\""
+          << num(yb - ya) << "\" fill=\"#cccccc\"/>\n";
       } else if (b != 0) {
-        const double xa = X(edge(grid.lon, j, false)), xb = X(edge(grid.lon, end - 1, true));
+        const double xa = f.X(cell_edge(grid.lon, j, false)), xb = f.X(cell_edge(grid.lon, end - 1, true));
         o << "<rect x=\"" << num(xa) << "\" y=\"" << num(ya) << "\" width=\"" << num(xb - xa + 0.3) << "\" height=\""
-          << num(yb - ya + 0.3) << "\" fill=\"" << band_colour(b, n_bands) << "\"/>\n";
+          << num(yb - ya + 0.3) << "\" fill=\"" << band_colour(b, bands.n) << "\"/>\n";
       }
       j = end;
     }
   }
   o << "</g>\n";
-  // Contour lines at the band edges: solid for ridges, dashed for troughs.
+}
+
+std::string segment_path(const std::vector<Segment>& segs, const MapFrame& f) {
+  std::string d;
+  for (const auto& s : segs)
+    d += "M" + num(f.X(s.x0)) + " " + num(f.Y(s.y0)) + "L" + num(f.X(s.x1)) + " " + num(f.Y(s.y1));
+  return d;
+}
+
+// Contour lines at the band edges: solid for ridges, dashed for troughs; then the coastline.
+void draw_lines(std::ostringstream& o, const arma::vec& pattern, const Grid& grid, const std::vector<Segment>& coast,
+                const MapFrame& f, const Bands& bands) {
+  const arma::uword nla = grid.n_lat(), nlo = grid.n_lon();
   arma::mat values(nla, nlo);
   for (arma::uword i = 0; i < nla; ++i)
     for (arma::uword j = 0; j < nlo; ++j) values(i, j) = pattern(i * nlo + j);
-  auto path = [&](const std::vector<Segment>& segs) {
-    std::string d;
-    for (const auto& s : segs) d += "M" + num(X(s.x0)) + " " + num(Y(s.y0)) + "L" + num(X(s.x1)) + " " + num(Y(s.y1));
-    return d;
-  };
-  for (int b = -n_bands; b <= n_bands; ++b) {
+  for (int b = -bands.n; b <= bands.n; ++b) {
     if (b == 0) continue;
-    const auto segs = contour_segments(values, grid.lon, grid.lat, b * step);
+    const auto segs = contour_segments(values, grid.lon, grid.lat, b * bands.step);
     if (segs.empty()) continue;
-    o << "<path class=\"contour\" d=\"" << path(segs) << "\" fill=\"none\" stroke=\"#555\" stroke-width=\"0.6\""
-      << (b < 0 ? " stroke-dasharray=\"3 2\"" : "") << "/>\n";
+    o << "<path class=\"contour\" d=\"" << segment_path(segs, f)
+      << "\" fill=\"none\" stroke=\"#555\" stroke-width=\"0.6\"" << (b < 0 ? " stroke-dasharray=\"3 2\"" : "")
+      << "/>\n";
   }
   if (!coast.empty())
-    o << "<path class=\"coast\" d=\"" << path(coast)
+    o << "<path class=\"coast\" d=\"" << segment_path(coast, f)
       << "\" fill=\"none\" stroke=\"#222\" stroke-width=\"1\" stroke-linecap=\"round\"/>\n";
-  // Graticule every 10 degrees (20 for wide domains), labelled outside the frame.
-  const double gstep_lon = (x1 - x0) > 90 ? 20 : 10, gstep_lat = (y1 - y0) > 45 ? 20 : 10;
+}
+
+// Graticule every 10 degrees (20 for wide domains), labelled outside the frame; then the frame.
+void draw_graticule(std::ostringstream& o, const MapFrame& f) {
+  const double gstep_lon = (f.x1 - f.x0) > 90 ? 20 : 10, gstep_lat = (f.y1 - f.y0) > 45 ? 20 : 10;
   o << "<g stroke=\"#888\" stroke-width=\"0.4\" stroke-dasharray=\"1 3\">\n";
   std::string labels;
-  for (double lon = std::ceil(x0 / gstep_lon) * gstep_lon; lon <= x1 + 1e-9; lon += gstep_lon) {
-    o << "<line x1=\"" << num(X(lon)) << "\" y1=\"" << num(top) << "\" x2=\"" << num(X(lon)) << "\" y2=\""
-      << num(top + plot_h) << "\"/>\n";
-    labels += "<text x=\"" + num(X(lon)) + "\" y=\"" + num(top + plot_h + 14) + "\" text-anchor=\"middle\">" +
+  for (double lon = std::ceil(f.x0 / gstep_lon) * gstep_lon; lon <= f.x1 + 1e-9; lon += gstep_lon) {
+    o << "<line x1=\"" << num(f.X(lon)) << "\" y1=\"" << num(f.top) << "\" x2=\"" << num(f.X(lon)) << "\" y2=\""
+      << num(f.top + f.plot_h) << "\"/>\n";
+    labels += "<text x=\"" + num(f.X(lon)) + "\" y=\"" + num(f.top + f.plot_h + 14) + "\" text-anchor=\"middle\">" +
               lon_label(lon) + "</text>\n";
   }
-  for (double lat = std::ceil(y0 / gstep_lat) * gstep_lat; lat <= y1 + 1e-9; lat += gstep_lat) {
-    o << "<line x1=\"" << num(left) << "\" y1=\"" << num(Y(lat)) << "\" x2=\"" << num(left + plot_w) << "\" y2=\""
-      << num(Y(lat)) << "\"/>\n";
-    labels += "<text x=\"" + num(left - 4) + "\" y=\"" + num(Y(lat) + 4) + "\" text-anchor=\"end\">" +
+  for (double lat = std::ceil(f.y0 / gstep_lat) * gstep_lat; lat <= f.y1 + 1e-9; lat += gstep_lat) {
+    o << "<line x1=\"" << num(f.left) << "\" y1=\"" << num(f.Y(lat)) << "\" x2=\"" << num(f.left + f.plot_w)
+      << "\" y2=\"" << num(f.Y(lat)) << "\"/>\n";
+    labels += "<text x=\"" + num(f.left - 4) + "\" y=\"" + num(f.Y(lat) + 4) + "\" text-anchor=\"end\">" +
               lat_label(lat) + "</text>\n";
   }
   o << "</g>\n" << labels;
-  o << "<rect x=\"" << num(left) << "\" y=\"" << num(top) << "\" width=\"" << num(plot_w) << "\" height=\""
-    << num(plot_h) << "\" fill=\"none\" stroke=\"#222\"/>\n";
-  // Colour bar: one box per band, highest at the top.
-  const double bar_x = left + plot_w + 14, box_h = std::min(18.0, plot_h / (2 * n_bands + 1));
-  o << "<text x=\"" << num(bar_x) << "\" y=\"" << num(top - 6) << "\">metres</text>\n";
-  for (int b = n_bands; b >= -n_bands; --b) {
-    const double y = top + (n_bands - b) * box_h;
+  o << "<rect x=\"" << num(f.left) << "\" y=\"" << num(f.top) << "\" width=\"" << num(f.plot_w) << "\" height=\""
+    << num(f.plot_h) << "\" fill=\"none\" stroke=\"#222\"/>\n";
+}
+
+// Colour bar: one box per band, highest at the top, each labelled at its edge nearer zero.
+void draw_colour_bar(std::ostringstream& o, const MapFrame& f, const Bands& bands) {
+  const double bar_x = f.left + f.plot_w + 14, box_h = std::min(18.0, f.plot_h / (2 * bands.n + 1));
+  o << "<text x=\"" << num(bar_x) << "\" y=\"" << num(f.top - 6) << "\">metres</text>\n";
+  for (int b = bands.n; b >= -bands.n; --b) {
+    const double y = f.top + (bands.n - b) * box_h;
     o << "<rect x=\"" << num(bar_x) << "\" y=\"" << num(y) << "\" width=\"14\" height=\"" << num(box_h)
-      << "\" fill=\"" << band_colour(b, n_bands) << "\" stroke=\"#888\" stroke-width=\"0.4\"/>\n";
-    if (b != 0) {  // label each band's edge nearer zero, at that edge
-      const double edge_v = b * step;
+      << "\" fill=\"" << band_colour(b, bands.n) << "\" stroke=\"#888\" stroke-width=\"0.4\"/>\n";
+    if (b != 0) {
+      const double edge_v = b * bands.step;
       const double ly = b > 0 ? y + box_h : y;
       o << "<text x=\"" << num(bar_x + 18) << "\" y=\"" << num(ly + 4) << "\">" << (edge_v > 0 ? "+" : "")
         << static_cast<long>(std::lround(edge_v)) << "</text>\n";
     }
   }
+}
+
+}  // namespace
+
+std::string regime_map_svg(const arma::vec& pattern, const Grid& grid, const std::vector<Segment>& coast,
+                           const std::string& title, double scale, const std::string& regime_colour) {
+  const arma::uword nla = grid.n_lat(), nlo = grid.n_lon();
+  if (pattern.n_elem != grid.n_points() || nla < 2 || nlo < 2)
+    throw InternalError("regime map: pattern of " + std::to_string(pattern.n_elem) + " values for a grid of " +
+                        std::to_string(nla) + " x " + std::to_string(nlo));
+  if (!(scale > 0)) scale = arma::abs(pattern).max();
+  if (!(scale > 0)) scale = 1;
+  const Bands bands(scale);
+  const MapFrame f(grid);
+  std::ostringstream o;
+  o << "<svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 " << num(f.width()) << " " << num(f.height())
+    << "\" width=\"" << num(f.width()) << "\" height=\"" << num(f.height())
+    << "\" font-family=\"sans-serif\" font-size=\"11\" role=\"img\">\n";
+  o << "<title>" << html_escape(title) << "</title>\n";
+  if (!regime_colour.empty())
+    o << "<rect class=\"regime-swatch\" x=\"" << num(f.left - 22) << "\" y=\"7\" width=\"14\" height=\"14\" fill=\""
+      << html_escape(regime_colour) << "\" stroke=\"#222\" stroke-width=\"0.5\"/>\n";
+  o << "<text x=\"" << f.left << "\" y=\"18\" font-size=\"13\" font-weight=\"bold\">" << html_escape(title)
+    << "</text>\n";
+  draw_cells(o, pattern, grid, f, bands);
+  draw_lines(o, pattern, grid, coast, f, bands);
+  draw_graticule(o, f);
+  draw_colour_bar(o, f, bands);
   o << "</svg>\n";
   return o.str();
 }
