@@ -10,6 +10,8 @@
 #include "isohypse/io/regime_model_file.hpp"
 #include "isohypse/base/atomic_file.hpp"
 #include "isohypse/stages/classify.hpp"
+#include "isohypse/stages/guidance_csv.hpp"
+#include "isohypse/stages/guidance_text.hpp"
 #include "isohypse/base/error.hpp"
 
 namespace isohypse::cli {
