@@ -1,5 +1,7 @@
 #include "cli/options.hpp"
 
+#include "isohypse/base/error.hpp"
+
 namespace isohypse::cli {
 
 CLI::Option* add_windows_option(CLI::App* sub, std::vector<LeadWindow>& windows) {
@@ -18,7 +20,14 @@ CLI::Option* add_threads_option(CLI::App* sub, int& threads) {
 
 CLI::Option* add_weights_option(CLI::App* sub, Weighting& weights) {
   return sub->add_option_function<std::string>(
-      "--weights", [&weights](const std::string& text) { weights = Weighting::parse(text); },
+      "--weights",
+      [&weights](const std::string& text) {
+        try {
+          weights = Weighting::parse(text);
+        } catch (const InputError& e) {  // the parser does not know which flag it reads
+          throw InputError(std::string("--weights: ") + e.what());
+        }
+      },
       "equal | linear | exp:DAYS (decay with the age of the initialisation; default equal)");
 }
 

@@ -21,7 +21,7 @@ CLI::Option* add_windows_option(CLI::App* sub, std::vector<LeadWindow>& windows)
 CLI::Option* add_variable_option(CLI::App* sub, std::string& variable, const std::string& of_what = "Height");
 // --threads N: 0 is every core; the stage's config validation checks the range.
 CLI::Option* add_threads_option(CLI::App* sub, int& threads);
-// --weights equal | linear | exp:DAYS (Weighting::parse).
+// --weights equal | linear | exp:DAYS (Weighting::parse; its InputError prefixed with the flag).
 CLI::Option* add_weights_option(CLI::App* sub, Weighting& weights);
 // A date flag, YYYY-MM-DD in the real (proleptic Gregorian) calendar.
 CLI::Option* add_date_option(CLI::App* sub, const std::string& flag, std::optional<Date>& date, const std::string& help);

@@ -2,7 +2,10 @@
 misses part of the domain, a temperature variable instead of heights, missing
 lead days, a member number used twice, missing values in a member, forecasts
 in two calendars, a regime model of another format version, reforecasts on
-another grid than the forecasts. Each must end with a non-zero exit, a
+another grid than the forecasts; flags out of range or unreadable (issue
+10: --windows 5-2, --weights bogus, --issue-date 2026-13-01, --lag -2,
+--reforecast-window 70, --lead-smoothing 16, --threads -1; refused with exit
+code 2 and a message naming the flag). Each must end with a non-zero exit, a
 message naming the offending file, and no output (neither the guidance JSON
 nor the CSV files, nor a temporary file left behind). Every defect is first
 shown harmless in its correct form (the same files without the defect run),
@@ -24,9 +27,10 @@ rng = np.random.default_rng(7)
 INIT = (2025, 12, 1)
 
 
-def expect(what, files, must_name, model=None, extra=()):
+def expect(what, files, must_name, model=None, extra=(), exit_code=None):
     """Runs classify on `files` (its own output folder) and checks the outcome.
-    must_name: the file the message has to name, or None for a run that must succeed."""
+    must_name: the file (or flag) the message has to name, or None for a run that must succeed.
+    exit_code: the exit code a refusal must have (any non-zero when None)."""
     out_dir = os.path.join(tmp, "out_" + what.replace(" ", "_"))
     os.makedirs(out_dir)
     out = os.path.join(out_dir, "guidance.json")
@@ -36,7 +40,10 @@ def expect(what, files, must_name, model=None, extra=()):
     if must_name is None:
         check(r.returncode == 0 and os.path.exists(out), f"{what}: accepted (exit {r.returncode}) {message[-300:]}")
         return
-    check(r.returncode != 0, f"{what}: refused with exit code {r.returncode}")
+    check(r.returncode != 0 if exit_code is None else r.returncode == exit_code,
+          f"{what}: refused with exit code {r.returncode}" + ("" if exit_code is None else f" (expected {exit_code})"))
+    if exit_code == 2:
+        check(r.stderr.startswith("isohypse: error: "), f"{what}: an isohypse input error, not a usage message: {message[-200:]}")
     check(must_name in r.stderr, f"{what}: the message names {os.path.basename(must_name)}: {message[-400:]}")
     left = sorted(os.listdir(out_dir))
     check(not left, f"{what}: no output written (folder holds {left})")
@@ -108,4 +115,14 @@ rf_fine = os.path.join(tmp, "rf_20191201_fine.nc")
 fine = 5500.0 + rng.normal(0.0, 50.0, (2, 20, fine_lat.size, fine_lon.size))
 write_forecast(rf_fine, fine, fine_lat, fine_lon, (2019, 12, 1))
 expect("reforecasts on another grid", [base], rf_fine, extra=("--reforecasts", rf_fine))
+
+# Flags: each correct value runs, each bad one is refused naming the flag (the
+# first three are parsed inside CLI11's option callbacks, the rest checked by
+# ClassifyConfig::validate).
+expect("flags in range", [base], None, extra=("--windows", "2-5", "--weights", "exp:2", "--issue-date", "2025-12-03",
+                                              "--lag", "1", "--reforecast-window", "60", "--lead-smoothing", "15",
+                                              "--threads", "1"))
+for flag, value in (("--windows", "5-2"), ("--weights", "bogus"), ("--issue-date", "2026-13-01"), ("--lag", "-2"),
+                    ("--reforecast-window", "70"), ("--lead-smoothing", "16"), ("--threads", "-1")):
+    expect(f"{flag} {value}", [base], flag, extra=(f"{flag}={value}",), exit_code=2)
 finish()

@@ -1,9 +1,13 @@
-// The daily stage: lagged-ensemble forecasts in, regime guidance out.
-//   scan forecasts (metadata) | choose the lagged ensemble | [model climate
-//   from reforecasts by lead] | read members | regrid | anomalies | [running
-//   mean] | sqrt(cos lat) weights | project on the EOFs | nearest centroid
-//   with the no-regime threshold | probabilities, windows, persistence,
-//   transitions | guidance JSON (config/guidance.schema.json) [| CSV]
+// The daily stage: lagged-ensemble forecasts in, regime guidance out. Its
+// steps (src/stages/classify/, one file each):
+//   choose the lagged ensemble (scan the forecasts' metadata) | build the
+//   model climate from reforecasts by lead (or the model's climatology) |
+//   label the members (read, regrid, anomalies, running mean, project on the
+//   EOFs, nearest centroid with the no-regime threshold) | compute the window
+//   statistics (probabilities, windows, persistence, transitions) | the
+//   latest observed regime | write the document (the guidance JSON,
+//   config/guidance.schema.json). The CSV (guidance_csv.hpp) and the terminal
+//   summary (guidance_text.hpp) are made from that document.
 #pragma once
 
 #include <functional>
@@ -35,6 +39,12 @@ struct ClassifyConfig {
   int reforecast_window_days = 7;         // reforecasts initialised within +-N days of the year
   int lead_smoothing_days = 5;            // running mean of the model climate along lead
   int threads = 0;                        // members read and labelled at once; 0 = every core
+
+  // Checks every setting: at least one forecast path; lag >= 0; reforecast
+  // window 0..60 days; lead smoothing 0..15 days; threads >= 0; at least one
+  // window, each 0 <= first <= last. Throws InputError naming the setting
+  // (its field and its command-line flag) and the value found.
+  void validate() const;
 };
 
 // Where classify's time went, in seconds of wall time (for --timings and the
@@ -56,16 +66,12 @@ struct ClassifyTimings {
 
 using ClassifyProgress = std::function<void(const std::string& stage, int done, int total)>;
 
-// Runs the stage; returns the guidance document. Throws InputError /
-// DataError naming the file and the problem.
+// Runs the stage; returns the guidance document. Calls config.validate()
+// first, so a bad setting is refused before any file is touched. Throws
+// InputError / DataError naming the file (or setting) and the problem;
+// InternalError when two of its own steps disagree (a bug). progress, if
+// set, is called from the calling thread; timings, if given, is filled in.
 nlohmann::json classify_forecasts(const RegimeModel& model, const ClassifyConfig& config,
                                   const ClassifyProgress& progress = {}, ClassifyTimings* timings = nullptr);
-
-// For impact models: DIR/daily.csv and DIR/windows.csv (atomically).
-void write_guidance_csv(const nlohmann::json& guidance, const std::string& dir);
-
-// A few lines for the terminal: the most likely regime by window, with
-// probabilities, and whether bias correction was applied.
-std::string guidance_text(const nlohmann::json& guidance);
 
 }  // namespace isohypse

@@ -1,0 +1,18 @@
+// The guidance as CSV for impact models: the daily probabilities and the
+// window dominance and expected days, one column per state.
+#pragma once
+
+#include <nlohmann/json.hpp>
+#include <string>
+
+namespace isohypse {
+
+// Writes DIR/daily.csv (valid_date, lead_days, then the probability of each
+// state) and DIR/windows.csv (first_lead_days, last_lead_days, from, to, then
+// p_dominant_STATE and expected_days_STATE for each state), each atomically;
+// a missing value (JSON null) is an empty field. Creates DIR. `guidance` is a
+// document from classify_forecasts. Throws InputError when DIR cannot be
+// created or a file cannot be written.
+void write_guidance_csv(const nlohmann::json& guidance, const std::string& dir);
+
+}  // namespace isohypse

@@ -1,0 +1,66 @@
+#include "isohypse/stages/guidance_csv.hpp"
+
+#include <filesystem>
+#include <sstream>
+
+#include "isohypse/base/atomic_file.hpp"
+#include "isohypse/base/error.hpp"
+
+namespace isohypse {
+
+namespace {
+
+using json = nlohmann::json;
+
+// A number with 6 significant digits; null is an empty field.
+std::string csv_number(const json& v) {
+  if (v.is_null()) return std::string();
+  std::ostringstream o;
+  o.precision(6);
+  o << v.get<double>();
+  return o.str();
+}
+
+std::string daily_csv(const json& g) {
+  const json& states = g.at("states");
+  std::ostringstream d;
+  d << "valid_date,lead_days";
+  for (const auto& s : states) d << "," << s.get<std::string>();
+  d << "\n";
+  for (const auto& e : g.at("daily")) {
+    d << e.at("valid_date").get<std::string>() << "," << e.at("lead_days").get<int>();
+    for (const auto& s : states) d << "," << csv_number(e.at("probabilities").at(s.get<std::string>()));
+    d << "\n";
+  }
+  return d.str();
+}
+
+std::string windows_csv(const json& g) {
+  const json& states = g.at("states");
+  std::ostringstream w;
+  w << "first_lead_days,last_lead_days,from,to";
+  for (const auto& s : states) w << ",p_dominant_" << s.get<std::string>();
+  for (const auto& s : states) w << ",expected_days_" << s.get<std::string>();
+  w << "\n";
+  for (const auto& e : g.at("windows")) {
+    w << e.at("first_lead_days").get<int>() << "," << e.at("last_lead_days").get<int>() << ","
+      << e.at("from").get<std::string>() << "," << e.at("to").get<std::string>();
+    for (const auto& s : states) w << "," << csv_number(e.at("dominance").at(s.get<std::string>()));
+    for (const auto& s : states) w << "," << csv_number(e.at("expected_days").at(s.get<std::string>()));
+    w << "\n";
+  }
+  return w.str();
+}
+
+}  // namespace
+
+void write_guidance_csv(const json& g, const std::string& dir) {
+  std::error_code ec;
+  std::filesystem::create_directories(dir, ec);
+  if (ec) throw InputError(dir + ": cannot create the folder: " + ec.message());
+  const std::string daily = daily_csv(g), windows = windows_csv(g);
+  write_file_atomically((std::filesystem::path(dir) / "daily.csv").string(), daily);
+  write_file_atomically((std::filesystem::path(dir) / "windows.csv").string(), windows);
+}
+
+}  // namespace isohypse

@@ -1,0 +1,168 @@
+#include "stages/classify/guidance_document.hpp"
+
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "isohypse/base/error.hpp"
+#include "isohypse/base/vocabulary.hpp"
+
+namespace isohypse {
+
+namespace {
+
+using json = nlohmann::json;
+
+const std::string& state_name(const std::vector<std::string>& states, int s) {
+  if (s < 0 || static_cast<std::size_t>(s) >= states.size())
+    throw InternalError("guidance document: state " + std::to_string(s) + " of " + std::to_string(states.size()));
+  return states[static_cast<std::size_t>(s)];
+}
+
+json vec_json(const arma::vec& v) {
+  json a = json::array();
+  for (double x : v) a.push_back(number_or_null(x));
+  return a;
+}
+
+json by_state(const std::vector<std::string>& states, const arma::vec& v) {
+  if (v.n_elem != states.size())
+    throw InternalError("guidance document: " + std::to_string(v.n_elem) + " values for " +
+                        std::to_string(states.size()) + " states");
+  json o = json::object();
+  for (std::size_t s = 0; s < states.size(); ++s) o[states[s]] = number_or_null(v(s));
+  return o;
+}
+
+json regimes_json(const RegimeModel& model) {
+  json regimes = json::array();
+  for (int r = 0; r < model.k(); ++r) {
+    const RegimeInfo& info = model.regimes.at(static_cast<std::size_t>(r));
+    regimes.push_back({{"id", info.id}, {"name", info.name}, {"climatological_frequency", info.frequency}});
+  }
+  return regimes;
+}
+
+json ensemble_json(const LaggedEnsemble& e, const ClassifyConfig& cfg) {
+  json inits = json::array();
+  for (std::size_t i = 0; i < e.chosen.size(); ++i) {
+    const Initialisation& in = *e.chosen[i];
+    inits.push_back({{"date", to_string(in.init_real)}, {"model_date", to_string(in.init)},
+                     {"model_calendar", calendar_name(in.init.calendar)}, {"age_days", e.ages[i]},
+                     {"weight", e.weights[i]}, {"members", in.members.size()}, {"lead_days", in.n_leads},
+                     {"files", in.files}});
+  }
+  return {{"initialisations", inits}, {"members", e.total_members()}, {"weights", cfg.weights.to_string()},
+          {"lag", static_cast<int>(e.chosen.size())}};
+}
+
+json bias_correction_json(const ModelClimate& climate, const ClassifyConfig& cfg) {
+  if (!climate.from_reforecasts)
+    return {{"applied", false},
+            {"note", "no reforecasts given: anomalies are against the regime model's reanalysis climatology, "
+                     "so the model's own drift with lead is not removed"}};
+  return {{"applied", true},
+          {"method", "anomalies against the mean of reforecasts initialised within +-" +
+                         std::to_string(cfg.reforecast_window_days) + " days of the year, by lead day, smoothed " +
+                         "with a " + std::to_string(cfg.lead_smoothing_days) + "-day running mean in lead"},
+          {"reforecast_files", climate.reforecast_files_read.size()}};
+}
+
+// Each valid day's probabilities; the latest initialisation's model-calendar date where it reaches the day.
+json daily_json(const WindowStatistics& s, const LaggedEnsemble& e, const std::vector<std::string>& states) {
+  json daily = json::array();
+  for (const auto& d : s.daily) {
+    const int lead_latest = d.offset + e.ages.back();
+    json entry = {{"valid_date", to_string(add_days(e.issue, d.offset))},
+                  {"lead_days", d.offset},
+                  {"probabilities", by_state(states, d.probability)},
+                  {"most_likely", state_name(states, d.most_likely)},
+                  {"members", d.members},
+                  {"weight_sum", d.weight_sum}};
+    if (lead_latest >= 0 && lead_latest < e.latest().n_leads)
+      entry["model_valid_date"] = to_string(e.latest().valid_model(lead_latest));
+    daily.push_back(entry);
+  }
+  return daily;
+}
+
+json windows_json(const WindowStatistics& s, const Date& issue, const std::vector<std::string>& states) {
+  json windows = json::array();
+  for (const auto& w : s.windows)
+    windows.push_back({{"first_lead_days", w.first},
+                       {"last_lead_days", w.last},
+                       {"from", to_string(add_days(issue, w.first))},
+                       {"to", to_string(add_days(issue, w.last))},
+                       {"expected_days", by_state(states, w.expected_days)},
+                       {"dominance", by_state(states, w.dominance)},
+                       {"members", w.members},
+                       {"transitions", transition_json(states, w.transition, w.transition_counts)}});
+  return windows;
+}
+
+json persistence_json(const WindowStatistics& s, const std::optional<ObservedRegime>& observed, const Date& issue,
+                      const std::vector<std::string>& states) {
+  json ages = json::array();
+  for (const auto& a : s.current_age)
+    ages.push_back({{"lead_days", a.offset}, {"valid_date", to_string(add_days(issue, a.offset))},
+                    {"probability", vec_json(a.probability)}, {"mean_age_days", a.mean_age}});
+  json forecast = json::object(), climatological = json::object();
+  for (int st = 0; st < s.n_states; ++st) {
+    forecast[state_name(states, st)] = vec_json(s.lasting.probability.row(st).t());
+    climatological[state_name(states, st)] = vec_json(s.lasting_climatological.row(st).t());
+  }
+  json now = nullptr;
+  if (observed)
+    now = {{"regime", state_name(states, observed->state)}, {"age_days", observed->age_days},
+           {"as_of", to_string(observed->as_of)}, {"source", observed->source}};
+  return {{"current_age", ages},
+          {"current_age_bins", "probability[i] is for age i+1 days; the last bin is that age or more"},
+          {"lasting", {{"horizons_days", s.lasting.horizons}, {"forecast", forecast},
+                       {"climatological", climatological}}},
+          {"observed", now}};
+}
+
+json provenance_json(const RegimeModel& model, const LaggedEnsemble& e, const ModelClimate& climate,
+                     const ClassifyConfig& cfg) {
+  return {{"tool", "isohypse"},
+          {"version", ISOHYPSE_VERSION},
+          {"created", utc_timestamp_now()},
+          {"model", {{"path", model.path}, {"sha256", model.sha256}, {"format_version", model.format_version}}},
+          {"forecast_files", e.forecast_files},
+          {"reforecast_files_read", climate.reforecast_files_read},
+          {"analysis_files", cfg.analysis}};
+}
+
+}  // namespace
+
+json guidance_document(const RegimeModel& model, const ClassifyConfig& cfg, const GuidanceParts& parts) {
+  const std::vector<std::string> states = model_states(model);
+  const LaggedEnsemble& e = parts.ensemble;
+  if (parts.statistics.n_states != static_cast<int>(states.size()))
+    throw InternalError("guidance document: statistics of " + std::to_string(parts.statistics.n_states) +
+                        " states for a model of " + std::to_string(states.size()));
+  json g;
+  g["format"] = "isohypse-guidance";
+  g["format_version"] = kGuidanceFormatVersion;
+  g["caution"] = kCaution;
+  g["issue_date"] = to_string(e.issue);
+  g["regimes"] = regimes_json(model);
+  g["states"] = states;
+  g["ensemble"] = ensemble_json(e, cfg);
+  g["bias_correction"] = bias_correction_json(parts.climate, cfg);
+  g["daily"] = daily_json(parts.statistics, e, states);
+  g["windows"] = windows_json(parts.statistics, e.issue, states);
+  g["persistence"] = persistence_json(parts.statistics, parts.observed, e.issue, states);
+  g["transitions"] = {
+      {"climatological",
+       transition_json(states, model.transition, arma::conv_to<arma::mat>::from(model.transition_counts))}};
+  if (cfg.member_detail) {
+    json members = json::array();
+    for (auto& d : parts.labels.detail) members.push_back(std::move(d));
+    g["members"] = std::move(members);
+  }
+  g["provenance"] = provenance_json(model, e, parts.climate, cfg);
+  return g;
+}
+
+}  // namespace isohypse

@@ -1,0 +1,59 @@
+#include "isohypse/stages/guidance_text.hpp"
+
+#include <cstdio>
+#include <map>
+#include <sstream>
+
+#include "isohypse/base/vocabulary.hpp"
+
+namespace isohypse {
+
+namespace {
+
+using json = nlohmann::json;
+
+std::string ensemble_lines(const json& g) {
+  std::ostringstream o;
+  o << "Regime guidance issued " << g.at("issue_date").get<std::string>() << " from "
+    << g.at("ensemble").at("members").get<int>() << " members of " << g.at("ensemble").at("lag").get<int>()
+    << " initialisations (weights " << g.at("ensemble").at("weights").get<std::string>() << ")\n";
+  o << (g.at("bias_correction").at("applied").get<bool>() ? "Model drift removed with reforecasts.\n"
+                                                           : "No reforecasts: model drift NOT removed.\n");
+  const json& obs = g.at("persistence").at("observed");
+  if (!obs.is_null())
+    o << "Observed regime " << obs.at("regime").get<std::string>() << " for " << obs.at("age_days").get<int>()
+      << " days as of " << obs.at("as_of").get<std::string>() << " (" << obs.at("source").get<std::string>() << ")\n";
+  return o.str();
+}
+
+// One line per window: the state most likely to dominate it and its probability.
+std::string window_lines(const json& g) {
+  std::map<std::string, std::string> names;
+  for (const auto& r : g.at("regimes")) names[r.at("id")] = r.at("name");
+  names[kNoRegimeState] = kNoRegimeName;
+  std::ostringstream o;
+  char line[256];
+  o << "\nwindow (lead days)   most likely to dominate                      probability\n";
+  for (const auto& w : g.at("windows")) {
+    std::string best;
+    double bp = -1;
+    for (const auto& [s, p] : w.at("dominance").items())
+      if (!p.is_null() && p.get<double>() > bp) {
+        bp = p.get<double>();
+        best = s;
+      }
+    std::snprintf(line, sizeof line, "%3d-%-3d %s..%s  %-4s %-40.40s %5.0f%%\n", w.at("first_lead_days").get<int>(),
+                  w.at("last_lead_days").get<int>(), w.at("from").get<std::string>().substr(5).c_str(),
+                  w.at("to").get<std::string>().substr(5).c_str(), best.c_str(), names[best].c_str(), 100 * bp);
+    o << line;
+  }
+  return o.str();
+}
+
+}  // namespace
+
+std::string guidance_text(const json& g) {
+  return ensemble_lines(g) + window_lines(g) + "\n" + g.at("caution").get<std::string>() + "\n";
+}
+
+}  // namespace isohypse

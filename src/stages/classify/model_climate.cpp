@@ -1,0 +1,165 @@
+#include "stages/classify/model_climate.hpp"
+
+#include <algorithm>
+#include <cstdlib>
+#include <map>
+#include <memory>
+#include <mutex>
+#include <set>
+
+#include "base/parallel.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/io/reader.hpp"
+#include "isohypse/numerics/climatology.hpp"
+
+namespace isohypse {
+
+namespace {
+
+// Position of a date on a 365-day year (29 February shares 28 February's).
+int year_position(const Date& d) {
+  int pos = 0;
+  for (int m = 1; m < d.month; ++m) pos += days_in_month(2001, m, Calendar::NoLeap);
+  return pos + std::min(d.day, days_in_month(2001, d.month, Calendar::NoLeap)) - 1;
+}
+
+int circular_day_distance(const Date& a, const Date& b) {
+  int d = std::abs(year_position(a) - year_position(b));
+  return std::min(d, 365 - d);
+}
+
+// The members of one reforecast initialisation summed: n_model_points x n_leads.
+struct MemberSum {
+  arma::fmat total;
+  std::size_t members = 0;
+};
+
+// Reforecast initialisations within the window of days of the year of `in`
+// with at least its lead days.
+std::vector<const Initialisation*> near_reforecasts(const std::vector<Initialisation>& reforecasts,
+                                                    const Initialisation& in, int window_days) {
+  std::vector<const Initialisation*> near;
+  for (const auto& r : reforecasts)
+    if (circular_day_distance(r.init, in.init) <= window_days && r.n_leads >= in.n_leads) near.push_back(&r);
+  if (near.empty())
+    throw InputError("no reforecast initialised within " + std::to_string(window_days) + " days of the year of " +
+                     in.id() + " with at least " + std::to_string(in.n_leads) + " lead days (reforecasts run from " +
+                     reforecasts.front().id() + " to " + reforecasts.back().id() + ")");
+  return near;
+}
+
+// Every reforecast initialisation that some chosen one needs, in reforecast order.
+std::vector<const Initialisation*> reforecasts_needed(const std::vector<Initialisation>& reforecasts,
+                                                      const std::vector<const Initialisation*>& chosen,
+                                                      int window_days) {
+  std::set<const Initialisation*> wanted;
+  for (const auto* in : chosen)
+    for (const auto* r : near_reforecasts(reforecasts, *in, window_days)) wanted.insert(r);
+  std::vector<const Initialisation*> needed;
+  for (const auto& r : reforecasts)
+    if (wanted.count(&r)) needed.push_back(&r);
+  return needed;
+}
+
+// The member sum of each needed reforecast initialisation, each read once.
+// Threads share the initialisations (reads under a lock: netCDF-C is not
+// thread-safe); each sums its members in order, so the result does not
+// depend on the threads.
+std::vector<MemberSum> sum_members(const std::vector<const Initialisation*>& needed, const Regridder& regrid,
+                                   const ClassifyConfig& cfg, const ClassifyProgress& report) {
+  EnsembleReader reader(needed, regrid, cfg.variable);
+  std::vector<std::size_t> first_slot(needed.size() + 1, reader.size());
+  for (std::size_t k = reader.size(); k-- > 0;) first_slot[reader.slot(k).init] = k;
+  std::mutex netcdf;
+  detail::StatePool<EnsembleReader::Work> buffers([] { return std::make_unique<EnsembleReader::Work>(); });
+  std::vector<MemberSum> sums(needed.size());
+  report("reforecasts", 0, static_cast<int>(needed.size()));
+  detail::parallel_for(
+      needed.size(), cfg.threads,
+      [&](std::size_t u) {
+        const auto w = buffers.lease();
+        MemberSum& s = sums[u];
+        for (std::size_t k = first_slot[u]; k < reader.size() && reader.slot(k).init == u; ++k) {
+          reader.fetch(k, netcdf, *w);
+          if (s.total.is_empty()) s.total.zeros(w->heights.n_rows, w->heights.n_cols);
+          s.total += w->heights;
+          ++s.members;
+        }
+      },
+      [&](std::size_t done, std::size_t n) { report("reforecasts", static_cast<int>(done), static_cast<int>(n)); });
+  return sums;
+}
+
+// The model climate of `in`: the mean of the near reforecasts' members by
+// lead, smoothed in lead.
+arma::fmat climate_of(const Initialisation& in, const std::vector<const Initialisation*>& near,
+                      const std::map<std::string, MemberSum>& sums, arma::uword n_points, int smoothing_days) {
+  arma::fmat sum(n_points, static_cast<arma::uword>(in.n_leads), arma::fill::zeros);
+  std::size_t n = 0;
+  for (const auto* r : near) {
+    const MemberSum& s = sums.at(r->id());
+    if (s.total.n_rows != n_points || s.total.n_cols < static_cast<arma::uword>(in.n_leads))
+      throw InternalError("model climate of " + in.id() + ": the member sum of reforecast " + r->id() + " is " +
+                          std::to_string(s.total.n_rows) + " x " + std::to_string(s.total.n_cols) + ", expected " +
+                          std::to_string(n_points) + " points x at least " + std::to_string(in.n_leads) + " leads");
+    sum += s.total.cols(0, static_cast<arma::uword>(in.n_leads) - 1);
+    n += s.members;
+  }
+  sum /= static_cast<float>(n);
+  std::vector<Date> leads;  // consecutive days: a plain centred running mean in lead
+  for (int l = 0; l < in.n_leads; ++l) leads.push_back(in.valid_model(l));
+  running_mean(sum, leads, smoothing_days);
+  return sum;
+}
+
+}  // namespace
+
+std::vector<Initialisation> scan_reforecasts(const RegimeModel& model, const ClassifyConfig& cfg,
+                                             const LaggedEnsemble& ensemble, const ClassifyProgress& report) {
+  if (cfg.reforecasts.empty()) return {};
+  const std::vector<std::string> paths = expand_paths(cfg.reforecasts);
+  report("scan reforecasts", 0, static_cast<int>(paths.size()));
+  std::vector<Initialisation> refc = scan_forecasts(paths, cfg.variable, model.domain, &model.grid);
+  const Initialisation& fc = ensemble.latest();
+  const Grid& rg = refc.front().native_grid;
+  if (!rg.same_as(fc.native_grid))
+    throw InputError(refc.front().files.front() + ": the reforecast grid (" + std::to_string(rg.n_lat()) + " x " +
+                     std::to_string(rg.n_lon()) + " over the domain) does not match the forecast grid of " +
+                     fc.files.front() + " (" + std::to_string(fc.native_grid.n_lat()) + " x " +
+                     std::to_string(fc.native_grid.n_lon()) + ")");
+  return refc;
+}
+
+ModelClimate build_model_climate(const RegimeModel& model, const ClassifyConfig& cfg, const LaggedEnsemble& ensemble,
+                                 const std::vector<Initialisation>& reforecasts, const ClassifyProgress& report) {
+  ModelClimate c;
+  c.from_reforecasts = !reforecasts.empty();
+  if (!c.from_reforecasts) {
+    for (const auto& valid : ensemble.valid_model) c.by_initialisation.push_back(model.climatology.evaluate(valid));
+    return c;
+  }
+  const int window = cfg.reforecast_window_days;
+  const std::vector<const Initialisation*> needed = reforecasts_needed(reforecasts, ensemble.chosen, window);
+  std::vector<MemberSum> sums = sum_members(needed, ensemble.regrid, cfg, report);
+  std::map<std::string, MemberSum> by_id;
+  for (std::size_t u = 0; u < needed.size(); ++u) {
+    for (const auto& f : needed[u]->files) c.reforecast_files_read.push_back(f);
+    by_id.emplace(needed[u]->id(), std::move(sums[u]));
+  }
+  // Initialisations with the same near reforecasts and the same lead days
+  // share one climate (the lead days count: the running mean in lead ends at
+  // the last lead).
+  std::map<std::string, arma::fmat> shared;
+  for (const auto* in : ensemble.chosen) {
+    const std::vector<const Initialisation*> near = near_reforecasts(reforecasts, *in, window);
+    std::string key = std::to_string(in->n_leads) + " leads:";
+    for (const auto* r : near) key += r->id() + ";";
+    auto it = shared.find(key);
+    if (it == shared.end())
+      it = shared.emplace(key, climate_of(*in, near, by_id, model.grid.n_points(), cfg.lead_smoothing_days)).first;
+    c.by_initialisation.push_back(it->second);
+  }
+  return c;
+}
+
+}  // namespace isohypse
