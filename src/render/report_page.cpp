@@ -1,13 +1,13 @@
 // Rendering a verification report: a self-contained HTML page with inline
 // SVG (no scripts, fonts or network), and a short text for the terminal.
+#include "isohypse/render/report_page.hpp"
+
 #include <algorithm>
 #include <cmath>
-#include <vector>
 #include <cstdio>
 #include <map>
 #include <sstream>
-
-#include "isohypse/render/report_page.hpp"
+#include <vector>
 
 #include "isohypse/base/calendar.hpp"
 #include "isohypse/base/vocabulary.hpp"
@@ -18,11 +18,9 @@ namespace {
 
 using json = nlohmann::json;
 
-// Colours and escaping come from the shared vocabulary (base/vocabulary.hpp).
-std::string colour_of(const std::string& state, const json& states) {
-  return state_colour(states.get<std::vector<std::string>>(), state);
-}
-
+// Colours and escaping come from the shared vocabulary (base/vocabulary.hpp):
+// state_colour for everything coloured by regime, series_colour for lines
+// that are not regimes (score lines, lead windows).
 std::string esc(const std::string& s) { return html_escape(s); }
 
 std::string fmt(const json& v, const char* f = "%.2f") {
@@ -37,7 +35,8 @@ std::string interval_text(const json& i) {
 }
 
 // A line chart of series y(x); y may be null.
-std::string line_chart(const std::string& title, const std::vector<std::pair<std::string, std::vector<std::pair<double, json>>>>& series,
+std::string line_chart(const std::string& title,
+                       const std::vector<std::pair<std::string, std::vector<std::pair<double, json>>>>& series,
                        double ymin, double ymax, const std::string& xlabel) {
   const double W = 640, H = 280, L = 50, R = 130, T = 30, B = 40;
   double xmax = 1;
@@ -60,9 +59,11 @@ std::string line_chart(const std::string& title, const std::vector<std::pair<std
     o << "<text x=\"" << X(x) << "\" y=\"" << H - B + 16 << "\" text-anchor=\"middle\">" << fmt(json(x), "%.0f")
       << "</text>";
   }
-  o << "<text x=\"" << (L + W - R) / 2 << "\" y=\"" << H - 6 << "\" text-anchor=\"middle\">" << esc(xlabel) << "</text>";
+  o << "<text x=\"" << (L + W - R) / 2 << "\" y=\"" << H - 6 << "\" text-anchor=\"middle\">" << esc(xlabel)
+    << "</text>";
   if (ymin < 0 && ymax > 0)
-    o << "<line x1=\"" << L << "\" x2=\"" << W - R << "\" y1=\"" << Y(0) << "\" y2=\"" << Y(0) << "\" stroke=\"#888\"/>";
+    o << "<line x1=\"" << L << "\" x2=\"" << W - R << "\" y1=\"" << Y(0) << "\" y2=\"" << Y(0)
+      << "\" stroke=\"#888\"/>";
   int si = 0;
   for (const auto& [name, pts] : series) {
     std::string col = series_colour(si);
@@ -89,7 +90,8 @@ std::string reliability_chart(const json& windows) {
     << "\" stroke=\"#888\" stroke-dasharray=\"4 3\"/>";
   o << "<rect x=\"" << P(0) << "\" y=\"" << Q(1) << "\" width=\"" << P(1) - P(0) << "\" height=\"" << Q(0) - Q(1)
     << "\" fill=\"none\" stroke=\"#444\"/>";
-  o << "<text x=\"" << (P(0) + P(1)) / 2 << "\" y=\"" << S - 8 << "\" text-anchor=\"middle\">forecast probability</text>";
+  o << "<text x=\"" << (P(0) + P(1)) / 2 << "\" y=\"" << S - 8
+    << "\" text-anchor=\"middle\">forecast probability</text>";
   o << "<text x=\"12\" y=\"" << (Q(0) + Q(1)) / 2 << "\" transform=\"rotate(-90 12 " << (Q(0) + Q(1)) / 2
     << ")\" text-anchor=\"middle\">observed frequency</text>";
   int wi = 0;
@@ -107,15 +109,12 @@ std::string reliability_chart(const json& windows) {
   return o.str();
 }
 
-// Observed sequence (top row) against the most likely regime of guidance
-// issued `lead` days before each date.
-std::string sequence_chart(const json& rep) {
-  const json& states = rep["states"];
+// The most likely state of the guidance issued `lead` days before each day of
+// the observed sequence, for the leads charted: (lead, day index) -> state.
+std::map<std::pair<int, int>, std::string> guidance_cells(const json& rep, const std::vector<int>& leads) {
   const json& obs = rep["sequence"]["observed"];
   std::map<std::string, int> day_index;
   for (std::size_t i = 0; i < obs.size(); ++i) day_index[obs[i][0]] = static_cast<int>(i);
-  const std::vector<int> leads = {1, 3, 5, 7, 10, 14, 21, 28};
-  // (lead, day) -> most likely, from the guidance issued lead days before.
   std::map<std::pair<int, int>, std::string> cell;
   for (const auto& g : rep["sequence"]["guidance"]) {
     Date issue = parse_date(g["issue_date"].get<std::string>(), Calendar::ProlepticGregorian);
@@ -126,6 +125,26 @@ std::string sequence_chart(const json& rep) {
       if (it != day_index.end()) cell[{lead, it->second}] = e[1];
     }
   }
+  return cell;
+}
+
+// A row of the legend: a swatch and the id of every state.
+std::string state_legend(const std::vector<std::string>& states, double x, double y) {
+  std::ostringstream o;
+  for (const auto& s : states) {
+    o << "<rect x=\"" << x << "\" y=\"" << y - 10 << "\" width=\"12\" height=\"12\" fill=\"" << state_colour(states, s)
+      << "\"/><text x=\"" << x + 16 << "\" y=\"" << y << "\">" << esc(s) << "</text>";
+    x += 40 + 8 * s.size();
+  }
+  return o.str();
+}
+
+// Observed sequence (top row) against the most likely regime of guidance
+// issued `lead` days before each date.
+std::string sequence_chart(const json& rep, const std::vector<std::string>& states) {
+  const json& obs = rep["sequence"]["observed"];
+  const std::vector<int> leads = {1, 3, 5, 7, 10, 14, 21, 28};
+  const auto cell = guidance_cells(rep, leads);
   const double cw = std::max(2.0, std::min(8.0, 900.0 / std::max<std::size_t>(1, obs.size()))), rh = 16, L = 90;
   const double W = L + cw * obs.size() + 10, H = rh * (leads.size() + 1) + 60;
   std::ostringstream o;
@@ -134,25 +153,20 @@ std::string sequence_chart(const json& rep) {
   o << "<text x=\"" << L - 6 << "\" y=\"" << 12 + rh * 0.7 << "\" text-anchor=\"end\">observed</text>";
   for (std::size_t i = 0; i < obs.size(); ++i)
     o << "<rect x=\"" << L + cw * i << "\" y=\"12\" width=\"" << cw << "\" height=\"" << rh - 2 << "\" fill=\""
-      << colour_of(obs[i][1], states) << "\"><title>" << obs[i][0].get<std::string>() << " "
-      << obs[i][1].get<std::string>() << "</title></rect>";
+      << state_colour(states, obs[i][1]) << "\"><title>" << obs[i][0].get<std::string>() << " "
+      << esc(obs[i][1].get<std::string>()) << "</title></rect>";
   for (std::size_t r = 0; r < leads.size(); ++r) {
     double y = 12 + rh * (r + 1);
-    o << "<text x=\"" << L - 6 << "\" y=\"" << y + rh * 0.7 << "\" text-anchor=\"end\">lead " << leads[r] << " d</text>";
+    o << "<text x=\"" << L - 6 << "\" y=\"" << y + rh * 0.7 << "\" text-anchor=\"end\">lead " << leads[r]
+      << " d</text>";
     for (std::size_t i = 0; i < obs.size(); ++i) {
       auto it = cell.find({leads[r], static_cast<int>(i)});
       if (it == cell.end()) continue;
       o << "<rect x=\"" << L + cw * i << "\" y=\"" << y << "\" width=\"" << cw << "\" height=\"" << rh - 2
-        << "\" fill=\"" << colour_of(it->second, states) << "\"/>";
+        << "\" fill=\"" << state_colour(states, it->second) << "\"/>";
     }
   }
-  double ly = 12 + rh * (leads.size() + 1) + 20;
-  double lx = L;
-  for (const auto& s : states) {
-    o << "<rect x=\"" << lx << "\" y=\"" << ly - 10 << "\" width=\"12\" height=\"12\" fill=\""
-      << colour_of(s, states) << "\"/><text x=\"" << lx + 16 << "\" y=\"" << ly << "\">" << esc(s) << "</text>";
-    lx += 40 + 8 * s.get<std::string>().size();
-  }
+  o << state_legend(states, L, 12 + rh * (leads.size() + 1) + 20);
   if (!obs.empty())
     o << "<text x=\"" << L << "\" y=\"" << H - 6 << "\">" << obs.front()[0].get<std::string>() << "</text><text x=\""
       << W - 10 << "\" y=\"" << H - 6 << "\" text-anchor=\"end\">" << obs.back()[0].get<std::string>() << "</text>";
@@ -160,17 +174,22 @@ std::string sequence_chart(const json& rep) {
   return o.str();
 }
 
-}  // namespace
+using States = std::vector<std::string>;
 
-std::string verification_html(const json& rep) {
+std::string page_head(const json& rep) {
   std::ostringstream o;
-  const json& states = rep["states"];
   o << "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>isohypse verification "
     << rep["period"]["from"].get<std::string>() << " to " << rep["period"]["to"].get<std::string>()
     << "</title><style>body{font-family:sans-serif;margin:1.5em;max-width:1100px;color:#222}"
        "table{border-collapse:collapse;margin:.5em 0}td,th{border:1px solid #ccc;padding:3px 8px;text-align:right}"
        "th{background:#f3f3f3}td.l,th.l{text-align:left}.caution{background:#fff4e0;border-left:4px solid #b8860b;"
        "padding:.6em 1em}svg text{font-size:12px;font-family:sans-serif}small{color:#666}</style></head><body>";
+  return o.str();
+}
+
+// The title, the caution and what was verified against what.
+std::string summary_section(const json& rep) {
+  std::ostringstream o;
   o << "<h1>Regime guidance post-mortem</h1><p class=\"caution\">" << esc(rep["caution"].get<std::string>()) << "</p>";
   o << "<p>Valid dates " << rep["period"]["from"].get<std::string>() << " to " << rep["period"]["to"].get<std::string>()
     << "; " << rep["guidance"]["files"] << " guidance issues (" << rep["guidance"]["first_issue"].get<std::string>()
@@ -178,13 +197,23 @@ std::string verification_html(const json& rep) {
     << " forecast-observation pairs; observations from " << esc(rep["observations"]["source"].get<std::string>())
     << ". Intervals: " << fmt(json(100 * rep["bootstrap"]["confidence"].get<double>()), "%.0f")
     << "% block bootstrap over issue dates.</p>";
+  return o.str();
+}
+
+std::string regimes_table(const json& rep, const States& states) {
+  std::ostringstream o;
   o << "<h2>Regimes</h2><table><tr><th class=\"l\">id</th><th class=\"l\">name</th><th>climatological frequency</th>"
        "<th>false alarms</th></tr>";
   for (const auto& r : rep["regimes"])
-    o << "<tr><td class=\"l\" style=\"color:" << colour_of(r["id"], states) << "\">" << r["id"].get<std::string>()
-      << "</td><td class=\"l\">" << esc(r["name"].get<std::string>()) << "</td><td>"
+    o << "<tr><td class=\"l\" style=\"color:" << state_colour(states, r["id"]) << "\">"
+      << esc(r["id"].get<std::string>()) << "</td><td class=\"l\">" << esc(r["name"].get<std::string>()) << "</td><td>"
       << fmt(r["climatological_frequency"]) << "</td><td>" << r["false_alarms"] << "</td></tr>";
   o << "</table>";
+  return o.str();
+}
+
+std::string window_scores_table(const json& rep) {
+  std::ostringstream o;
   o << "<h2>Skill by window</h2><table><tr><th>lead days</th><th>cases</th><th>hit rate of the most likely regime</th>"
        "<th>Heidke skill</th><th>multi-category Brier skill vs climatology</th></tr>";
   for (const auto& w : rep["windows"])
@@ -192,6 +221,12 @@ std::string verification_html(const json& rep) {
       << "</td><td>" << interval_text(w["hit_rate"]) << "</td><td>" << interval_text(w["heidke"]) << "</td><td>"
       << interval_text(w["multicategory_brier_skill"]) << "</td></tr>";
   o << "</table>";
+  return o.str();
+}
+
+// The charts: skill against lead, reliability, and the observed sequence
+// against the guidance issued before it.
+std::string chart_sections(const json& rep, const States& states) {
   std::vector<std::pair<double, json>> hit, mcbss, hss;
   for (const auto& l : rep["by_lead"]) {
     double x = l["lead_days"].get<double>();
@@ -199,11 +234,17 @@ std::string verification_html(const json& rep) {
     mcbss.emplace_back(x, l["multicategory_brier_skill"]);
     hss.emplace_back(x, l["heidke"]);
   }
+  std::ostringstream o;
   o << "<h2>Skill against lead</h2>"
     << line_chart("Skill against lead", {{"hit rate", hit}, {"Heidke", hss}, {"Brier skill", mcbss}}, -0.2, 1.0,
                   "lead (days)");
   o << "<h2>Reliability</h2>" << reliability_chart(rep["windows"]);
-  o << "<h2>Observed sequence and the guidance issued before it</h2>" << sequence_chart(rep);
+  o << "<h2>Observed sequence and the guidance issued before it</h2>" << sequence_chart(rep, states);
+  return o.str();
+}
+
+std::string episodes_table(const json& rep, const States& states) {
+  std::ostringstream o;
   o << "<h2>Episodes of at least " << rep["episodes"]["min_days"] << " days</h2><p>caught "
     << rep["episodes"]["caught"] << ", missed " << rep["episodes"]["missed"] << ", false alarms "
     << rep["episodes"]["false_alarms"]
@@ -211,23 +252,21 @@ std::string verification_html(const json& rep) {
        "<table><tr><th class=\"l\">regime</th><th class=\"l\">onset</th><th class=\"l\">end</th><th>days</th>"
        "<th>caught</th><th>longest lead (days)</th></tr>";
   for (const auto& e : rep["episodes"]["list"])
-    o << "<tr><td class=\"l\" style=\"color:" << colour_of(e["regime"], states) << "\">" << e["regime"].get<std::string>()
-      << " " << esc(e["name"].get<std::string>()) << "</td><td class=\"l\">" << e["onset"].get<std::string>()
-      << "</td><td class=\"l\">" << e["end"].get<std::string>() << "</td><td>" << e["days"] << "</td><td>"
-      << (e["caught"].get<bool>() ? "yes" : "no") << "</td><td>"
+    o << "<tr><td class=\"l\" style=\"color:" << state_colour(states, e["regime"]) << "\">"
+      << esc(e["regime"].get<std::string>()) << " " << esc(e["name"].get<std::string>()) << "</td><td class=\"l\">"
+      << e["onset"].get<std::string>() << "</td><td class=\"l\">" << e["end"].get<std::string>() << "</td><td>"
+      << e["days"] << "</td><td>" << (e["caught"].get<bool>() ? "yes" : "no") << "</td><td>"
       << (e["longest_lead_days"].is_null() ? "&ndash;" : std::to_string(e["longest_lead_days"].get<int>()))
       << "</td></tr>";
-  o << "</table><h2>Frequency bias (forecast / observed days)</h2><table><tr><th>lead days</th>";
-  for (const auto& s : states) o << "<th>" << s.get<std::string>() << "</th>";
-  o << "</tr>";
-  for (const auto& w : rep["windows"]) {
-    o << "<tr><td>" << w["first_lead_days"] << "&ndash;" << w["last_lead_days"] << "</td>";
-    for (const auto& s : states) o << "<td>" << fmt(w["frequency_bias"][s.get<std::string>()]["bias"]) << "</td>";
-    o << "</tr>";
-  }
-  // Months in season order: the one after the largest gap first (Nov, Dec, Jan, ...).
+  o << "</table>";
+  return o.str();
+}
+
+// The months of the report in season order: the one after the largest gap
+// first (Nov, Dec, Jan, ...).
+std::vector<int> season_months(const json& by_month) {
   std::vector<int> months;
-  for (const auto& [m, fb] : rep["frequency_bias_by_month"].items()) months.push_back(std::stoi(m));
+  for (const auto& [m, fb] : by_month.items()) months.push_back(std::stoi(m));
   std::sort(months.begin(), months.end());
   if (months.size() > 1) {
     std::size_t start = 0;
@@ -239,17 +278,47 @@ std::string verification_html(const json& rep) {
       }
     std::rotate(months.begin(), months.begin() + static_cast<long>(start), months.end());
   }
-  static const char* kMonth[] = {"Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"};
-  for (int mo : months) {
-    const json& fb = rep["frequency_bias_by_month"][std::to_string(mo)];
-    o << "<tr><td>" << kMonth[mo - 1] << "</td>";
-    for (const auto& s : states) o << "<td>" << fmt(fb[s.get<std::string>()]["bias"]) << "</td>";
-    o << "</tr>";
+  return months;
+}
+
+// One row of the frequency-bias table: a label, then each state's bias.
+std::string bias_row(const std::string& label, const json& bias, const States& states) {
+  std::string row = "<tr><td>" + label + "</td>";
+  for (const auto& s : states) row += "<td>" + fmt(bias[s]["bias"]) + "</td>";
+  return row + "</tr>";
+}
+
+// Frequency bias by lead window, then by month.
+std::string frequency_bias_table(const json& rep, const States& states) {
+  std::ostringstream o;
+  o << "<h2>Frequency bias (forecast / observed days)</h2><table><tr><th>lead days</th>";
+  for (const auto& s : states) o << "<th>" << esc(s) << "</th>";
+  o << "</tr>";
+  for (const auto& w : rep["windows"]) {
+    std::ostringstream label;
+    label << w["first_lead_days"] << "&ndash;" << w["last_lead_days"];
+    o << bias_row(label.str(), w["frequency_bias"], states);
   }
-  o << "</table><p><small>isohypse " << esc(rep["provenance"]["version"].get<std::string>()) << ", regime model "
-    << esc(rep["provenance"]["model"]["sha256"].get<std::string>().substr(0, 12)) << ", created "
-    << rep["provenance"]["created"].get<std::string>() << "</small></p></body></html>\n";
+  static const char* kMonth[] = {"Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"};
+  const json& by_month = rep["frequency_bias_by_month"];
+  for (int mo : season_months(by_month)) o << bias_row(kMonth[mo - 1], by_month[std::to_string(mo)], states);
+  o << "</table>";
   return o.str();
+}
+
+std::string page_footer(const json& rep) {
+  return "<p><small>isohypse " + esc(rep["provenance"]["version"].get<std::string>()) + ", regime model " +
+         esc(rep["provenance"]["model"]["sha256"].get<std::string>().substr(0, 12)) + ", created " +
+         rep["provenance"]["created"].get<std::string>() + "</small></p></body></html>\n";
+}
+
+}  // namespace
+
+std::string verification_html(const json& rep) {
+  const States states = rep["states"].get<States>();
+  return page_head(rep) + summary_section(rep) + regimes_table(rep, states) + window_scores_table(rep) +
+         chart_sections(rep, states) + episodes_table(rep, states) + frequency_bias_table(rep, states) +
+         page_footer(rep);
 }
 
 std::string verification_text(const json& rep) {

@@ -146,4 +146,39 @@ check(r.returncode != 0 and "another regime model" in r.stderr and not os.path.e
       f"guidance from another regime model: {r.stderr.strip()[:180]}")
 refused(["--guidance", arch, "--observed", f"{world}/analysis/*.nc", "--from", "2030-01-01", "--to", "2030-02-01"],
         ["no observations"], "a period without observations")
+
+
+# 5. Bad flags: refused by the option builders or VerifyConfig::validate, exit 2 and one line naming the flag.
+def refused_with(args, code, words, what):
+    out = os.path.join(tmp, "bad.json")
+    r = run([BIN, "verify", "--model", model, *args, "--out", out])
+    msg = r.stderr.strip()
+    check(r.returncode == code and msg.startswith("isohypse: error: ") and all(w in msg for w in words)
+          and not os.path.exists(out), f"{what}: exit {r.returncode} (want {code}): {msg[:180]}")
+
+
+refused_with(["--guidance", arch, "--from", "2026-02-30"], 2, ["--from", "2026-02-30"], "an impossible --from date")
+refused_with(["--guidance", arch, "--windows", "3-1"], 2, ["--windows", "3-1"], "a window that runs backwards")
+refused_with(["--guidance", arch, "--bootstrap", "5"], 2, ["--bootstrap", "5"], "too few bootstrap resamples")
+refused_with(["--guidance", arch, "--from", "2026-02-01", "--to", "2026-01-01"], 2, ["--from", "after"],
+             "--from after --to")
+
+# 6. A malformed guidance file is bad data: exit 3, the message names the file and what is wrong.
+bad = os.path.join(tmp, "malformed")
+os.makedirs(bad)
+good_text = open(os.path.join(arch, sorted(os.listdir(arch))[0])).read()
+truncated = os.path.join(bad, "truncated.json")
+open(truncated, "w").write(good_text[: len(good_text) // 2])
+refused_with(["--guidance", truncated], 3, [truncated, "not valid JSON at byte"], "truncated guidance JSON")
+doc = json.loads(good_text)
+del doc["daily"]
+no_daily = os.path.join(bad, "no-daily.json")
+json.dump(doc, open(no_daily, "w"))
+refused_with(["--guidance", no_daily], 3, [no_daily, "guidance has no 'daily' list"], "guidance without 'daily'")
+doc = json.loads(good_text)
+doc["daily"][2]["probabilities"][states[0]] = "0.5"
+string_p = os.path.join(bad, "string-probability.json")
+json.dump(doc, open(string_p, "w"))
+refused_with(["--guidance", string_p], 3, [string_p, "daily[2]", f"probability of '{states[0]}' is a string"],
+             "a probability that is a string")
 finish()

@@ -1,8 +1,9 @@
 // The post-mortem: a season of regime guidance against what happened.
-//   load guidance (same regime model) | observed labels (files or the
-//   model's record) | cases (issue date, lead, probabilities, observed) |
-//   scores by lead and window with bootstrap intervals | frequency bias |
-//   episodes caught, missed, false alarms | report JSON [| HTML]
+//   check the config | load guidance (same regime model) | observed labels
+//   (files or the model's record) | build cases (issue date, lead,
+//   probabilities, observed) | score by lead | score by window, with
+//   bootstrap intervals | frequency bias by month | find episodes (caught,
+//   missed) | find false alarms | report JSON [| HTML: render/report_page.hpp]
 // Scores follow Wilks (2011), Statistical Methods in the Atmospheric
 // Sciences, 3rd ed.; see scores.hpp for each formula's source.
 #pragma once
@@ -28,12 +29,20 @@ struct VerifyConfig {
   double confidence = 0.9;
   int min_episode_days = 5;
   std::uint64_t seed = kDefaultSeed;
+
+  // Throws InputError naming the setting (and its flag) for no guidance
+  // path, from after to, fewer than 10 bootstrap resamples, no windows or a
+  // window that is not FIRST-LAST with 0 <= FIRST <= LAST, a confidence
+  // outside (0, 1), or min_episode_days below 1.
+  void validate() const;
 };
 
-// Throws InputError for an empty archive, guidance from another regime
-// model (naming the file and both model hashes) or a period without
-// observations.
+// Validates the config first (VerifyConfig::validate). Throws InputError for
+// an empty archive, guidance from another regime model (naming the file and
+// both model hashes) or a period without observations; DataError naming the
+// file for guidance that is not valid JSON, not isohypse guidance, or lacks
+// a required key or holds a value of the wrong type; InternalError for a
+// broken precondition between its own steps (a bug).
 nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& config);
-
 
 }  // namespace isohypse

@@ -1,0 +1,49 @@
+// The scores of one set of verification cases (a lead, a window, a month),
+// shared by the steps "score by lead" and "score by window" (private to the
+// verify stage). `idx` are indices into cases.list; the climatological
+// forecast (StateClimatology) is the reference of every skill score.
+// Formulas and sources: numerics/scores.hpp (Wilks 2011).
+#pragma once
+
+#include <cmath>
+#include <cstddef>
+#include <nlohmann/json.hpp>
+#include <vector>
+
+#include "isohypse/stages/verify.hpp"
+#include "stages/verify/verification_cases.hpp"
+
+namespace isohypse::verification {
+
+// The headline scores of the most likely regime and the probabilities.
+struct HeadlineScores {
+  std::size_t n = 0;  // cases
+  double hit_rate = NAN, heidke = NAN, brier = NAN, brier_skill = NAN;  // NaN for no case
+};
+enum class Headline { HitRate, Heidke, BrierSkill };
+
+// Hit rate of the most likely state, Heidke skill of its contingency table,
+// multi-category Brier score and its skill against climatology. Throws
+// InternalError when a case's probabilities are not one per state.
+HeadlineScores headline_scores(const Cases& cases, const std::vector<std::size_t>& idx,
+                               const StateClimatology& climatology);
+
+// {"estimate", "lower", "upper"} of one headline score: a block bootstrap
+// over issue dates (config's resamples, confidence and seed). idx not empty.
+nlohmann::json headline_interval(const Cases& cases, const std::vector<std::size_t>& idx,
+                                 const StateClimatology& climatology, Headline which, const VerifyConfig& config);
+
+// Per state: Brier score and its decomposition, base rate, Brier skill
+// against climatology and ROC area.
+nlohmann::json state_scores_json(const Cases& cases, const std::vector<std::size_t>& idx,
+                                 const StateClimatology& climatology);
+
+// Reliability diagram of every state's probabilities pooled, 10 bins.
+nlohmann::json reliability_json(const Cases& cases, const std::vector<std::size_t>& idx, std::size_t n_states);
+
+// Per state: forecast days (summed probabilities), observed days, and their
+// ratio (null where the state was never observed).
+nlohmann::json frequency_bias_json(const Cases& cases, const std::vector<std::size_t>& idx,
+                                   const std::vector<std::string>& states);
+
+}  // namespace isohypse::verification

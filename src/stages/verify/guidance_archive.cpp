@@ -1,0 +1,150 @@
+#include "stages/verify/guidance_archive.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <filesystem>
+#include <nlohmann/json.hpp>
+
+#include "isohypse/base/atomic_file.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/io/reader.hpp"
+
+namespace isohypse::verification {
+
+namespace {
+
+using json = nlohmann::json;
+namespace fs = std::filesystem;
+
+// What a guidance file holds is data: everything wrong inside it is a
+// DataError naming the file (and the entry), never a JSON library exception.
+[[noreturn]] void bad_guidance(const std::string& file, const std::string& what) {
+  throw DataError(file + ": " + what);
+}
+
+std::string type_of(const json& v) {
+  if (v.is_null()) return "null";
+  if (v.is_string()) return "a string";
+  if (v.is_boolean()) return "a boolean";
+  if (v.is_number()) return "a number";
+  if (v.is_array()) return "a list";
+  return "an object";
+}
+
+json parse_guidance_json(const std::string& file) {
+  try {
+    return json::parse(read_file(file));
+  } catch (const json::parse_error& e) {
+    bad_guidance(file, "not valid JSON at byte " + std::to_string(e.byte));
+  }
+}
+
+// The member `key` of `object` (named `owner` in the message).
+const json& member(const json& object, const std::string& key, const std::string& file, const std::string& owner) {
+  auto it = object.find(key);
+  if (it == object.end()) bad_guidance(file, owner + " has no '" + key + "'");
+  return *it;
+}
+
+Date date_value(const json& v, const std::string& file, const std::string& what) {
+  if (!v.is_string()) bad_guidance(file, what + " is " + type_of(v) + ", not a date");
+  try {
+    return parse_date(v.get<std::string>(), Calendar::ProlepticGregorian, file + ": " + what);
+  } catch (const InputError& e) {
+    throw DataError(e.what());  // a date inside a file is data, not the user's input
+  }
+}
+
+// The regime model the guidance was made with, and its states, must be this one.
+void check_same_model(const json& g, const std::string& file, const RegimeModel& model,
+                      const std::vector<std::string>& states) {
+  const json::json_pointer sha_at("/provenance/model/sha256");
+  if (!g.contains(sha_at) || !g.at(sha_at).is_string())
+    bad_guidance(file, "guidance has no 'provenance.model.sha256' (the regime model it was made with)");
+  const std::string sha = g.at(sha_at).get<std::string>();
+  if (sha != model.sha256)
+    throw InputError(file + ": guidance from another regime model (its model " + sha.substr(0, 12) +
+                     "..., this model " + model.sha256.substr(0, 12) + "... " + model.path + ")");
+  const json& listed = member(g, "states", file, "guidance");
+  if (listed != json(states))
+    throw InputError(file + ": its regime states " + listed.dump() + " differ from the model's");
+}
+
+int lead_value(const json& v, const std::string& file, const std::string& owner) {
+  if (!v.is_number() || std::floor(v.get<double>()) != v.get<double>() || std::abs(v.get<double>()) > 1e6)
+    bad_guidance(file, owner + ": lead_days is " + (v.is_number() ? v.dump() : type_of(v)) + ", not a whole number");
+  return v.get<int>();
+}
+
+DailyGuidance parse_daily(const json& e, std::size_t index, const std::string& file,
+                          const std::vector<std::string>& states) {
+  const std::string owner = "daily[" + std::to_string(index) + "]";
+  if (!e.is_object()) bad_guidance(file, owner + " is " + type_of(e) + ", not an object");
+  DailyGuidance d;
+  d.valid = date_value(member(e, "valid_date", file, owner), file, owner + ": valid_date");
+  d.lead = lead_value(member(e, "lead_days", file, owner), file, owner);
+  const json& probabilities = member(e, "probabilities", file, owner);
+  if (!probabilities.is_object())
+    bad_guidance(file, owner + ": probabilities is " + type_of(probabilities) + ", not an object");
+  d.p.set_size(states.size());
+  for (std::size_t s = 0; s < states.size(); ++s) {
+    const json& x = member(probabilities, states[s], file, owner + " probabilities");
+    if (!x.is_null() && !x.is_number())
+      bad_guidance(file, owner + ": probability of '" + states[s] + "' is " + type_of(x) + ", not a number");
+    d.p(s) = x.is_null() ? 0.0 : x.get<double>();
+  }
+  const json& most_likely = member(e, "most_likely", file, owner);
+  auto it = most_likely.is_string() ? std::find(states.begin(), states.end(), most_likely.get<std::string>())
+                                    : states.end();
+  if (it == states.end())
+    bad_guidance(file, owner + ": most_likely " + most_likely.dump() + " is not one of the states");
+  d.most_likely = static_cast<int>(it - states.begin());
+  return d;
+}
+
+GuidanceIssue parse_issue(const json& g, const std::string& file, const std::vector<std::string>& states) {
+  GuidanceIssue issue;
+  issue.file = file;
+  issue.issue = date_value(member(g, "issue_date", file, "guidance"), file, "issue_date");
+  auto daily = g.find("daily");
+  if (daily == g.end() || !daily->is_array()) bad_guidance(file, "guidance has no 'daily' list");
+  for (std::size_t i = 0; i < daily->size(); ++i) issue.daily.push_back(parse_daily((*daily)[i], i, file, states));
+  return issue;
+}
+
+}  // namespace
+
+std::vector<std::string> guidance_files(const std::vector<std::string>& paths) {
+  std::vector<std::string> out;
+  for (const auto& a : paths) {
+    std::error_code ec;
+    if (fs::is_directory(a, ec)) {
+      std::vector<std::string> in_dir;
+      for (const auto& e : fs::directory_iterator(a))
+        if (e.is_regular_file() && e.path().extension() == ".json" && e.path().filename().string()[0] != '.')
+          in_dir.push_back(e.path().string());
+      std::sort(in_dir.begin(), in_dir.end());
+      out.insert(out.end(), in_dir.begin(), in_dir.end());
+    } else {
+      for (const auto& p : expand_paths({a})) out.push_back(p);
+    }
+  }
+  return out;
+}
+
+GuidanceSet load_guidance(const RegimeModel& model, const std::vector<std::string>& states,
+                          const std::vector<std::string>& paths) {
+  const std::vector<std::string> files = guidance_files(paths);
+  if (files.empty()) throw InputError("no guidance files found in " + json(paths).dump() + " (empty archive)");
+  GuidanceSet set;
+  for (const auto& file : files) {
+    const json g = parse_guidance_json(file);
+    if (!g.is_object() || !g.contains("format") || g["format"] != "isohypse-guidance")
+      bad_guidance(file, "not isohypse guidance (no \"format\": \"isohypse-guidance\")");
+    check_same_model(g, file, model, states);
+    set.issues.push_back(parse_issue(g, file, states));
+  }
+  return set;
+}
+
+}  // namespace isohypse::verification

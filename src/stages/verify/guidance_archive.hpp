@@ -1,0 +1,50 @@
+// Step "load guidance" of the post-mortem: every guidance file of the
+// archive read, checked against the regime model it is verified with, and
+// parsed into what verification needs (private to the verify stage).
+#pragma once
+
+#include <armadillo>
+#include <string>
+#include <vector>
+
+#include "isohypse/base/calendar.hpp"
+#include "isohypse/numerics/regime_model.hpp"
+
+namespace isohypse::verification {
+
+// One day of one issue's guidance.
+struct DailyGuidance {
+  Date valid;           // valid date, real (proleptic Gregorian) calendar
+  int lead = 0;         // lead in days ("lead_days")
+  arma::vec p;          // probability of each state in the model's order; a null probability reads as 0
+  int most_likely = 0;  // index of the most likely state in the model's order
+};
+
+// One issue: a guidance file.
+struct GuidanceIssue {
+  std::string file;
+  Date issue;                        // issue date, real calendar
+  std::vector<DailyGuidance> daily;  // in the file's order
+};
+
+// The archive verified: one issue per file, in the order the files were named
+// (a folder's *.json files sorted by name).
+struct GuidanceSet {
+  std::vector<GuidanceIssue> issues;
+};
+
+// The guidance files named by `paths`: files, folders (every *.json inside
+// that is not hidden, sorted) or globs, in the order given.
+std::vector<std::string> guidance_files(const std::vector<std::string>& paths);
+
+// Reads and parses every guidance file. `states` are the model's states
+// (model_states). Throws InputError for an empty archive, guidance from
+// another regime model (naming the file and both model hashes) or with other
+// states; DataError naming the file for a file that is not valid JSON ("not
+// valid JSON at byte N"), not isohypse guidance, or lacks a required key or
+// holds a value of the wrong type ("guidance has no 'daily' list", "daily[3]:
+// probability of 'R1' is a string, not a number").
+GuidanceSet load_guidance(const RegimeModel& model, const std::vector<std::string>& states,
+                          const std::vector<std::string>& paths);
+
+}  // namespace isohypse::verification

@@ -1,0 +1,89 @@
+#include "stages/verify/report_document.hpp"
+
+#include <algorithm>
+
+#include "isohypse/base/calendar.hpp"
+#include "isohypse/base/error.hpp"
+#include "isohypse/base/vocabulary.hpp"
+
+namespace isohypse::verification {
+
+namespace {
+
+using json = nlohmann::json;
+
+std::string date_of(std::int64_t day) { return to_string(from_day_number(day, Calendar::ProlepticGregorian)); }
+
+json regimes_json(const RegimeModel& model, const StateClimatology& climatology, const FalseAlarms& false_alarms) {
+  json regimes = json::array();
+  for (int r = 0; r < model.k(); ++r)
+    regimes.push_back({{"id", climatology.states[r]},
+                       {"name", model.regimes[r].name},
+                       {"climatological_frequency", climatology.frequency(r)},
+                       {"false_alarms", false_alarms.by_regime.at(static_cast<std::size_t>(r))}});
+  return regimes;
+}
+
+json guidance_json(const GuidanceSet& guidance) {
+  std::vector<Date> issues;
+  for (const auto& issue : guidance.issues) issues.push_back(issue.issue);
+  return {{"files", guidance.issues.size()},
+          {"first_issue", to_string(*std::min_element(issues.begin(), issues.end()))},
+          {"last_issue", to_string(*std::max_element(issues.begin(), issues.end()))}};
+}
+
+json episodes_json(const Findings& found, int min_days) {
+  return {{"min_days", min_days},
+          {"caught", found.episodes.caught},
+          {"missed", found.episodes.missed},
+          {"list", found.episodes.list},
+          {"false_alarms", found.false_alarms.count},
+          {"false_alarm_list", found.false_alarms.list}};
+}
+
+// The observed states of the period, and each issue's most likely state by
+// lead: the sequence chart of the report page.
+json sequence_json(const StateClimatology& climatology, const GuidanceSet& guidance, const Cases& cases) {
+  json observed = json::array();
+  for (const auto& [day, state] : cases.observed) observed.push_back({date_of(day), climatology.states[state]});
+  json most_likely = json::array();
+  for (const auto& issue : guidance.issues) {
+    json row = json::array();
+    for (const auto& d : issue.daily) row.push_back({d.lead, climatology.states[d.most_likely]});
+    most_likely.push_back({{"issue_date", to_string(issue.issue)}, {"most_likely", row}});
+  }
+  return {{"observed", observed}, {"guidance", most_likely}};
+}
+
+}  // namespace
+
+json report_document(const RegimeModel& model, const VerifyConfig& config, const StateClimatology& climatology,
+                     const GuidanceSet& guidance, const std::string& observations_source, const Cases& cases,
+                     const Findings& found) {
+  if (guidance.issues.empty() || cases.list.empty())
+    throw InternalError("verify: a report without guidance or cases");
+  const arma::vec& clim = climatology.frequency;
+  json rep;
+  rep["format"] = "isohypse-verification";
+  rep["format_version"] = 1;
+  rep["caution"] = kCaution;
+  rep["period"] = {{"from", date_of(cases.first_valid)}, {"to", date_of(cases.last_valid)}};
+  rep["states"] = climatology.states;
+  rep["regimes"] = regimes_json(model, climatology, found.false_alarms);
+  rep["climatology"] = json(std::vector<double>(clim.begin(), clim.end()));
+  rep["guidance"] = guidance_json(guidance);
+  rep["observations"] = {{"source", observations_source}, {"files", config.observed}};
+  rep["cases"] = cases.list.size();
+  rep["by_lead"] = found.by_lead;
+  rep["windows"] = found.windows;
+  rep["frequency_bias_by_month"] = found.by_month;
+  rep["episodes"] = episodes_json(found, config.min_episode_days);
+  rep["sequence"] = sequence_json(climatology, guidance, cases);
+  rep["bootstrap"] = {{"resamples", config.bootstrap_resamples}, {"confidence", config.confidence},
+                      {"blocks", "initialisation (issue) dates"}, {"seed", config.seed}};
+  rep["provenance"] = {{"tool", "isohypse"}, {"version", ISOHYPSE_VERSION}, {"created", utc_timestamp_now()},
+                       {"model", {{"path", model.path}, {"sha256", model.sha256}}}};
+  return rep;
+}
+
+}  // namespace isohypse::verification
