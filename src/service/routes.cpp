@@ -64,7 +64,8 @@ httplib::Server::Handler guarded(const ServiceParts& parts, Handler handler) {
 std::string date_param(const Request& req, const char* name) {
   if (!req.has_param(name)) return {};
   const std::string v = req.get_param_value(name);
-  if (!is_issue_date(v)) throw HttpError(400, std::string(name) + " must be a date YYYY-MM-DD, got '" + loggable(v) + "'");
+  if (!is_issue_date(v))
+    throw HttpError(400, std::string(name) + " must be a date YYYY-MM-DD, got '" + loggable(v) + "'");
   return v;
 }
 
@@ -85,7 +86,8 @@ bool same_secret(const std::string& given, const std::string& token) {
 }
 
 void check_token(const Request& req, Response& res, const std::string& token) {
-  if (token.empty()) throw HttpError(401, "runs are disabled: the service has no write token (ISOHYPSE_TOKEN or \"token\")");
+  if (token.empty())
+    throw HttpError(401, "runs are disabled: the service has no write token (ISOHYPSE_TOKEN or \"token\")");
   const std::string auth = req.get_header_value("Authorization");
   const std::string prefix = "Bearer ";
   if (auth.compare(0, prefix.size(), prefix) != 0 || !same_secret(auth.substr(prefix.size()), token)) {
@@ -145,7 +147,8 @@ void model(const ServiceParts& p, const Request&, Response& res) { send_json(res
 void regime_map(const ServiceParts& p, const Request& req, Response& res) {
   static const std::regex form(R"(R[0-9]{1,4}\.svg)");
   const std::string name = req.matches[1];
-  if (!std::regex_match(name, form)) throw HttpError(400, "a regime map is R<number>.svg, got '" + loggable(name) + "'");
+  if (!std::regex_match(name, form))
+    throw HttpError(400, "a regime map is R<number>.svg, got '" + loggable(name) + "'");
   const std::string id = name.substr(0, name.size() - 4);
   const std::string* svg = p.view.map_svg(id);
   if (!svg) throw HttpError(404, "no regime " + id + " in this model");
@@ -174,7 +177,8 @@ void guidance_of(const ServiceParts& p, const Request& req, Response& res) {
 void guidance_list(const ServiceParts& p, const Request& req, Response& res) {
   const auto [from, to] = date_range(req);
   json list = json::array();
-  for (const auto& d : p.archive.dates(from, to)) list.push_back({{"issue_date", d}, {"href", "/api/v1/guidance/" + d}});
+  for (const auto& d : p.archive.dates(from, to))
+    list.push_back({{"issue_date", d}, {"href", "/api/v1/guidance/" + d}});
   json out = {{"from", from.empty() ? json() : json(from)}, {"to", to.empty() ? json() : json(to)},
               {"count", list.size()}, {"issues", list}};
   send_json(res, out.dump());

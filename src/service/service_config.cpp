@@ -39,7 +39,8 @@ void ServiceConfig::validate() const {
   if (!(poll_seconds >= 0.1 && poll_seconds <= 3600))
     throw InputError("serve: poll_seconds must lie in 0.1 .. 3600, got " + std::to_string(poll_seconds));
   if (threads < 2 || threads > 256) throw InputError("serve: threads must lie in 2 .. 256");
-  if (max_body_bytes < 256 || max_body_bytes > (16u << 20)) throw InputError("serve: max_body_bytes must lie in 256 .. 16 MiB");
+  if (max_body_bytes < 256 || max_body_bytes > (16u << 20))
+    throw InputError("serve: max_body_bytes must lie in 256 .. 16 MiB");
   if (timeout_seconds < 1 || timeout_seconds > 600) throw InputError("serve: timeout_seconds must lie in 1 .. 600");
   Weighting::parse(weights);
   port();

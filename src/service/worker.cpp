@@ -152,7 +152,8 @@ json Worker::run_group(const InboxGroup& g) {
   if (!bad.empty()) {
     run.summary["quarantined"] = json::array();
     for (const auto& [name, why] : bad) run.summary["quarantined"].push_back({{"file", name}, {"reason", why}});
-    return finish(run, "quarantined", std::to_string(bad.size()) + " unreadable file(s) moved to quarantine; the rest wait");
+    return finish(run, "quarantined",
+                  std::to_string(bad.size()) + " unreadable file(s) moved to quarantine; the rest wait");
   }
   json guidance;
   try {

@@ -29,14 +29,16 @@ try:
     # --- the model API and the palette
     status, m = server.get_json("/api/v1/model")
     palette = m["palette"]
-    regimes, series, grey = [low(c) for c in palette["regimes"]], [low(c) for c in palette["series"]], low(palette["no_regime"])
+    regimes, series = [low(c) for c in palette["regimes"]], [low(c) for c in palette["series"]]
+    grey = low(palette["no_regime"])
     check(status == 200 and len(m["regimes"]) == 4, f"/api/v1/model: 4 regimes ({status})")
     check(not set(series) & set(regimes) and grey not in regimes and grey not in series and
           len(set(regimes)) == len(regimes), "the palette: regime, series and no-regime colours all differ")
     want = {r["id"]: regimes[i % len(regimes)] for i, r in enumerate(m["regimes"])}
     check([r["id"] for r in m["regimes"]] == ["R1", "R2", "R3", "R4"], "regimes R1..R4 in the model's order")
     for r in m["regimes"]:
-        check(low(r["colour"]) == want[r["id"]], f"API: {r['id']} colour {r['colour']} = palette.regimes[{r['id'][1:]}-1]")
+        check(low(r["colour"]) == want[r["id"]],
+              f"API: {r['id']} colour {r['colour']} = palette.regimes[{r['id'][1:]}-1]")
 
     # --- the page: the palette it is given, and no colour of its own that could be a regime's
     status, _, page = server.get("/")
@@ -70,7 +72,8 @@ try:
              "--out", out, "--html", html, "--bootstrap", "20"])
     check(r.returncode == 0, f"verify --html on the small archive ({r.stderr.strip()[-200:]})")
     report = open(html).read() if r.returncode == 0 else ""
-    table = dict((s, low(c)) for c, s in re.findall(r'<td class="l" style="color:(#[0-9A-Fa-f]{6})">(R\d+)</td>', report))
+    table = dict((s, low(c)) for c, s in re.findall(
+        r'<td class="l" style="color:(#[0-9A-Fa-f]{6})">(R\d+)</td>', report))
     check(table == want, f"report: the regime table's colours equal the API's: {table}")
     legend = dict((s, low(c)) for c, s in re.findall(
         r'<rect [^>]*width="12" height="12" fill="(#[0-9A-Fa-f]{6})"/><text[^>]*>([^<]+)</text>', report))

@@ -34,7 +34,8 @@ try:
     flag_model = os.path.join(tmp, "from-flag.nc")
 
     code, err = serve("--config", ok)
-    check(code == 2 and "from-config.nc" in err, f"the config's model is used without --model (exit {code}): {err[-200:]!r}")
+    check(code == 2 and "from-config.nc" in err,
+          f"the config's model is used without --model (exit {code}): {err[-200:]!r}")
     for args, where in [(["--config", ok, "--model", flag_model], "after"),
                         (["--model", flag_model, "--config", ok], "before")]:
         code, err = serve(*args)
