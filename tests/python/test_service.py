@@ -149,7 +149,8 @@ try:
 
     # --- verification against the demo analysis
     status, rep = server.get_json("/api/v1/verification?from=2025-12-01&to=2025-12-03")
-    check(status in (200, 422) and isinstance(rep, dict), f"verification answers 200 or 422 ({status}: {str(rep)[:200]})")
+    check(status in (200, 400, 422) and isinstance(rep, dict),
+          f"verification answers 200, 400 or 422 ({status}: {str(rep)[:200]})")
     check(status == 200, "verification of three issues against the demo analysis succeeds")
     status, rep = server.get_json("/api/v1/verification?from=2030-01-01&to=2030-02-01")
     check(status == 404 and "error" in rep, f"verification of an empty range: 404 ({status})")
@@ -249,6 +250,27 @@ try:
     status, lst = server.get_json("/api/v1/guidance")
     dates = [i["issue_date"] for i in lst["issues"]]
     check(dates == ["2025-12-01", "2025-12-02", "2025-12-03", "2025-12-05"], f"after a restart the archive lists {dates}")
+
+    # --- one status for each kind of error (src/service/http_errors.hpp), the verification endpoint included:
+    # documents planted in the archive while the service is down are indexed at the restart.
+    server.stop()
+    planted = os.path.join(server.archive, "guidance")
+    with open(os.path.join(planted, "2025-12-06.json"), "w") as f:
+        json.dump({"issue_date": "2025-12-06", "format": "something-else"}, f)  # a DataError: not guidance
+    with open(os.path.join(planted, "2025-12-07.json"), "w") as f:  # an InputError: another model's guidance
+        json.dump({"format": "isohypse-guidance", "issue_date": "2025-12-07", "states": [],
+                   "provenance": {"model": {"sha256": "0" * 64}}}, f)
+    server = Server(tmp, world, model_path)
+    status, rep = server.get_json("/api/v1/verification?from=2025-12-06&to=2025-12-06")
+    check(status == 422 and "2025-12-06.json" in rep.get("error", "") and list(rep) == ["error"],
+          f"verifying a document that is not guidance (DataError): 422 naming the file ({status}: {rep})")
+    status, rep = server.get_json("/api/v1/verification?from=2025-12-07&to=2025-12-07")
+    check(status == 400 and "another regime model" in rep.get("error", "") and list(rep) == ["error"],
+          f"verifying another model's guidance (InputError): 400 ({status}: {rep})")
+    status, again = server.get_json("/api/v1/verification?from=2025-12-07&to=2025-12-07")
+    check(status == 400 and again == rep, "the refusal is the same when asked again (kept with the archive's generation)")
+    status, rep = server.get_json("/api/v1/verification?from=2025-12-01&to=2025-12-03")
+    check(status == 200 and "windows" in rep, f"the rest of the archive still verifies ({status})")
 finally:
     server.stop()
     shutil.rmtree(tmp, ignore_errors=True)

@@ -1,7 +1,10 @@
 """The service's web page in a real browser (issue 6): headless Chromium
 (Debian's chromium) loads / from a test server holding two issues, runs the
 page's script, and the dumped DOM must hold the probability chart's SVG
-areas, the regime maps and the regime names. A screenshot is kept under
+areas, the regime maps and the regime names. Every regime-coloured element
+the script drew (chart areas, legend, table and map-caption swatches) has
+its regime's colour from the model API's palette (issue 10), and the chart's
+other lines use the palette's series colours. A screenshot is kept under
 $ISOHYPSE_BUILD_DIR/artefacts/service-page.png."""
 import json
 import os
@@ -23,6 +26,17 @@ if not os.path.exists(CHROMIUM):
 tmp = scratch()
 world, model_path = world_and_model(tmp)
 server = Server(tmp, world, model_path)
+
+
+def colour_of(tag):
+    """The fill or background colour of an element's start tag, as lower-case #rrggbb."""
+    m = re.search(r'(?:fill="|background:\s*)(#[0-9A-Fa-f]{6}|rgb\(\s*\d+,\s*\d+,\s*\d+\s*\))', tag)
+    if not m:
+        return None
+    c = m.group(1)
+    if c.startswith("rgb"):
+        return "#" + "".join(f"{int(v):02x}" for v in re.findall(r"\d+", c))
+    return c.lower()
 
 
 def chromium(*args):
@@ -62,6 +76,23 @@ try:
     check("<table" in dom and "days 1–3" in dom, "the window table is filled")
     check('class="error"></div>' in dom or 'id="message" class="error"></div>' in dom,
           "no error message on the page")
+
+    # --- colours: every element tagged with a state has that state's palette colour
+    palette = model["palette"]
+    want = {r["id"]: palette["regimes"][i % len(palette["regimes"])].lower() for i, r in enumerate(model["regimes"])}
+    want["no_regime"] = palette["no_regime"].lower()
+    tagged = re.findall(r'<(?:path|span)[^>]*data-state="([^"]+)"[^>]*>', dom)
+    tags = re.findall(r'<(?:path|span)[^>]*data-state="[^"]+"[^>]*>', dom)
+    wrong = [(st, colour_of(t)) for st, t in zip(tagged, tags) if colour_of(t) != want.get(st)]
+    kinds = {"area": sum('class="area"' in t for t in tags), "swatch": sum('class="swatch"' in t for t in tags)}
+    check(kinds["area"] == 5 and kinds["swatch"] == 5 + 5 + 4 + 10 + 4,
+          f"coloured elements tagged with their state (legend 5, window table 5, persistence 4, transitions 10, "
+          f"maps 4 swatches): {kinds}")
+    check(not wrong, f"every chart area and swatch has its regime's palette colour: {wrong[:4]}")
+    chart = dom[dom.index('id="prob-chart"'):dom.index("</svg>", dom.index('id="prob-chart"'))]
+    strokes = set(c.lower() for c in re.findall(r'<(?:line|rect)[^>]*stroke="(#[0-9A-Fa-f]{6})"', chart))
+    check(strokes and strokes <= {c.lower() for c in palette["series"]},
+          f"the chart's axes and window lines use series colours: {sorted(strokes)}")
 
     artefacts = os.path.join(BUILD or tmp, "artefacts")
     os.makedirs(artefacts, exist_ok=True)

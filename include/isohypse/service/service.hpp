@@ -8,8 +8,7 @@
 //   HTTP threads:   read the archive and the model; verification; hand runs
 //                   asked for by POST /api/v1/runs to the worker
 //
-// HTTP API (JSON unless stated; errors are {"error": "..."} with a 4xx/5xx
-// status):
+// HTTP API (JSON unless stated):
 //   GET  /                                   the web page (self-contained HTML)
 //   GET  /health                             status, version, model sha256,
 //                                            latest issue date, inbox state
@@ -26,43 +25,29 @@
 //                                            Bearer TOKEN"
 // Path and query values must be YYYY-MM-DD or R<digits>; anything else is
 // refused with 400 before it reaches a file name.
+//
+// Errors: every failure is answered {"error": "..."} with one status for its
+// kind (src/service/http_errors.hpp), the same on every endpoint:
+//   a refusal the handler names   its status: 400 (a malformed date or
+//                                 name), 401 (no or a wrong token), 404 (no
+//                                 such route, issue date, regime, inbox file,
+//                                 or no guidance in a range), 405, 413 (body
+//                                 too large), 503 (stopping)
+//   InputError                    400 (e.g. verification of guidance with
+//                                 no observations for its valid dates)
+//   DataError                     422 (a file's contents are wrong, e.g. an
+//                                 archived document that is not guidance)
+//   NumericalError                500 (with its message)
+//   InternalError, anything else  500 "internal error (see the service log)"
+// POST /api/v1/runs answers 200 when every file was classified and
+// archived, 422 (with the runs and rejected files) when not.
 #pragma once
 
-#include <cstddef>
 #include <memory>
-#include <nlohmann/json.hpp>
-#include <string>
-#include <vector>
+
+#include "isohypse/service/service_config.hpp"
 
 namespace isohypse {
-
-struct ServiceConfig {
-  std::string model;                    // regime model file (required)
-  std::string inbox;                    // forecast inbox folder (required)
-  std::string archive;                  // guidance archive folder (required)
-  std::string listen = "127.0.0.1:8642";  // ADDRESS:PORT; port 0 picks a free port
-  std::vector<std::string> reforecasts; // files or globs; empty: no bias correction
-  std::vector<std::string> observed;    // for verification; empty: the model's record
-  std::string variable;                 // forecast height variable; empty: automatic
-  int lag = 3;                          // initialisations in the lagged ensemble (0: all processed)
-  std::string weights = "equal";        // equal | linear | exp:DAYS
-  int members = 0;                      // expected members per initialisation (0: any)
-  double poll_seconds = 10;             // inbox poll interval, 0.1 .. 3600
-  std::string token;                    // write token for POST /api/v1/runs (never logged)
-  std::string land_mask = "/usr/share/ncarg/data/cdf/landsea.nc";  // for coastlines; "" draws none
-  int threads = 16;                     // HTTP worker threads
-  std::size_t max_body_bytes = 64 * 1024;
-  int timeout_seconds = 10;             // read/write timeout per request for slow clients
-
-  // Keys as above (plus "comment"); unknown keys are refused by name.
-  // Throws InputError naming `src` and the key.
-  static ServiceConfig from_json(const nlohmann::json& j, const std::string& src);
-  // Checks required settings and ranges; throws InputError naming the
-  // setting.
-  void validate() const;
-  std::string host() const;  // from listen
-  int port() const;
-};
 
 class Service {
 public:
