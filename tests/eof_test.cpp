@@ -145,5 +145,5 @@ TEST_CASE("EOF analysis refuses bad input with sizes in the message") {
                   NumericalError);
   CHECK_THROWS_AS(project_onto_eofs(three_day_example(), arma::vec(3, arma::fill::zeros),
                                     arma::mat(2, 1, arma::fill::ones)),
-                  InputError);
+                  InternalError);
 }

@@ -16,7 +16,7 @@ void RegimeLabeller::project(const arma::fmat& x, const arma::fmat* reference) {
   if (x.n_rows != np)
     throw InternalError("regime labels: the fields have " + std::to_string(x.n_rows) + " grid points, the regime model " +
                      std::to_string(np));
-  if (reference && (reference->n_rows != np || reference->n_cols < n))
+  if (reference && (reference->n_rows != np || reference->n_cols != n))
     throw InternalError("regime labels: the reference has " + std::to_string(reference->n_rows) + " x " +
                      std::to_string(reference->n_cols) + " values for " + std::to_string(np) + " x " +
                      std::to_string(n) + " fields");
