@@ -7,6 +7,7 @@
 #include "stages/derive/clustering.hpp"
 #include "stages/derive/eof_step.hpp"
 #include "stages/derive/regime_count.hpp"
+#include "stages/derive/regime_statistics.hpp"
 #include "stages/derive/season.hpp"
 
 using namespace isohypse;
@@ -79,4 +80,27 @@ TEST_CASE("derive: the season's days and their consecutive flags") {
   CHECK(s.in_season[20] == 0);
   CHECK(s.next[0] == 0);
   CHECK(s.next[1] == 1);
+}
+
+TEST_CASE("derive: patterns are the mean anomaly of each regime's days and refuse a partition of other days") {
+  std::vector<Date> dates;
+  for (int d = 1; d <= 12; ++d) dates.push_back(make_date(2001, 1, d, Calendar::Standard));
+  const Season season = select_season(dates, {1});
+  Field f;
+  f.grid.lat = {40.0};
+  f.grid.lon = {0.0, 10.0};
+  f.dates = dates;
+  f.values.set_size(2, 12);
+  for (arma::uword t = 0; t < 12; ++t) {
+    f.values(0, t) = float(t);
+    f.values(1, t) = -float(t);
+  }
+  std::vector<int> labels(12, 0);
+  for (int t = 6; t < 12; ++t) labels[t] = 1;
+  const arma::mat p = regime_patterns(f, season, labels, 2);
+  CHECK(p(0, 0) == doctest::Approx(2.5));  // mean of 0..5
+  CHECK(p(1, 1) == doctest::Approx(-8.5)); // minus the mean of 6..11
+  CHECK_THROWS_AS(regime_patterns(f, season, std::vector<int>(11, 0), 2), InternalError);
+  labels[3] = 2;
+  CHECK_THROWS_AS(regime_patterns(f, season, labels, 2), InternalError);
 }

@@ -2,12 +2,20 @@
 
 #include <algorithm>
 
+#include "isohypse/base/error.hpp"
 #include "isohypse/numerics/eof.hpp"
 #include "isohypse/numerics/regime_sequence.hpp"
 
 namespace isohypse::derive_steps {
 
 arma::mat regime_patterns(const Field& anomalies, const Season& season, const std::vector<int>& labels, int k) {
+  // The partition comes from the same season's PCs: a mismatch is a bug.
+  if (labels.size() != season.size())
+    throw InternalError("regime patterns: " + std::to_string(labels.size()) + " labels for " +
+                        std::to_string(season.size()) + " season days");
+  for (int l : labels)
+    if (l < 0 || l >= k) throw InternalError("regime patterns: label " + std::to_string(l) + " outside 0.." +
+                                             std::to_string(k - 1));
   arma::mat patterns(anomalies.grid.n_points(), k, arma::fill::zeros);
   arma::vec counts(k, arma::fill::zeros);
   for (std::size_t i = 0; i < season.size(); ++i) {
@@ -20,6 +28,9 @@ arma::mat regime_patterns(const Field& anomalies, const Season& season, const st
 }
 
 void label_days(const Field& anomalies, const arma::vec& weights, RegimeModel& model) {
+  if (weights.n_elem != anomalies.n_points())
+    throw InternalError("daily labels: " + std::to_string(weights.n_elem) + " weights for " +
+                        std::to_string(anomalies.n_points()) + " grid points");
   constexpr arma::uword kBlock = 2048;  // days per projection
   const arma::fvec wf = arma::conv_to<arma::fvec>::from(weights);
   const arma::uword n = anomalies.n_times();
@@ -35,6 +46,9 @@ void label_days(const Field& anomalies, const arma::vec& weights, RegimeModel& m
 
 void regime_statistics(const Season& season, const std::vector<std::string>& names, RegimeModel& model) {
   const int k = model.k();
+  if (model.labels.size() != season.in_season.size())
+    throw InternalError("regime statistics: " + std::to_string(model.labels.size()) + " labels for " +
+                        std::to_string(season.in_season.size()) + " days of the record");
   std::vector<int> season_labels;
   for (auto t : season.days) season_labels.push_back(model.labels[t] < 0 ? k : model.labels[t]);
   const SequenceStats st = sequence_stats(season_labels, season.next, k + 1, 5);
@@ -43,7 +57,8 @@ void regime_statistics(const Season& season, const std::vector<std::string>& nam
   model.regimes.clear();
   for (int j = 0; j < k; ++j) {
     RegimeInfo r;
-    r.id = "R" + std::to_string(j + 1);
+    r.id = "R";  // appended, not "R" + ...: GCC 12 warns falsely (-Wrestrict) on that
+    r.id += std::to_string(j + 1);
     r.name = names.empty() ? describe_pattern(model.patterns.col(j), model.grid) : names[j];
     r.frequency = st.frequency(j);
     r.mean_run = st.runs[j].mean;
