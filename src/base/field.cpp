@@ -55,13 +55,10 @@ arma::vec Grid::sqrt_cos_weights() const {
   return w;
 }
 
-static double mean_step(const arma::vec& v) {
-  if (v.n_elem < 2) return 0.0;
-  return std::abs(v(v.n_elem - 1) - v(0)) / double(v.n_elem - 1);
+double axis_step(const arma::vec& axis) {
+  if (axis.n_elem < 2) return 0.0;
+  return std::abs(axis(axis.n_elem - 1) - axis(0)) / double(axis.n_elem - 1);
 }
-
-double Grid::lat_step() const { return mean_step(lat); }
-double Grid::lon_step() const { return mean_step(lon); }
 
 bool Grid::same_as(const Grid& other, double tol) const {
   if (lat.n_elem != other.lat.n_elem || lon.n_elem != other.lon.n_elem) return false;

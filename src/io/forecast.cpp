@@ -39,9 +39,7 @@ DomainSelection select_for(const HeightDataset& ds, const Domain& domain, const 
       // not covered: the widened attempt below gives the message
     }
   }
-  double lat_step = in.file_lat.n_elem > 1 ? std::abs(in.file_lat(1) - in.file_lat(0)) : 0.0;
-  double lon_step = in.file_lon.n_elem > 1 ? std::abs(in.file_lon(1) - in.file_lon(0)) : 0.0;
-  Domain wide = widened(domain, lat_step, lon_step);
+  Domain wide = widened(domain, axis_step(in.file_lat), axis_step(in.file_lon));
   try {
     used = wide;
     return ds.select(wide);

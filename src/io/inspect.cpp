@@ -6,8 +6,9 @@
 #include <set>
 #include <sstream>
 
-#include "isohypse/io/dataset.hpp"
 #include "isohypse/base/error.hpp"
+#include "isohypse/base/field.hpp"
+#include "isohypse/io/dataset.hpp"
 
 namespace isohypse {
 
@@ -22,8 +23,20 @@ nlohmann::json candidates_json(const std::vector<HeightCandidate>& cands) {
   return a;
 }
 
-double step_of(const arma::vec& v) {
-  return v.n_elem > 1 ? std::abs(v(v.n_elem - 1) - v(0)) / double(v.n_elem - 1) : 0.0;
+// The file's own grid: sizes, steps (axis_step), first and last values,
+// latitude order and longitude convention.
+nlohmann::json grid_json(const DatasetInfo& in) {
+  return {{"n_lat", in.file_lat.n_elem},
+          {"n_lon", in.file_lon.n_elem},
+          {"lat_step", axis_step(in.file_lat)},
+          {"lon_step", axis_step(in.file_lon)},
+          {"lat_first", in.file_lat(0)},
+          {"lat_last", in.file_lat(in.file_lat.n_elem - 1)},
+          {"lat_order", in.lat_descending() ? "descending" : "ascending"},
+          {"lon_first", in.file_lon(0)},
+          {"lon_last", in.file_lon(in.file_lon.n_elem - 1)},
+          {"lon_convention", in.lon_convention()},
+          {"global_in_longitude", in.global_in_lon()}};
 }
 
 }  // namespace
@@ -40,17 +53,7 @@ nlohmann::json describe_file(const std::string& path, const std::string& variabl
     j["units"] = in.units;
     j["quantity"] = in.geopotential ? "geopotential (divided by g0 = 9.80665 m s-2 to give metres)"
                                     : "geopotential height";
-    j["grid"] = {{"n_lat", in.file_lat.n_elem},
-                 {"n_lon", in.file_lon.n_elem},
-                 {"lat_step", step_of(in.file_lat)},
-                 {"lon_step", step_of(in.file_lon)},
-                 {"lat_first", in.file_lat(0)},
-                 {"lat_last", in.file_lat(in.file_lat.n_elem - 1)},
-                 {"lat_order", in.lat_descending() ? "descending" : "ascending"},
-                 {"lon_first", in.file_lon(0)},
-                 {"lon_last", in.file_lon(in.file_lon.n_elem - 1)},
-                 {"lon_convention", in.lon_convention()},
-                 {"global_in_longitude", in.global_in_lon()}};
+    j["grid"] = grid_json(in);
     j["levels_hpa"] = in.levels;
     j["level"] = in.level_note;
     j["members"] = in.members;

@@ -27,6 +27,8 @@ write_heights(gappy, holes, lat, lon, first, fill_value=-9999.0)
 fast = write_config(tmp, FAST)
 misspelt = write_config(tmp, {"regimes": {"classifiabilty_runs": 10}}, "misspelt.json")
 many_eofs = write_config(tmp, {**FAST, "eof": {"count": 40}}, "many_eofs.json")
+negative_seed = write_config(tmp, {**FAST, "seed": -5}, "negative_seed.json")
+level_zero = write_config(tmp, {**FAST, "level_hpa": 0}, "level_zero.json")
 
 # name, arguments, words the message must hold (case-insensitive)
 cases = [
@@ -40,6 +42,13 @@ cases = [
     ("a domain outside the grid", ["--input", year, "--config", fast, "--domain", "-60,-30,0,360"],
      [os.path.basename(year), "-60"]),
     ("--months 13", ["--input", year, "--config", fast, "--months", "13"], ["--months", "13"]),
+    # Flags that were once ignored when out of range, now checked with the
+    # config's own settings (DeriveConfig::validate).
+    ("--level -5", ["--input", year, "--config", fast, "--level", "-5"], ["--level", "-5"]),
+    ("--threads -1", ["--input", year, "--config", fast, "--threads", "-1"], ["--threads"]),
+    ("--seed -5", ["--input", year, "--config", fast, "--seed=-5"], ["--seed", "-5"]),
+    ("a negative seed in the config", ["--input", year, "--config", negative_seed], ["negative_seed.json", "seed", "-5"]),
+    ("level_hpa 0 in the config", ["--input", year, "--config", level_zero], ["level_hpa", "0"]),
 ]
 
 # Progress and log lines derive may print before failing.

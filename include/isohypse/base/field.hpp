@@ -45,9 +45,6 @@ struct Grid {
   // sqrt(cos(lat)) for every point (p = i_lat * n_lon + i_lon): multiply
   // anomalies by it so that the covariance is area-weighted.
   arma::vec sqrt_cos_weights() const;
-  // Grid spacing (mean absolute step); 0 for a single row/column.
-  double lat_step() const;
-  double lon_step() const;
   bool same_as(const Grid& other, double tol = 1e-6) const;
 };
 
@@ -62,6 +59,12 @@ struct Field {
   arma::uword n_points() const { return values.n_rows; }
   arma::uword n_times() const { return values.n_cols; }
 };
+
+// The spacing of a coordinate axis in its own units (degrees for lat/lon):
+// the mean absolute step |last - first| / (n - 1), so ascending and
+// descending axes give the same positive value; 0 for fewer than 2 values.
+// Equals every step of a regular axis.
+double axis_step(const arma::vec& axis);
 
 // For each day, whether it immediately follows the previous one (false for
 // the first day, after a gap, and across season breaks). Stages that count

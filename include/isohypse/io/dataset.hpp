@@ -20,7 +20,7 @@
 //    prime meridian;
 //  - CF time in every CF calendar (see calendar.hpp).
 // Every error names the file. Not thread-safe (netCDF-C is not): use one
-// dataset from one thread.
+// dataset from one thread (unpack() is the exception, see RawBlock).
 #pragma once
 
 #include <armadillo>
@@ -34,7 +34,7 @@
 
 namespace isohypse {
 
-// Standard gravity (WMO), m s-2.
+// Standard gravity (WMO), m s-2: geopotential / kStandardGravity = metres.
 inline constexpr double kStandardGravity = 9.80665;
 
 // A variable that could hold 500 hPa heights, with why it qualifies.
@@ -43,66 +43,69 @@ struct HeightCandidate {
   std::string standard_name;
   std::string units;
   std::string long_name;
-  std::vector<std::string> dims;
-  bool geopotential = false;  // m2 s-2 (true) or metres of height (false)
-  int score = 0;              // 3 standard_name, +2 units, +1 common name
+  std::vector<std::string> dims;  // dimension names, slowest first
+  bool geopotential = false;      // m2 s-2 (true) or metres of height (false)
+  int score = 0;                  // 3 for the standard_name, +2 for height units, +1 for a common name;
+                                  // a candidate scores at least 3
 };
 
+// How the stored numbers become physical values. Every number here is in
+// packed (stored) units.
 struct Packing {
-  bool packed = false;
+  bool packed = false;          // scale_factor or add_offset present
   double scale_factor = 1.0;
   double add_offset = 0.0;
-  std::vector<double> missing;  // _FillValue and missing_value, packed units
+  std::vector<double> missing;  // _FillValue (or netCDF's default fill) then missing_value codes
   std::optional<double> valid_min, valid_max;
-  std::string stored_type;  // "short", "float", ...
+  std::string stored_type;      // "short", "float", ...
 };
 
 // What a file holds, in the file's own order, decoded.
 struct DatasetInfo {
   std::string path;
   std::string format;                 // e.g. "NetCDF-4 classic model"
-  std::vector<HeightCandidate> candidates;
+  std::vector<HeightCandidate> candidates;  // best first
   std::string variable;               // the chosen one
   std::string units;                  // as in the file
-  double to_metres = 1.0;             // multiply unpacked values by this
+  double to_metres = 1.0;             // multiply unpacked values by this (1 / g0 for geopotential, 10 for dam)
   bool geopotential = false;
   Packing packing;
-  arma::vec file_lat;                 // as stored (maybe descending)
-  arma::vec file_lon;                 // as stored
-  std::vector<double> levels;         // hPa, empty when no level dimension
-  std::string level_note;             // how the level was chosen
-  std::size_t level_index = 0;
+  arma::vec file_lat;                 // degrees north, as stored (ascending or descending)
+  arma::vec file_lon;                 // degrees east, as stored (increasing)
+  std::vector<double> levels;         // hPa, empty when there is no level dimension
+  std::string level_note;             // how the level was chosen (for inspect)
+  std::size_t level_index = 0;        // into levels (0 without a level dimension)
   Calendar calendar = Calendar::Standard;
-  std::string time_units;
-  std::vector<Instant> times;         // decoded, file order
+  std::string time_units;             // as in the file, "UNIT since DATE"
+  std::vector<Instant> times;         // decoded, in file order
   std::optional<Instant> reference_time;  // forecast_reference_time, if any
+  std::string time_dim;
   std::size_t members = 1;            // length of the member dimension (1 if none)
   std::string member_dim;             // empty if none
-  std::vector<int> member_numbers;     // values of the member coordinate, if it has one
+  std::vector<int> member_numbers;    // values of the member coordinate, if it has one
   std::optional<int> member_number;   // a per-member file's number (scalar realization/number variable or attribute)
-  std::string time_dim;
 
   bool lat_descending() const { return file_lat.n_elem > 1 && file_lat(0) > file_lat(file_lat.n_elem - 1); }
-  // "0..360", "-180..180" or "regional"
+  // "0..360", "-180..180", "regional LO..HI" (not the whole circle) or
+  // "none" (no longitudes).
   std::string lon_convention() const;
+  // True when the longitudes, with one more step, close the circle.
   bool global_in_lon() const;
 };
 
 // Which part of the file's grid a domain takes, and in what order.
 struct DomainSelection {
-  Grid grid;                               // the output grid (ascending lat, contiguous lon)
-  std::size_t lat_start = 0, lat_count = 0;  // file index range
+  Grid grid;                                 // the output grid: latitudes ascending, longitudes contiguous
+  std::size_t lat_start = 0, lat_count = 0;  // the file's latitude index range
+  // A run of consecutive file longitudes [start, start + count) that lands
+  // at output column out_offset.
   struct Run { std::size_t start, count, out_offset; };
-  std::vector<Run> lon_runs;               // contiguous file index runs, in output order
+  std::vector<Run> lon_runs;                 // in output order (more than one across the file's seam)
 };
 
-// The values of one read as the file stores them (packed, file order), with
-// what it takes to unpack them. HeightDataset::read_raw fills it (netCDF-C:
-// one thread at a time); unpack() turns it into metres on the domain's grid
-// without netCDF-C, on any thread. The buffer keeps its memory from read to
-// read.
-// A hyperslab's compressed chunks as the file stores them (filled by the
-// HDF5 chunk reader, src/hdf5_chunks.hpp; inflated by unpack on any thread).
+// A hyperslab's compressed chunks as the file stores them: filled by the
+// HDF5 chunk reader (src/io/hdf5_chunks.hpp), inflated by unpack() on any
+// thread.
 struct StoredChunks {
   struct Layout {
     std::vector<std::size_t> chunk;   // chunk lengths per dimension
@@ -120,7 +123,13 @@ struct StoredChunks {
   std::vector<Chunk> chunks;
 };
 
+// The values of one read as the file stores them (packed, file order), with
+// what it takes to unpack them. HeightDataset::read_raw fills it (netCDF-C:
+// one thread at a time); unpack() turns it into metres on the domain's grid
+// without netCDF-C, on any thread. The buffer keeps its memory from read to
+// read.
 struct RawBlock {
+  // One hyperslab read: a longitude run's box or the whole horizontal plane.
   struct Box {
     std::size_t offset = 0;    // into values
     std::size_t lat_skip = 0;  // the domain's first latitude row within the box
@@ -132,26 +141,27 @@ struct RawBlock {
   std::string path;  // for messages
   std::vector<float> values;
   std::vector<Box> boxes;
-  std::size_t nlat = 0, nlon_out = 0, count = 0;
+  std::size_t nlat = 0, nlon_out = 0, count = 0;  // the output grid's size and the time steps
   bool lat_descending = false;
   Packing packing;
   double to_metres = 1.0;
 };
 
-// Heights in metres (n_points x count, NaN where missing) from a raw block,
-// inflating its compressed chunks first; returns how many values were
-// missing. `out` keeps its memory when its size holds.
+// Heights in metres (n_points x count, NaN where missing; the points in the
+// output grid's order, see field.hpp) from a raw block, inflating its
+// compressed chunks first; returns how many values were missing. `out`
+// keeps its memory when its size holds. Throws DataError naming the file
+// when a chunk does not inflate.
 std::size_t unpack(RawBlock& raw, arma::fmat& out);
 
 class HeightDataset {
 public:
-  // Opens `path`, chooses the variable (`variable` if given) and the level.
-  // Throws InputError (missing file, unknown variable name) or DataError
-  // (not NetCDF, truncated, no height variable, ambiguous, no such level,
-  // unknown units, undecodable time), each naming the file.
+  // Opens `path`, chooses the variable (`variable` if given) and the level
+  // (hPa). Throws InputError (missing file, unknown variable name) or
+  // DataError (not NetCDF, truncated, no height variable, ambiguous, no such
+  // level, unknown units, unknown or repeated dimensions, undecodable time),
+  // each naming the file.
   static HeightDataset open(const std::string& path, const std::string& variable = "", double level_hpa = 500.0);
-  // Like open() but only lists candidates when no variable qualifies
-  // (for `inspect`, which describes files it cannot use too).
   HeightDataset(HeightDataset&&) noexcept;
   HeightDataset& operator=(HeightDataset&&) noexcept;
   ~HeightDataset();
@@ -162,12 +172,14 @@ public:
   // naming the file when the grid does not cover the domain, listing both.
   DomainSelection select(const std::optional<Domain>& domain) const;
 
-  // Heights in metres, n_points x count, for time steps [t0, t0+count) of
-  // member `member`: NaN where missing.
+  // Heights in metres, n_points x count (the selection's grid, field.hpp
+  // layout), for time steps [t0, t0+count) of member `member`: NaN where
+  // missing. Throws InternalError when the steps or the member are not in
+  // the file (a bug of the caller), DataError when the file cannot be read.
   arma::fmat read(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member = 0) const;
   // The same in two steps, for repeated reads into the same buffers: the
   // stored values (netCDF-C or HDF5: one thread at a time), then unpack()
-  // on any thread.
+  // on any thread. Throws as read().
   void read_raw(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
                 RawBlock& raw) const;
 
@@ -187,7 +199,9 @@ private:
 };
 
 // Lists the candidate height variables of a file without choosing (for
-// inspect on a file that fails open()).
+// inspect, which describes files that open() refuses too). Throws as
+// nc::File::open: InputError for a missing file, DataError for one that is
+// not NetCDF.
 std::vector<HeightCandidate> list_height_candidates(const std::string& path);
 
 }  // namespace isohypse

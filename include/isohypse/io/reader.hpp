@@ -4,6 +4,7 @@
 // averaged to daily means when asked.
 #pragma once
 
+#include <functional>
 #include <optional>
 #include <string>
 #include <vector>

@@ -1,0 +1,216 @@
+#include "io/dataset_axes.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <optional>
+#include <set>
+
+#include "io/metadata_text.hpp"
+#include "isohypse/base/error.hpp"
+
+namespace isohypse::detail {
+
+namespace {
+
+bool is_lat_units(const std::string& u) {
+  static const std::set<std::string> ok = {"degrees_north", "degree_north", "degree_n", "degrees_n", "degreen",
+                                           "degreesn"};
+  return ok.count(lower(u)) > 0;
+}
+
+bool is_lon_units(const std::string& u) {
+  static const std::set<std::string> ok = {"degrees_east", "degree_east", "degree_e", "degrees_e", "degreee",
+                                           "degreese"};
+  return ok.count(lower(u)) > 0;
+}
+
+// hPa per unit of a pressure coordinate's units, or 0 when not pressure.
+double hpa_per_unit(const std::string& units) {
+  const std::string u = lower(units);
+  if (u == "hpa" || u == "mbar" || u == "millibar" || u == "millibars" || u == "mb") return 1.0;
+  if (u == "pa") return 0.01;
+  if (u == "kpa") return 10.0;
+  return 0.0;
+}
+
+Role role_of(const nc::File& f, const nc::Dim& dim) {
+  auto cv = f.coordinate_var(dim);
+  const std::string units = cv ? f.text_att(cv->id, "units").value_or("") : "";
+  const std::string sn = cv ? lower(f.text_att(cv->id, "standard_name").value_or("")) : "";
+  const std::string axis = cv ? lower(f.text_att(cv->id, "axis").value_or("")) : "";
+  const std::string n = lower(dim.name);
+  if (is_lat_units(units) || sn == "latitude" || axis == "y" || n == "lat" || n == "latitude") return Role::Lat;
+  if (is_lon_units(units) || sn == "longitude" || axis == "x" || n == "lon" || n == "longitude") return Role::Lon;
+  if (lower(units).find(" since ") != std::string::npos || sn == "time" || axis == "t" || n == "time")
+    return Role::Time;
+  if (hpa_per_unit(units) > 0 || sn == "air_pressure" || axis == "z" || n == "level" || n == "lev" || n == "plev" ||
+      n == "isobaricinhpa" || n == "pressure_level" || n == "pressure")
+    return Role::Level;
+  if (sn == "realization" || n == "number" || n == "member" || n == "ensemble" || n == "realization" || n == "ens" ||
+      n == "ensemble_member")
+    return Role::Member;
+  return Role::Other;
+}
+
+std::vector<std::string> dimension_names(const nc::File& f, const nc::Var& var) {
+  std::vector<std::string> names;
+  for (int d : var.dims) names.push_back(f.dim(d).name);
+  return names;
+}
+
+std::vector<double> coordinate_values(const nc::File& f, const nc::Var& var, int position, const char* what,
+                                      const std::string& path) {
+  const nc::Dim d = f.dim(var.dims[position]);
+  auto cv = f.coordinate_var(d);
+  if (!cv) throw DataError(path + ": dimension '" + d.name + "' (" + what + ") has no coordinate variable");
+  return f.read_all(cv->id);
+}
+
+// A level dimension's values in hPa: by the coordinate's units, else Pa
+// when the largest value exceeds 2000; a single unnamed level is taken as is.
+std::vector<double> levels_in_hpa(const std::vector<double>& raw, const std::string& units, std::size_t length) {
+  double factor = hpa_per_unit(units);
+  if (factor == 0) {
+    if (raw.empty() && length == 1) factor = 1;
+    else if (!raw.empty()) factor = *std::max_element(raw.begin(), raw.end()) > 2000 ? 0.01 : 1.0;
+  }
+  std::vector<double> out;
+  for (double x : raw) out.push_back(x * factor);
+  return out;
+}
+
+void choose_level_from_dimension(const nc::File& f, const nc::Dim& d, double level_hpa, DatasetInfo& info) {
+  auto cv = f.coordinate_var(d);
+  const std::vector<double> raw = cv ? f.read_all(cv->id) : std::vector<double>{};
+  const std::string units = cv ? f.text_att(cv->id, "units").value_or("") : "";
+  info.levels = levels_in_hpa(raw, units, d.length);
+  std::optional<std::size_t> pick;
+  for (std::size_t i = 0; i < info.levels.size(); ++i)
+    if (std::abs(info.levels[i] - level_hpa) < 0.01) pick = i;
+  if (info.levels.empty() && d.length == 1) pick = 0;
+  if (!pick) {
+    std::vector<std::string> lv;
+    for (double x : info.levels) lv.push_back(number_text(x));
+    throw DataError(info.path + ": no " + number_text(level_hpa) + " hPa level in dimension '" + d.name +
+                    "' (levels: " + join(lv) + " hPa)");
+  }
+  info.level_index = *pick;
+  info.level_note = "level " + number_text(level_hpa) + " hPa from dimension '" + d.name + "'" +
+                    (units.empty() ? "" : " (units " + units + ")");
+}
+
+void check_single_level(const nc::File& f, const nc::Var& var, double level_hpa, DatasetInfo& info) {
+  std::optional<double> attr;
+  for (const char* a : {"level", "lev", "plev", "pressure_level"})
+    if (auto v = f.num_att(var.id, a); v && !v->empty()) attr = (*v)[0];
+  // The attribute may be in hPa or in Pa.
+  if (attr && std::abs(*attr - level_hpa) > 0.01 && std::abs(*attr * 0.01 - level_hpa) > 0.01)
+    throw DataError(info.path + ": variable '" + info.variable + "' is at level " + number_text(*attr) + ", not " +
+                    number_text(level_hpa) + " hPa");
+  info.level_note = attr ? "single-level file (attribute lev = " + number_text(*attr) + ")"
+                         : "single-level file (no level dimension or attribute; taken as " + number_text(level_hpa) +
+                               " hPa)";
+}
+
+}  // namespace
+
+std::vector<Role> dimension_roles(const nc::File& f, const nc::Var& var) {
+  std::vector<Role> roles;
+  for (int d : var.dims) roles.push_back(role_of(f, f.dim(d)));
+  return roles;
+}
+
+AxisPositions axis_positions(const nc::File& f, const nc::Var& var, const std::vector<Role>& roles,
+                             const DatasetInfo& info) {
+  const std::vector<std::string> dim_names = dimension_names(f, var);
+  auto position_of = [&](Role r) -> int {
+    int found = -1;
+    for (std::size_t i = 0; i < roles.size(); ++i)
+      if (roles[i] == r) {
+        if (found >= 0)
+          throw DataError(info.path + ": variable '" + info.variable +
+                          "' has two dimensions that look like the same axis (" + dim_names[found] + ", " +
+                          dim_names[i] + ")");
+        found = static_cast<int>(i);
+      }
+    return found;
+  };
+  AxisPositions at;
+  at.lat = position_of(Role::Lat);
+  at.lon = position_of(Role::Lon);
+  at.time = position_of(Role::Time);
+  at.level = position_of(Role::Level);
+  at.member = position_of(Role::Member);
+  if (at.lat < 0 || at.lon < 0)
+    throw DataError(info.path + ": variable '" + info.variable + "' (dims " + join(dim_names) +
+                    ") has no latitude/longitude dimensions (looked for units degrees_north/degrees_east)");
+  for (std::size_t i = 0; i < roles.size(); ++i)
+    if (roles[i] == Role::Other && f.dim(var.dims[i]).length != 1)
+      throw DataError(info.path + ": variable '" + info.variable + "' has dimension '" + dim_names[i] +
+                      "' of length " + std::to_string(f.dim(var.dims[i]).length) +
+                      " that isohypse does not understand (expected time, level, member, latitude, longitude)");
+  return at;
+}
+
+void read_horizontal_axes(const nc::File& f, const nc::Var& var, const AxisPositions& at, DatasetInfo& info) {
+  info.file_lat = arma::vec(coordinate_values(f, var, at.lat, "latitude", info.path));
+  info.file_lon = arma::vec(coordinate_values(f, var, at.lon, "longitude", info.path));
+  const arma::vec& lat = info.file_lat;
+  for (arma::uword i = 1; i < lat.n_elem; ++i)
+    if ((lat(i) - lat(i - 1)) * (lat(1) - lat(0)) <= 0) throw DataError(info.path + ": latitudes are not monotonic");
+  for (arma::uword i = 1; i < info.file_lon.n_elem; ++i)
+    if (info.file_lon(i) <= info.file_lon(i - 1))
+      throw DataError(info.path + ": longitudes are not increasing (at index " + std::to_string(i) + ")");
+}
+
+void choose_level(const nc::File& f, const nc::Var& var, const AxisPositions& at, double level_hpa,
+                  DatasetInfo& info) {
+  if (at.level >= 0) choose_level_from_dimension(f, f.dim(var.dims[at.level]), level_hpa, info);
+  else check_single_level(f, var, level_hpa, info);
+}
+
+void read_time_axis(const nc::File& f, const nc::Var& var, const AxisPositions& at, DatasetInfo& info) {
+  if (at.time < 0)
+    throw DataError(info.path + ": variable '" + info.variable + "' (dims " + join(dimension_names(f, var)) +
+                    ") has no time dimension (looked for a coordinate with units 'UNIT since DATE')");
+  const nc::Dim d = f.dim(var.dims[at.time]);
+  info.time_dim = d.name;
+  auto cv = f.coordinate_var(d);
+  if (!cv) throw DataError(info.path + ": time dimension '" + d.name + "' has no coordinate variable");
+  info.time_units = f.text_att(cv->id, "units").value_or("");
+  try {
+    info.calendar = parse_calendar(f.text_att(cv->id, "calendar").value_or("standard"));
+    const TimeUnits tu = parse_time_units(info.time_units, info.calendar);
+    for (double v : f.read_all(cv->id)) info.times.push_back(decode_time(v, tu));
+    if (auto rv = f.find_var("forecast_reference_time"); rv && rv->dims.empty()) {
+      const std::string ru = f.text_att(rv->id, "units").value_or(info.time_units);
+      const TimeUnits rtu = parse_time_units(ru, info.calendar);
+      info.reference_time = decode_time(f.read_all(rv->id).at(0), rtu);
+    }
+  } catch (const Error& e) {
+    throw DataError(info.path + ": time coordinate '" + d.name + "': " + e.what());
+  }
+}
+
+void read_member_axis(const nc::File& f, const nc::Var& var, const AxisPositions& at, DatasetInfo& info) {
+  if (at.member >= 0) {
+    const nc::Dim d = f.dim(var.dims[at.member]);
+    info.member_dim = d.name;
+    info.members = d.length;
+    if (auto cv = f.coordinate_var(d))
+      for (double x : f.read_all(cv->id)) info.member_numbers.push_back(static_cast<int>(std::lround(x)));
+    return;
+  }
+  for (const char* name : {"realization", "number", "member", "ensemble_member"}) {
+    if (auto mv = f.find_var(name); mv && mv->dims.empty()) {
+      info.member_number = static_cast<int>(f.read_all(mv->id).at(0));
+      return;
+    }
+    if (auto a = f.num_att(NC_GLOBAL, name); a && !a->empty()) {
+      info.member_number = static_cast<int>((*a)[0]);
+      return;
+    }
+  }
+}
+
+}  // namespace isohypse::detail

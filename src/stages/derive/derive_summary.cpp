@@ -1,0 +1,102 @@
+#include "isohypse/stages/derive_summary.hpp"
+
+#include <cstdio>
+#include <sstream>
+
+namespace isohypse {
+
+namespace {
+
+using json = nlohmann::json;
+
+}  // namespace
+
+json model_summary(const RegimeModel& m) {
+  json j;
+  j["format_version"] = m.format_version;
+  j["domain"] = m.domain.to_string();
+  j["grid"] = {{"n_lat", m.grid.n_lat()}, {"n_lon", m.grid.n_lon()}};
+  j["season_months"] = m.months;
+  j["record"] = m.provenance.value("record", json::object());
+  json eofs = json::array();
+  double cum = 0;
+  for (arma::uword i = 0; i < m.eigenvalues.n_elem; ++i) {
+    cum += m.explained(i);
+    eofs.push_back({{"eof", i + 1}, {"eigenvalue", m.eigenvalues(i)}, {"explained", m.explained(i)},
+                    {"cumulative", cum}, {"north_error", m.north_error(i)}, {"effective_n", m.effective_n(i)},
+                    {"explained_error", m.north_error(i) / m.total_variance}});
+  }
+  j["eofs"] = eofs;
+  json kt = k_table_json(m.k_table);
+  j["regime_count_table"] = kt;
+  j["k"] = m.k();
+  j["k_automatic"] = m.k_automatic;
+  json regs = json::array();
+  for (const auto& ri : m.regimes) regs.push_back(regime_json(ri));
+  j["regimes"] = regs;
+  std::size_t season_days = 0, none = 0;
+  for (std::size_t t = 0; t < m.labels.size(); ++t)
+    if (m.in_season[t]) {
+      ++season_days;
+      none += m.labels[t] < 0;
+    }
+  j["no_regime_frequency"] = season_days ? double(none) / double(season_days) : 0.0;
+  j["no_regime_threshold"] = m.no_regime_threshold;
+  j["transitions"] = transition_json(model_states(m), m.transition, arma::conv_to<arma::mat>::from(m.transition_counts));
+  j["provenance"] = m.provenance;
+  return j;
+}
+
+std::string summary_text(const RegimeModel& m) {
+  std::ostringstream o;
+  char line[256];
+  const json& rec = m.provenance.value("record", json::object());
+  o << "Regime model over " << m.domain.to_string() << " (" << m.grid.n_lat() << " x " << m.grid.n_lon()
+    << " points), season months " << json(m.months).dump() << "\n";
+  if (!rec.empty())
+    o << "Record " << rec.value("first", "") << " to " << rec.value("last", "") << ": " << rec.value("days", 0)
+      << " days, " << rec.value("season_days", 0) << " in season\n";
+  o << "\nEOF  explained  cumulative  North error (+-, % of variance)  effective N\n";
+  double cum = 0;
+  for (arma::uword i = 0; i < m.eigenvalues.n_elem; ++i) {
+    cum += m.explained(i);
+    std::snprintf(line, sizeof line, "%3llu  %8.2f%%  %9.2f%%  %8.2f%%                         %8.0f\n",
+                  static_cast<unsigned long long>(i + 1), 100 * m.explained(i), 100 * cum,
+                  100 * m.north_error(i) / m.total_variance, m.effective_n(i));
+    o << line;
+  }
+  o << "\n  k  classifiability  surrogate " << "level  significant\n";
+  for (const auto& e : m.k_table) {
+    std::snprintf(line, sizeof line, "%3d  %15.3f  %15.3f  %s%s\n", e.k, e.index, e.surrogate_level,
+                  e.significant ? "yes" : "no", e.k == m.k() ? "   <- used" : "");
+    o << line;
+  }
+  o << "\nk = " << m.k() << (m.k_automatic ? " (chosen from the table)" : " (as configured)") << "\n\n";
+  o << "id   frequency  mean run  longest  episodes>=5d  residence  name\n";
+  for (const auto& r : m.regimes) {
+    std::snprintf(line, sizeof line, "%-4s %8.1f%%  %6.1f d  %5d d  %12d  %7.1f d  %s\n", r.id.c_str(),
+                  100 * r.frequency, r.mean_run, r.longest_run, r.episodes, r.residence_days, r.name.c_str());
+    o << line;
+  }
+  json s = model_summary(m);
+  std::snprintf(line, sizeof line, "no regime: %.1f%% of in-season days (anomaly correlation below %.2f)\n",
+                100 * s["no_regime_frequency"].get<double>(), m.no_regime_threshold);
+  o << line << "\nTransition probabilities (row: from, column: to)\n      ";
+  for (const auto& r : m.regimes) {
+    std::snprintf(line, sizeof line, "%7s", r.id.c_str());
+    o << line;
+  }
+  o << "   none\n";
+  for (arma::uword i = 0; i < m.transition.n_rows; ++i) {
+    std::snprintf(line, sizeof line, "%-6s", i < m.regimes.size() ? m.regimes[i].id.c_str() : "none");
+    o << line;
+    for (arma::uword c = 0; c < m.transition.n_cols; ++c) {
+      std::snprintf(line, sizeof line, "%7.3f", m.transition(i, c));
+      o << line;
+    }
+    o << "\n";
+  }
+  return o.str();
+}
+
+}  // namespace isohypse
