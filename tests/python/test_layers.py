@@ -81,9 +81,9 @@ def problems(root):
     for (layer, stem), rel in headers.items():
         if (layer, stem) in sources:
             continue
-        text = open(os.path.join(root, rel), encoding="utf-8").read()
+        text = re.sub(r"//[^\n]*", "", open(os.path.join(root, rel), encoding="utf-8").read())
         # header-only: inline or constexpr definitions, templates, or only types
-        if not re.search(r"^[A-Za-z][^;{}()]*\([^;{}]*\)\s*(const)?\s*;", text, re.M):
+        if not re.search(r"^[A-Za-z][^;{}()\n]*\([^;{}]*\)\s*(const)?\s*;", text, re.M):
             continue
         found.append(f"{rel}: declares functions but no {stem}.cpp implements it in {layer}")
     return found

@@ -6,6 +6,7 @@
 
 #include "base/blas_threads.hpp"
 #include "isohypse/base/error.hpp"
+#include "isohypse/base/stopwatch.hpp"
 #include "stages/classify/guidance_document.hpp"
 #include "stages/classify/lagged_ensemble.hpp"
 #include "stages/classify/member_labels.hpp"
@@ -14,27 +15,6 @@
 #include "stages/classify/window_statistics.hpp"
 
 namespace isohypse {
-
-namespace {
-
-// Wall time of the steps, one lap after another.
-class StepClock {
-public:
-  // Seconds since the previous lap (or the start).
-  double lap() {
-    const auto now = Clock::now();
-    const double s = std::chrono::duration<double>(now - last_).count();
-    last_ = now;
-    return s;
-  }
-  double total() const { return std::chrono::duration<double>(Clock::now() - start_).count(); }
-
-private:
-  using Clock = std::chrono::steady_clock;
-  Clock::time_point start_ = Clock::now(), last_ = start_;
-};
-
-}  // namespace
 
 void ClassifyConfig::validate() const {
   auto bad = [](const std::string& m) { throw InputError(m); };
@@ -64,7 +44,7 @@ nlohmann::json classify_forecasts(const RegimeModel& model, const ClassifyConfig
   const ClassifyProgress report = progress ? progress : [](const std::string&, int, int) {};
   ClassifyTimings unused;
   ClassifyTimings& time = timings ? *timings : unused;
-  StepClock clock;
+  Stopwatch clock;
 
   const LaggedEnsemble ensemble = choose_lagged_ensemble(model, cfg, report);
   const std::vector<Initialisation> reforecasts = scan_reforecasts(model, cfg, ensemble, report);

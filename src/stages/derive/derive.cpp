@@ -5,6 +5,7 @@
 #include <chrono>
 #include <cmath>
 
+#include "isohypse/base/stopwatch.hpp"
 #include "stages/derive/anomalies.hpp"
 #include "stages/derive/clustering.hpp"
 #include "stages/derive/eof_step.hpp"
@@ -25,16 +26,14 @@ using namespace derive_steps;
 class StageClock {
 public:
   void lap(const char* stage) {
-    const auto now = std::chrono::steady_clock::now();
-    const double s = std::chrono::duration<double>(now - start_).count();
+    const double s = watch_.lap();
     timings_[stage] = std::round(s * 1000) / 1000;
     spdlog::debug("stage {} took {:.3f} s", stage, s);
-    start_ = now;
   }
   const nlohmann::json& timings() const { return timings_; }
 
 private:
-  std::chrono::steady_clock::time_point start_ = std::chrono::steady_clock::now();
+  Stopwatch watch_;
   nlohmann::json timings_;
 };
 
