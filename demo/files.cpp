@@ -256,7 +256,7 @@ void write_patterns(const World& world, double step, const std::string& path) {
   const Points points = Points::product(lat, lon);
   std::vector<double> patterns, drift;
   std::string names;
-  for (int r = 0; r < kRegimes; ++r) {
+  for (int r = 0; r < world.n_regimes(); ++r) {
     for (std::size_t p = 0; p < points.size(); ++p) patterns.push_back(world.regime_anomaly(r, points.lat[p], points.lon[p]));
     names += (names.empty() ? "" : "; ") + world.regimes()[static_cast<std::size_t>(r)].name;
   }
@@ -266,23 +266,29 @@ void write_patterns(const World& world, double step, const std::string& path) {
 
   write_netcdf(path, Format::Netcdf4, [&](nc::File& f) {
     f.put_att(NC_GLOBAL, "title", "Planted regime patterns and model drift pattern (truth of the demo world)");
-    int d_regime = f.def_dim("regime", index.size());
+    // A noise-only world has no regime (a dimension of length 0 would be unlimited).
+    const bool planted = !index.empty();
+    if (!planted) f.put_att(NC_GLOBAL, "comment", "noise-only world: no regime planted");
+    int d_regime = planted ? f.def_dim("regime", index.size()) : -1;
     int d_lat = f.def_dim("latitude", lat.size());
     int d_lon = f.def_dim("longitude", lon.size());
-    int v_regime = f.def_var("regime", NC_INT, {d_regime});
-    f.put_att(v_regime, "names", names);
+    int v_regime = planted ? f.def_var("regime", NC_INT, {d_regime}) : -1;
+    if (planted) f.put_att(v_regime, "names", names);
     int v_lat = def_latitude(f, d_lat);
     int v_lon = def_longitude(f, d_lon);
-    int v_pattern = f.def_var("pattern", NC_FLOAT, {d_regime, d_lat, d_lon});
-    put_texts(f, v_pattern, {{"units", "m"}, {"long_name", "planted regime anomaly pattern (full cold-season amplitude; zero stationary mean)"},
-                             {"names", names}});
+    int v_pattern = planted ? f.def_var("pattern", NC_FLOAT, {d_regime, d_lat, d_lon}) : -1;
+    if (planted)
+      put_texts(f, v_pattern,
+                {{"units", "m"},
+                 {"long_name", "planted regime anomaly pattern (full cold-season amplitude; zero stationary mean)"},
+                 {"names", names}});
     int v_drift = f.def_var("drift", NC_FLOAT, {d_lat, d_lon});
     put_texts(f, v_drift, {{"units", "m"}, {"long_name", "model drift pattern D at long leads (lead dependence in truth.json)"}});
     f.end_define();
-    f.write_all(v_regime, index);
+    if (planted) f.write_all(v_regime, index);
     f.write_all(v_lat, lat);
     f.write_all(v_lon, lon);
-    f.write_all(v_pattern, patterns);
+    if (planted) f.write_all(v_pattern, patterns);
     f.write_all(v_drift, drift);
   });
 }

@@ -52,7 +52,8 @@ void write_model_run(const Surface& surface, const isohypse::Date& init, const s
                      const std::string& path);
 
 // truth/patterns.nc: regime and drift patterns (m) on grid A's sector
-// (20N-80N, 170E-320E at `step` degrees, latitude ascending).
+// (20N-80N, 170E-320E at `step` degrees, latitude ascending); a noise-only
+// world's file has the drift only (no regime dimension).
 void write_patterns(const World& world, double step, const std::string& path);
 
 }  // namespace demo

@@ -27,8 +27,9 @@ Date day(int y, int m, int d) { return isohypse::make_date(y, m, d, Calendar::St
 struct Plan {
   int rean_first, rean_last;
   double rean_step;
-  bool regional;  // bench: only the sector, 20N-80N, 170E-320E
-  bool only_reanalysis;
+  bool regional;  // bench, tiny: only the sector, 20N-80N, 170E-320E
+  bool only_reanalysis;  // no analysis, forecasts or reforecasts
+  bool truth;            // truth/: labels, patterns, truth.json (+ member tables when runs are written)
   Date ana_first, ana_last;
   double ana_step;
   Date fc_first;
@@ -38,16 +39,29 @@ struct Plan {
   int rf_members;
 };
 
-Plan plan_for(const std::string& size) {
+Plan plan_for(const std::string& size, double step) {
+  Plan p;
   if (size == "full")
-    return {1991, 2020, 2.5, false, false, day(2025, 7, 1), day(2026, 6, 30), 2.5, day(2025, 12, 1), 90, 8,
-            day(2025, 11, 15), day(2026, 3, 15), 2001, 2020, 4};
-  if (size == "small")
-    return {2013, 2020, 5.0, false, false, day(2025, 12, 1), day(2026, 3, 31), 5.0, day(2025, 12, 1), 20, 4,
-            day(2025, 12, 1), day(2026, 1, 31), 2015, 2020, 3};
-  if (size == "bench")
-    return {1991, 2020, 1.0, true, true, {}, {}, 0, {}, 0, 0, {}, {}, 0, 0, 0};
-  throw isohypse::InputError("--size: expected full, small or bench, found '" + size + "'");
+    p = {1991, 2020, 2.5, false, false, true, day(2025, 7, 1), day(2026, 6, 30), 2.5, day(2025, 12, 1), 90, 8,
+         day(2025, 11, 15), day(2026, 3, 15), 2001, 2020, 4};
+  else if (size == "small")
+    p = {2013, 2020, 5.0, false, false, true, day(2025, 12, 1), day(2026, 3, 31), 5.0, day(2025, 12, 1), 20, 4,
+         day(2025, 12, 1), day(2026, 1, 31), 2015, 2020, 3};
+  else if (size == "bench")
+    p = {1991, 2020, 1.0, true, true, false, {}, {}, 0, {}, 0, 0, {}, {}, 0, 0, 0};
+  else if (size == "tiny")
+    p = {2011, 2020, 5.0, true, true, true, {}, {}, 0, {}, 0, 0, {}, {}, 0, 0, 0};
+  else
+    throw isohypse::InputError("--size: expected full, small, bench or tiny, found '" + size + "'");
+  if (step != 0.0) {
+    // The axes run over 30-degree multiples (20..80, 170..320, -180..180, 0..90).
+    const double per30 = 30.0 / step;
+    if (!(step > 0.0) || std::abs(per30 - std::round(per30)) > 1e-9)
+      throw isohypse::InputError("--step: expected a grid step in degrees that divides 30, found " +
+                                 std::to_string(step));
+    p.rean_step = step;
+  }
+  return p;
 }
 
 std::string compact(const Date& d) {
@@ -90,6 +104,7 @@ public:
     return list;
   }
   std::size_t total_files() const { return total_files_; }
+  std::ostream& log() const { return log_; }
   double total_mb() const { return static_cast<double>(total_bytes_) / 1e6; }
 
 private:
@@ -136,30 +151,8 @@ json grid_json(const std::vector<double>& lat, const std::vector<double>& lon) {
           {"lon_first", lon.front()}, {"lon_last", lon.back()}, {"n_lon", lon.size()}};
 }
 
-}  // namespace
-
-void generate(const Options& options, std::ostream& log) {
-  const Plan plan = plan_for(options.size);
-  const auto t_start = std::chrono::steady_clock::now();
-  std::error_code ec;
-  for (const char* sub : {"reanalysis", "analysis", "forecasts", "reforecasts", "truth"}) {
-    if (plan.only_reanalysis && std::string(sub) != "reanalysis") continue;
-    fs::create_directories(fs::path(options.out) / sub, ec);
-    if (ec) throw isohypse::InputError("--out: cannot create " + (fs::path(options.out) / sub).string() + ": " + ec.message());
-  }
-  log << "isohypse-demo-world: size " << options.size << ", seed " << options.seed << ", into " << options.out << "\n";
-
-  const World world(options.seed);
-  Tally tally(options.out, log);
-  json truth;
-  truth["note"] = "An invented world: every name, place and number is synthetic.";
-  truth["seed"] = options.seed;
-  truth["size"] = options.size;
-  truth["domain"] = {{"lat_min", 20}, {"lat_max", 80}, {"lon_west", 170}, {"lon_east", 320},
-                     {"text", "20N-80N, 170E eastward to 40W (crosses the dateline)"}};
-  truth["world"] = world.describe();
-
-  // A: reanalysis.
+// A: the reanalysis, one file a year; fills truth["reanalysis"].
+void write_reanalysis(const World& world, const Plan& plan, const Options& options, Tally& tally, json& truth) {
   const std::vector<double> rean_lat = plan.regional ? axis(80, 20, plan.rean_step) : axis(90, 0, plan.rean_step);
   const std::vector<double> rean_lon =
       plan.regional ? axis(170, 320, plan.rean_step) : axis(-180, 180 - plan.rean_step, plan.rean_step);
@@ -182,86 +175,132 @@ void generate(const Options& options, std::ostream& log) {
   rean["fill_values"] = json::array();
   for (const auto& h : realities.holes)
     rean["fill_values"].push_back({{"date", isohypse::to_string(h.day)}, {"lat", h.lat}, {"lon", h.lon}});
-  log << "               planted: " << realities.missing_days.size() << " days missing ("
-      << isohypse::to_string(realities.missing_days.front()) << ".." << isohypse::to_string(realities.missing_days.back())
-      << "), " << realities.holes.size() << " values of " << realities.holes.front().day.year
-      << " written as _FillValue\n";
+  tally.log() << "               planted: " << realities.missing_days.size() << " days missing ("
+              << isohypse::to_string(realities.missing_days.front()) << ".."
+              << isohypse::to_string(realities.missing_days.back()) << "), " << realities.holes.size()
+              << " values of " << realities.holes.front().day.year << " written as _FillValue\n";
+}
 
-  if (!plan.only_reanalysis) {
-    // B: analysis.
+// B, C and D: the analysis, forecasts and reforecasts (one model on one grid),
+// with the member tables truth/forecast_members.csv and truth/reforecast_members.csv.
+void write_model_sets(const World& world, const Plan& plan, const Options& options, Tally& tally, json& truth) {
+  tally.start();
+  const std::string ana = "analysis/hgt_levels_2025-2026.nc";
+  write_analysis(world, plan.ana_first, plan.ana_last, plan.ana_step, tally.path(ana));
+  tally.add(ana);
+  truth["analysis"] = {{"files", tally.finish("analysis")},
+                       {"first", isohypse::to_string(plan.ana_first)},
+                       {"last", isohypse::to_string(plan.ana_last)},
+                       {"step_deg", plan.ana_step}};
+
+  const Surface model_grid(world, forecast_points());
+  struct Run {
+    Date init;
+    std::string rel;
+  };
+  auto write_runs = [&](const std::vector<Run>& runs, int members, const std::string& what) {
     tally.start();
-    const std::string ana = "analysis/hgt_levels_2025-2026.nc";
-    write_analysis(world, plan.ana_first, plan.ana_last, plan.ana_step, tally.path(ana));
-    tally.add(ana);
-    truth["analysis"] = {{"files", tally.finish("analysis")},
-                         {"first", isohypse::to_string(plan.ana_first)},
-                         {"last", isohypse::to_string(plan.ana_last)},
-                         {"step_deg", plan.ana_step}};
-
-    // C and D: forecasts and reforecasts from one model on one grid.
-    const Surface model_grid(world, forecast_points());
-    struct Run {
-      Date init;
-      std::string rel;
-    };
-    auto write_runs = [&](const std::vector<Run>& runs, int members, const std::string& what) {
-      tally.start();
-      run_in_processes(runs.size(), options.processes, [&](std::size_t i) {
-        write_model_run(model_grid, runs[i].init, model_run(world, runs[i].init, members), tally.path(runs[i].rel));
-      });
-      // The planted members again (cheap), for the truth tables.
-      std::string csv = "init_date,member,lead,valid_date,regime\n";
-      for (const Run& r : runs) {
-        append_members(csv, r.init, model_run(world, r.init, members));
-        tally.add(r.rel);
-      }
-      isohypse::write_file_atomically(tally.path("truth/" + what + "_members.csv"), csv);
-      return tally.finish(what + "s");
-    };
-
-    std::vector<Run> forecasts;
-    for (int i = 0; i < plan.fc_count; ++i) {
-      Date init = isohypse::add_days(plan.fc_first, i);
-      forecasts.push_back({init, "forecasts/fc_" + compact(init) + ".nc"});
+    run_in_processes(runs.size(), options.processes, [&](std::size_t i) {
+      write_model_run(model_grid, runs[i].init, model_run(world, runs[i].init, members), tally.path(runs[i].rel));
+    });
+    // The planted members again (cheap), for the truth tables.
+    std::string csv = "init_date,member,lead,valid_date,regime\n";
+    for (const Run& r : runs) {
+      append_members(csv, r.init, model_run(world, r.init, members));
+      tally.add(r.rel);
     }
-    truth["forecasts"] = {{"files", write_runs(forecasts, plan.fc_members, "forecast")},
-                          {"members", plan.fc_members},
-                          {"leads", kLeads}};
+    isohypse::write_file_atomically(tally.path("truth/" + what + "_members.csv"), csv);
+    return tally.finish(what + "s");
+  };
 
-    std::vector<Date> rf_inits;
-    for (Date s = plan.rf_season_first; !(plan.rf_season_last < s); s = isohypse::add_days(s, 1))
-      if (monday_or_thursday(s))
-        for (int y = plan.rf_year_first; y <= plan.rf_year_last; ++y) rf_inits.push_back(day(y, s.month, s.day));
-    std::sort(rf_inits.begin(), rf_inits.end());
-    std::vector<Run> reforecasts;
-    for (const Date& init : rf_inits) reforecasts.push_back({init, "reforecasts/rf_" + compact(init) + ".nc"});
-    truth["reforecasts"] = {{"files", write_runs(reforecasts, plan.rf_members, "reforecast")},
-                            {"members", plan.rf_members},
-                            {"leads", kLeads},
-                            {"schedule", "Mondays and Thursdays of " + isohypse::to_string(plan.rf_season_first) +
-                                             ".." + isohypse::to_string(plan.rf_season_last) +
-                                             " on the same month-day of " + std::to_string(plan.rf_year_first) +
-                                             ".." + std::to_string(plan.rf_year_last)}};
-
-    // E: the planted truth.
-    tally.start();
-    std::string labels = "date,regime\n";
-    for (Date d = day(plan.rean_first, 1, 1); !(kLastDay < d); d = isohypse::add_days(d, 1))
-      labels += isohypse::to_string(d) + "," + std::to_string(world.label(d)) + "\n";
-    isohypse::write_file_atomically(tally.path("truth/labels.csv"), labels);
-    for (const char* rel : {"truth/labels.csv", "truth/forecast_members.csv", "truth/reforecast_members.csv"})
-      tally.add(rel);
-    write_patterns(world, plan.rean_step, tally.path("truth/patterns.nc"));
-    tally.add("truth/patterns.nc");
-    truth["truth_files"] = {"truth/truth.json", "truth/patterns.nc", "truth/labels.csv", "truth/forecast_members.csv",
-                            "truth/reforecast_members.csv"};
-    truth["labels"] = {{"first", isohypse::to_string(day(plan.rean_first, 1, 1))},
-                       {"last", isohypse::to_string(kLastDay)},
-                       {"rule", "planted regime 0..3 from November to March, -1 otherwise"}};
-    isohypse::write_file_atomically(tally.path("truth/truth.json"), truth.dump(2) + "\n");
-    tally.add("truth/truth.json");
-    tally.finish("truth");
+  std::vector<Run> forecasts;
+  for (int i = 0; i < plan.fc_count; ++i) {
+    Date init = isohypse::add_days(plan.fc_first, i);
+    forecasts.push_back({init, "forecasts/fc_" + compact(init) + ".nc"});
   }
+  truth["forecasts"] = {{"files", write_runs(forecasts, plan.fc_members, "forecast")},
+                        {"members", plan.fc_members},
+                        {"leads", kLeads}};
+
+  std::vector<Date> rf_inits;
+  for (Date s = plan.rf_season_first; !(plan.rf_season_last < s); s = isohypse::add_days(s, 1))
+    if (monday_or_thursday(s))
+      for (int y = plan.rf_year_first; y <= plan.rf_year_last; ++y) rf_inits.push_back(day(y, s.month, s.day));
+  std::sort(rf_inits.begin(), rf_inits.end());
+  std::vector<Run> reforecasts;
+  for (const Date& init : rf_inits) reforecasts.push_back({init, "reforecasts/rf_" + compact(init) + ".nc"});
+  truth["reforecasts"] = {{"files", write_runs(reforecasts, plan.rf_members, "reforecast")},
+                          {"members", plan.rf_members},
+                          {"leads", kLeads},
+                          {"schedule", "Mondays and Thursdays of " + isohypse::to_string(plan.rf_season_first) + ".." +
+                                           isohypse::to_string(plan.rf_season_last) + " on the same month-day of " +
+                                           std::to_string(plan.rf_year_first) + ".." +
+                                           std::to_string(plan.rf_year_last)}};
+}
+
+// E: the planted truth: labels.csv, patterns.nc and truth.json (the member
+// tables were written with the runs).
+void write_truth(const World& world, const Plan& plan, Tally& tally, json& truth) {
+  tally.start();
+  std::string labels = "date,regime\n";
+  for (Date d = day(plan.rean_first, 1, 1); !(kLastDay < d); d = isohypse::add_days(d, 1))
+    labels += isohypse::to_string(d) + "," + std::to_string(world.label(d)) + "\n";
+  isohypse::write_file_atomically(tally.path("truth/labels.csv"), labels);
+  json files = {"truth/truth.json", "truth/patterns.nc", "truth/labels.csv"};
+  tally.add("truth/labels.csv");
+  if (!plan.only_reanalysis)
+    for (const char* rel : {"truth/forecast_members.csv", "truth/reforecast_members.csv"}) {
+      tally.add(rel);
+      files.push_back(rel);
+    }
+  write_patterns(world, plan.rean_step, tally.path("truth/patterns.nc"));
+  tally.add("truth/patterns.nc");
+  truth["truth_files"] = files;
+  const int n = world.n_regimes();
+  truth["labels"] = {{"first", isohypse::to_string(day(plan.rean_first, 1, 1))},
+                     {"last", isohypse::to_string(kLastDay)},
+                     {"n_regimes", n},
+                     {"rule", n == 0 ? std::string("no regime planted (noise-only world): -1 every day")
+                                     : "planted regime 0.." + std::to_string(n - 1) +
+                                           " from November to March, -1 otherwise"}};
+  isohypse::write_file_atomically(tally.path("truth/truth.json"), truth.dump(2) + "\n");
+  tally.add("truth/truth.json");
+  tally.finish("truth");
+}
+
+}  // namespace
+
+void generate(const Options& options, std::ostream& log) {
+  const Plan plan = plan_for(options.size, options.step);
+  options.world.validate();
+  const auto t_start = std::chrono::steady_clock::now();
+  std::error_code ec;
+  for (const char* sub : {"reanalysis", "analysis", "forecasts", "reforecasts", "truth"}) {
+    const std::string name = sub;
+    if (plan.only_reanalysis && name != "reanalysis" && !(plan.truth && name == "truth")) continue;
+    fs::create_directories(fs::path(options.out) / sub, ec);
+    if (ec) throw isohypse::InputError("--out: cannot create " + (fs::path(options.out) / sub).string() + ": " + ec.message());
+  }
+  log << "isohypse-demo-world: size " << options.size << ", seed " << options.seed << ", "
+      << (options.world.noise_only ? std::string("no regimes (noise only)")
+                                   : std::to_string(options.world.regimes) + " regimes");
+  if (options.world.small_noise_std > 0.0) log << ", small-scale noise " << options.world.small_noise_std << " m";
+  log << ", into " << options.out << "\n";
+
+  const World world(options.seed, options.world);
+  Tally tally(options.out, log);
+  json truth;
+  truth["note"] = "An invented world: every name, place and number is synthetic.";
+  truth["seed"] = options.seed;
+  truth["size"] = options.size;
+  truth["n_regimes"] = world.n_regimes();
+  truth["domain"] = {{"lat_min", 20}, {"lat_max", 80}, {"lon_west", 170}, {"lon_east", 320},
+                     {"text", "20N-80N, 170E eastward to 40W (crosses the dateline)"}};
+  truth["world"] = world.describe();
+
+  write_reanalysis(world, plan, options, tally, truth);
+  if (!plan.only_reanalysis) write_model_sets(world, plan, options, tally, truth);
+  if (plan.truth) write_truth(world, plan, tally, truth);
 
   double s = std::chrono::duration<double>(std::chrono::steady_clock::now() - t_start).count();
   char line[160];

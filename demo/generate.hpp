@@ -5,19 +5,25 @@
 #include <iosfwd>
 #include <string>
 
+#include "world.hpp"
+
 namespace demo {
 
 struct Options {
   std::string out;             // folder, created if missing
-  std::string size = "full";   // full, small or bench
+  std::string size = "full";   // full, small, bench or tiny
   std::uint64_t seed = 8;      // picked so that the demo season 2025-26 visits all four regimes evenly
   int processes = 1;           // files written in parallel; the output does not depend on it
+  WorldSpec world;             // what is planted (default: today's four regimes)
+  double step = 0.0;           // reanalysis grid step in degrees; 0 = the size's
 };
 
 // Writes the world under options.out (reanalysis/, analysis/, forecasts/,
-// reforecasts/, truth/; bench writes reanalysis/ only) and prints one line
-// per set, then the total, to `log`. Throws isohypse::InputError for an
-// unknown size or an unwritable folder.
+// reforecasts/, truth/; bench writes reanalysis/ only, tiny reanalysis/ and
+// truth/ without the member tables) and prints one line per set, then the
+// total, to `log`. Throws isohypse::InputError for an unknown size, a step
+// that does not divide 30 degrees, a WorldSpec that fails validate() or an
+// unwritable folder.
 void generate(const Options& options, std::ostream& log);
 
 }  // namespace demo

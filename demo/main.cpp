@@ -12,8 +12,8 @@
 #include "isohypse/base/error.hpp"
 
 int main(int argc, char** argv) {
-  CLI::App app{"isohypse-demo-world: writes an invented world of 500 hPa heights with four planted circulation "
-               "regimes (reanalysis, analysis, forecasts, reforecasts and the planted truth)."};
+  CLI::App app{"isohypse-demo-world: writes an invented world of 500 hPa heights with planted circulation regimes "
+               "(four by default; reanalysis, analysis, forecasts, reforecasts and the planted truth)."};
   demo::Options options;
   app.add_option("--out", options.out, "Folder to write into (created if missing); files already there are replaced")
       ->required();
@@ -21,9 +21,22 @@ int main(int argc, char** argv) {
                  "full: the README demo (30 reanalysis years at 2.5 degrees, 90 forecasts of 8 members, "
                  "20 years of reforecasts); small: for the test suite (8 years at 5 degrees, 20 forecasts of "
                  "4 members, 6 years of reforecasts); bench: only the reanalysis, 1991-2020 at 1 degree over "
-                 "the sector, for the benchmark")
-      ->check(CLI::IsMember({"full", "small", "bench"}))
+                 "the sector, for the benchmark; tiny: the reanalysis 2011-2020 at 5 degrees over the sector and "
+                 "the truth (labels, patterns, truth.json), for tests of the choice of k")
+      ->check(CLI::IsMember({"full", "small", "bench", "tiny"}))
       ->capture_default_str();
+  app.add_option("--step", options.step,
+                 "Reanalysis grid step in degrees, a divisor of 30 (default: the size's)");
+  app.add_option("--regimes", options.world.regimes, "Planted regimes: 3 (the first three of the four), 4, or 5 "
+                 "(the four and a block 70N 165W)")
+      ->check(CLI::IsMember({3, 4, 5}))
+      ->capture_default_str();
+  app.add_flag("--noise-only", options.world.noise_only,
+               "Plant no regime: the same climatology and red noise, every planted label -1");
+  app.add_option("--small-noise", options.world.small_noise_std,
+                 "Add small-scale red noise (centres 3-4.5 degrees wide) of this mean point standard deviation over "
+                 "the sector, in m (default 0: none)")
+      ->check(CLI::NonNegativeNumber);
   app.add_option("--seed", options.seed, "Random seed: the same seed gives the same world, byte for byte in the data")
       ->capture_default_str();
   options.processes = demo::default_processes();

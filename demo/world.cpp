@@ -18,20 +18,47 @@ namespace {
 
 constexpr double kDeg = std::numbers::pi / 180.0;
 
-// Markov chain of the planted regimes (rows: from, columns: to). Residence
-// times 1/(1-p_ii) of 8.3, 7.1, 10 and 6.7 days.
-constexpr double kMarkov[kRegimes][kRegimes] = {
-    {0.88, 0.04, 0.05, 0.03},
-    {0.05, 0.86, 0.04, 0.05},
-    {0.03, 0.04, 0.90, 0.03},
-    {0.05, 0.06, 0.04, 0.85},
-};
+// The planted regimes' shapes over the sector 20-80N, 170E-40W. The first
+// four are today's world, with anomaly patterns (shape minus the stationary
+// mean of the shapes) peaking at 185, 175, 165 and 160 m; the fifth, a block
+// over Alaska with a trough to its south-east, is distinct from all four
+// (pattern correlations -0.35..-0.12) and peaks at about 177 m.
+std::vector<Pattern> regime_shapes(int n) {
+  std::vector<Pattern> all = {
+      {"ridge 55N 140W", {{55, 220, 240, 13}, {32, 242, -78, 10}}},
+      {"trough 45N 170W", {{45, 190, -197, 12}, {60, 290, 90, 12}}},
+      {"dipole 67N/42N 95W", {{67, 265, 275, 11}, {42, 268, -210, 10}}},
+      {"wave train 34N 160W to 38N 68W", {{34, 200, 116, 9}, {48, 248, -166, 9}, {38, 292, 111, 9}}},
+      {"block 70N 165W", {{70, 195, 250, 12}, {47, 215, -120, 11}}},
+  };
+  all.resize(static_cast<std::size_t>(n));
+  return all;
+}
+
+// Markov chains of the planted regimes (rows: from, columns: to). Four
+// (today's): residence times 1/(1-p_ii) of 8.3, 7.1, 10 and 6.7 days; three
+// and five keep those self-transitions (the block's: 0.88).
+std::vector<std::vector<double>> markov_matrix(int n) {
+  if (n == 3) return {{0.88, 0.06, 0.06}, {0.07, 0.86, 0.07}, {0.05, 0.05, 0.90}};
+  if (n == 5)
+    return {{0.88, 0.03, 0.03, 0.03, 0.03},
+            {0.04, 0.86, 0.03, 0.04, 0.03},
+            {0.03, 0.03, 0.90, 0.02, 0.02},
+            {0.04, 0.04, 0.03, 0.85, 0.04},
+            {0.03, 0.03, 0.03, 0.03, 0.88}};
+  if (n == 4)
+    return {{0.88, 0.04, 0.05, 0.03}, {0.05, 0.86, 0.04, 0.05}, {0.03, 0.04, 0.90, 0.03}, {0.05, 0.06, 0.04, 0.85}};
+  return {};
+}
 
 // Red noise: a field of Gaussian centres on a jittered Fibonacci lattice,
 // each centre's weight an AR(1) series.
 constexpr int kLatticePoints = 220;        // over the sphere, ~14 degrees apart
 constexpr double kBlobMinAbsLat = 12.0;    // a quiet tropics
 constexpr double kBlobRadiusMin = 6.0, kBlobRadiusMax = 9.0;
+// Optional small-scale noise: centres ~6.4 degrees apart, 3-4.5 degrees wide.
+constexpr int kSmallLatticePoints = 1000;
+constexpr double kSmallRadiusMin = 3.0, kSmallRadiusMax = 4.5;
 constexpr double kNoiseStd = 77.0;         // mean point standard deviation over the sector, m
 constexpr double kNoiseLag1 = 0.75;
 constexpr double kSummerCalm = 0.4;        // noise is this much weaker at the height of summer
@@ -53,7 +80,9 @@ constexpr double kOffSeasonTaper = 0.2;    // regime amplitude from May to Septe
 constexpr double kSquashLow = 4850.0, kSquashHigh = 5950.0, kSquashWidth = 120.0;
 
 // Random stream identifiers (derive_seed).
-enum Stream : std::uint64_t { kBlobStream = 1, kChainStream = 2, kNoiseStream = 3, kMemberStream = 4 };
+enum Stream : std::uint64_t {
+  kBlobStream = 1, kChainStream = 2, kNoiseStream = 3, kMemberStream = 4, kSmallBlobStream = 5, kSmallNoiseStream = 6
+};
 
 double great_circle_deg(double lat1, double lon1, double lat2, double lon2) {
   double c = std::sin(lat1 * kDeg) * std::sin(lat2 * kDeg) +
@@ -123,28 +152,21 @@ double regime_taper(const Date& d) {
 }
 
 // The chain's stationary distribution (power iteration; the chain is regular).
-std::vector<double> stationary_distribution() {
-  std::vector<double> pi(kRegimes, 1.0 / kRegimes), next(kRegimes);
+std::vector<double> stationary_distribution(const std::vector<std::vector<double>>& markov) {
+  const std::size_t n = markov.size();
+  std::vector<double> pi(n, 1.0 / static_cast<double>(n)), next(n);
   for (int it = 0; it < 2000; ++it) {
     std::fill(next.begin(), next.end(), 0.0);
-    for (int i = 0; i < kRegimes; ++i)
-      for (int j = 0; j < kRegimes; ++j) next[j] += pi[i] * kMarkov[i][j];
+    for (std::size_t i = 0; i < n; ++i)
+      for (std::size_t j = 0; j < n; ++j) next[j] += pi[i] * markov[i][j];
     pi.swap(next);
   }
   return pi;
 }
 
-int next_state(int from, double u) {
-  double acc = 0.0;
-  for (int j = 0; j < kRegimes; ++j) {
-    acc += kMarkov[from][j];
-    if (u < acc) return j;
-  }
-  return kRegimes - 1;
-}
-
-// Term layout of a coefficient column.
-enum Term : std::size_t { kMean, kAnnual, kSemi, kTrend, kRegime0, kDrift = kRegime0 + kRegimes, kBlob0 };
+// Term layout of a coefficient column: the fixed terms, then one per regime,
+// the drift, one per noise centre.
+enum Term : std::size_t { kMean, kAnnual, kSemi, kTrend, kRegime0 };
 
 }  // namespace
 
@@ -174,78 +196,108 @@ std::vector<double> axis(double first, double last, double step) {
 
 bool cold_season(const Date& d) { return d.month >= 11 || d.month <= 3; }
 
-World::World(std::uint64_t seed) : seed_(seed) {
-  // The four regimes over the sector 20-80N, 170E-40W: distinct shapes.
-  // Amplitudes chosen so that the anomaly patterns (shape minus the
-  // stationary mean of the shapes) peak at 185, 175, 165 and 160 m.
-  regimes_ = {
-      {"ridge 55N 140W", {{55, 220, 240, 13}, {32, 242, -78, 10}}},
-      {"trough 45N 170W", {{45, 190, -197, 12}, {60, 290, 90, 12}}},
-      {"dipole 67N/42N 95W", {{67, 265, 275, 11}, {42, 268, -210, 10}}},
-      {"wave train 34N 160W to 38N 68W", {{34, 200, 116, 9}, {48, 248, -166, 9}, {38, 292, 111, 9}}},
-  };
-  stationary_ = stationary_distribution();
+void WorldSpec::validate() const {
+  if (!noise_only && (regimes < 3 || regimes > 5))
+    throw isohypse::InputError("--regimes: expected 3, 4 or 5 planted regimes, found " + std::to_string(regimes));
+  if (!std::isfinite(small_noise_std) || small_noise_std < 0.0)
+    throw isohypse::InputError("--small-noise: expected a standard deviation >= 0 m, found " +
+                               std::to_string(small_noise_std));
+}
+
+World::World(std::uint64_t seed, const WorldSpec& spec) : seed_(seed), spec_(spec) {
+  spec_.validate();
+  regimes_ = regime_shapes(spec_.planted());
+  markov_ = markov_matrix(spec_.planted());
+  stationary_ = stationary_distribution(markov_);
   // Model drift: most of the ridge's main centre, slightly displaced, so
-  // uncorrected long leads lean toward regime 0.
+  // uncorrected long leads lean toward regime 0 (toward no regime when none is planted).
   drift_ = {"drift toward ridge 55N 140W", {{57, 215, 90, 14}}};
 
-  Rng blob_rng(derive_seed(seed, {kBlobStream}));
+  const std::size_t n_days = static_cast<std::size_t>(isohypse::days_between(kFirstDay, kLastDay)) + 1;
+  states_.assign(n_days, -1);
+  if (!regimes_.empty()) {
+    Rng chain_rng(derive_seed(seed, {kChainStream}));
+    states_[0] = static_cast<int>(chain_rng.below(regimes_.size()));
+    for (std::size_t j = 1; j < n_days; ++j) states_[j] = next_state(states_[j - 1], chain_rng.uniform());
+  }
+  noise_.set_size(0, n_days);
+  plant_noise(kBlobStream, kLatticePoints, kBlobRadiusMin, kBlobRadiusMax, kNoiseStd);
+  large_blobs_ = blobs_.size();
+  if (spec_.small_noise_std > 0.0)
+    plant_noise(kSmallBlobStream, kSmallLatticePoints, kSmallRadiusMin, kSmallRadiusMax, spec_.small_noise_std);
+}
+
+// Appends noise centres on a jittered Fibonacci lattice of `lattice_points`
+// over the sphere (poleward of kBlobMinAbsLat), scaled so that their mean
+// point standard deviation over the sector is `std` m, and their AR(1)
+// weights. The large-scale noise takes streams kBlobStream and kNoiseStream,
+// the small-scale one kSmallBlobStream and kSmallNoiseStream.
+void World::plant_noise(std::uint64_t stream, int lattice_points, double radius_min, double radius_max, double std) {
+  const std::size_t first = blobs_.size();
+  Rng blob_rng(derive_seed(seed_, {stream}));
   const double golden = 180.0 * (3.0 - std::sqrt(5.0));  // golden angle, degrees
   const double rotation = 360.0 * blob_rng.uniform();
-  for (int i = 0; i < kLatticePoints; ++i) {
-    double z = 1.0 - (2.0 * i + 1.0) / kLatticePoints;
+  for (int i = 0; i < lattice_points; ++i) {
+    double z = 1.0 - (2.0 * i + 1.0) / lattice_points;
     double lat = std::asin(z) / kDeg + 4.0 * (blob_rng.uniform() - 0.5);
     double lon = std::fmod(rotation + golden * i + 4.0 * (blob_rng.uniform() - 0.5), 360.0);
-    double radius = kBlobRadiusMin + (kBlobRadiusMax - kBlobRadiusMin) * blob_rng.uniform();
+    double radius = radius_min + (radius_max - radius_min) * blob_rng.uniform();
     if (std::abs(lat) >= kBlobMinAbsLat) blobs_.push_back({lat, lon, 1.0, radius});
   }
-  // Scale so that the mean point standard deviation over the sector is kNoiseStd.
   double sum_sd = 0.0;
   int n = 0;
   for (double lat = 20; lat <= 80; lat += 2.5)
     for (double lon = 170; lon <= 320; lon += 2.5) {
       double var = 0.0;
-      for (const auto& b : blobs_) var += std::pow(gaussian(b, lat, lon), 2);
+      for (std::size_t k = first; k < blobs_.size(); ++k) var += std::pow(gaussian(blobs_[k], lat, lon), 2);
       sum_sd += noise_envelope(lat) * std::sqrt(var);
       ++n;
     }
-  blob_scale_ = kNoiseStd / (sum_sd / n);
+  blob_scale_.resize(blobs_.size(), std / (sum_sd / n));
 
-  const std::size_t n_days = static_cast<std::size_t>(isohypse::days_between(kFirstDay, kLastDay)) + 1;
-  Rng chain_rng(derive_seed(seed, {kChainStream}));
-  states_.resize(n_days);
-  states_[0] = static_cast<int>(chain_rng.below(kRegimes));
-  for (std::size_t j = 1; j < n_days; ++j) states_[j] = next_state(states_[j - 1], chain_rng.uniform());
-
-  Rng noise_rng(derive_seed(seed, {kNoiseStream}));
+  const std::size_t nb = blobs_.size() - first, n_days = noise_.n_cols;
+  Rng noise_rng(derive_seed(seed_, {stream == kBlobStream ? kNoiseStream : kSmallNoiseStream}));
   const double innovation = std::sqrt(1.0 - kNoiseLag1 * kNoiseLag1);
-  noise_.set_size(blobs_.size(), n_days);
-  for (std::size_t k = 0; k < blobs_.size(); ++k) noise_(k, 0) = noise_rng.normal();
+  arma::mat w(nb, n_days);
+  for (std::size_t k = 0; k < nb; ++k) w(k, 0) = noise_rng.normal();
   for (std::size_t j = 1; j < n_days; ++j)
-    for (std::size_t k = 0; k < blobs_.size(); ++k)
-      noise_(k, j) = kNoiseLag1 * noise_(k, j - 1) + innovation * noise_rng.normal();
+    for (std::size_t k = 0; k < nb; ++k) w(k, j) = kNoiseLag1 * w(k, j - 1) + innovation * noise_rng.normal();
+  noise_ = arma::join_cols(noise_, w);
 }
 
-std::size_t World::n_terms() const { return kBlob0 + blobs_.size(); }
+int World::next_state(int from, double u) const {
+  if (from < 0) return -1;  // no regimes planted
+  const auto& row = markov_[static_cast<std::size_t>(from)];
+  double acc = 0.0;
+  for (std::size_t j = 0; j < row.size(); ++j) {
+    acc += row[j];
+    if (u < acc) return static_cast<int>(j);
+  }
+  return static_cast<int>(row.size()) - 1;
+}
+
+std::size_t World::n_terms() const { return kRegime0 + regimes_.size() + 1 + blobs_.size(); }
 
 arma::mat World::terms(const Points& points) const {
   arma::mat g(points.size(), n_terms());
+  const std::size_t drift_term = kRegime0 + regimes_.size();
   for (std::size_t p = 0; p < points.size(); ++p) {
     double lat = points.lat[p], lon = points.lon[p];
     g(p, kMean) = clim_mean(lat, lon);
     g(p, kAnnual) = clim_annual(lat, lon);
     g(p, kSemi) = clim_semiannual(lat, lon);
     g(p, kTrend) = 1.0;
-    for (int r = 0; r < kRegimes; ++r) g(p, kRegime0 + r) = regime_anomaly(r, lat, lon);
-    g(p, kDrift) = drift_.value(lat, lon);
-    for (std::size_t k = 0; k < blobs_.size(); ++k) g(p, kBlob0 + k) = blob_scale_ * noise_envelope(lat) * gaussian(blobs_[k], lat, lon);
+    for (int r = 0; r < n_regimes(); ++r) g(p, kRegime0 + r) = regime_anomaly(r, lat, lon);
+    g(p, drift_term) = drift_.value(lat, lon);
+    for (std::size_t k = 0; k < blobs_.size(); ++k)
+      g(p, drift_term + 1 + k) = blob_scale_[k] * noise_envelope(lat) * gaussian(blobs_[k], lat, lon);
   }
   return g;
 }
 
 double World::regime_anomaly(int r, double lat, double lon) const {
   double mean = 0.0;
-  for (int j = 0; j < kRegimes; ++j) mean += stationary_[static_cast<std::size_t>(j)] * regimes_[j].value(lat, lon);
+  for (int j = 0; j < n_regimes(); ++j) mean += stationary_[static_cast<std::size_t>(j)] * regimes_[j].value(lat, lon);
   return regimes_[static_cast<std::size_t>(r)].value(lat, lon) - mean;
 }
 
@@ -268,11 +320,12 @@ void World::fill_coefs(double* c, const Date& real, int regime, double drift_fac
   c[kAnnual] = std::cos(2.0 * std::numbers::pi * (t - kSummerPeak));
   c[kSemi] = std::cos(4.0 * std::numbers::pi * (t - kSemiPhase));
   c[kTrend] = kTrendPerYear * (t - (kTrendYear0 - 2000));
-  for (int r = 0; r < kRegimes; ++r) c[kRegime0 + r] = r == regime ? regime_taper(real) : 0.0;
-  c[kDrift] = drift_factor;
+  for (int r = 0; r < n_regimes(); ++r) c[kRegime0 + r] = r == regime ? regime_taper(real) : 0.0;
+  const std::size_t drift_term = kRegime0 + regimes_.size();
+  c[drift_term] = drift_factor;
   // Northern summer days are calmer.
   const double calm = 1.0 - kSummerCalm * 0.5 * (1.0 + c[kAnnual]);
-  for (std::size_t k = 0; k < blobs_.size(); ++k) c[kBlob0 + k] = calm * noise[k];
+  for (std::size_t k = 0; k < blobs_.size(); ++k) c[drift_term + 1 + k] = calm * noise[k];
 }
 
 arma::vec World::truth_coefs(const Date& real) const {
@@ -313,6 +366,27 @@ Trajectory World::member(const Date& init, int member) const {
   return tr;
 }
 
+nlohmann::json World::noise_json() const {
+  return {{"kind", "Gaussian centres on a jittered Fibonacci lattice, each weight an AR(1) series"},
+          {"n_centres", large_blobs_},
+          {"radius_deg", {kBlobRadiusMin, kBlobRadiusMax}},
+          {"min_abs_lat", kBlobMinAbsLat},
+          {"sector_mean_point_std_m", kNoiseStd},
+          {"lag1", kNoiseLag1},
+          {"latitude_envelope", "0.2 equatorward of 28 degrees, 1 from 55 to 70, 0.7 at the pole"},
+          {"summer_reduction", kSummerCalm}};
+}
+
+nlohmann::json World::small_noise_json() const {
+  return {
+      {"kind", "a second set of Gaussian centres on its own jittered Fibonacci lattice, each an AR(1) series"},
+      {"n_centres", blobs_.size() - large_blobs_},
+      {"radius_deg", {kSmallRadiusMin, kSmallRadiusMax}},
+      {"sector_mean_point_std_m", spec_.small_noise_std},
+      {"lag1", kNoiseLag1},
+      {"latitude_envelope", "as the large-scale noise's"}};
+}
+
 nlohmann::json World::describe() const {
   using nlohmann::json;
   auto centres = [](const Pattern& p) {
@@ -325,19 +399,19 @@ nlohmann::json World::describe() const {
   j["pattern_shape"] =
       "shape = sum over centres of amplitude_m * exp(-0.5 * (d / radius_deg)^2), d = great-circle distance in "
       "degrees; anomaly pattern of regime r = shape_r - sum_j stationary[j] * shape_j (zero climatological mean)";
+  j["n_regimes"] = n_regimes();
+  j["noise_only"] = spec_.noise_only;
   j["stationary"] = stationary_;
   j["regimes"] = json::array();
-  for (int r = 0; r < kRegimes; ++r)
+  for (int r = 0; r < n_regimes(); ++r)
     j["regimes"].push_back({{"index", r}, {"name", regimes_[r].name}, {"centres", centres(regimes_[r])}});
-  json rows = json::array();
-  for (const auto& row : kMarkov) rows.push_back(std::vector<double>(std::begin(row), std::end(row)));
-  j["markov"] = {{"matrix", rows},
-                 {"note", "row = today's regime, column = tomorrow's; the chain runs every day of the year"},
-                 {"residence_days", [&] {
-                    std::vector<double> v;
-                    for (int r = 0; r < kRegimes; ++r) v.push_back(1.0 / (1.0 - kMarkov[r][r]));
-                    return v;
-                  }()}};
+  std::vector<double> residence;
+  for (int r = 0; r < n_regimes(); ++r) residence.push_back(1.0 / (1.0 - markov_[r][r]));
+  j["markov"] = {{"matrix", markov_},
+                 {"note", spec_.noise_only ? "no regimes planted: red noise and climatology only"
+                                           : "row = today's regime, column = tomorrow's; the chain runs every day "
+                                             "of the year"},
+                 {"residence_days", residence}};
   j["regime_amplitude"] = {{"cold_season_months", {11, 12, 1, 2, 3}},
                            {"off_season_factor", kOffSeasonTaper},
                            {"ramps", "linear through April (1 -> 0.2) and October (0.2 -> 1)"}};
@@ -345,15 +419,9 @@ nlohmann::json World::describe() const {
                 {"centres", centres(drift_)},
                 {"formula", "drift(x, lead) = D(x) * (1 - exp(-lead / efold_days))"},
                 {"efold_days", kDriftEfold},
-                {"resembles_regime", 0}};
-  j["noise"] = {{"kind", "Gaussian centres on a jittered Fibonacci lattice, each weight an AR(1) series"},
-                {"n_centres", blobs_.size()},
-                {"radius_deg", {kBlobRadiusMin, kBlobRadiusMax}},
-                {"min_abs_lat", kBlobMinAbsLat},
-                {"sector_mean_point_std_m", kNoiseStd},
-                {"lag1", kNoiseLag1},
-                {"latitude_envelope", "0.2 equatorward of 28 degrees, 1 from 55 to 70, 0.7 at the pole"},
-                {"summer_reduction", kSummerCalm}};
+                {"resembles_regime", spec_.noise_only ? json(nullptr) : json(0)}};
+  j["noise"] = noise_json();
+  if (spec_.small_noise_std > 0.0) j["small_scale_noise"] = small_noise_json();
   j["members"] = {{"divergence_lead", "exponential with mean divergence_mean_days; lead 0 is always the truth"},
                   {"divergence_mean_days", kDivergenceMean},
                   {"regime", "truth's state for lead < divergence lead, then the member's own Markov chain"},

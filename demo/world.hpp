@@ -25,7 +25,7 @@
 
 namespace demo {
 
-inline constexpr int kRegimes = 4;
+inline constexpr int kDefaultRegimes = 4;  // today's world
 inline constexpr int kLeads = 46;  // lead days 0..45
 inline const isohypse::Date kFirstDay{1991, 1, 1, isohypse::Calendar::Standard};
 inline const isohypse::Date kLastDay{2026, 6, 30, isohypse::Calendar::Standard};
@@ -62,11 +62,30 @@ struct Trajectory {
   arma::mat coefs;                       // n_terms x kLeads
 };
 
+// What is planted: 3, 4 or 5 regimes (3: the first three of the four; 5: the
+// four and a block), or none (a noise-only world: the same climatology and
+// red noise for the same seed, no regime term, every label -1); and an
+// optional small-scale red noise (Gaussian centres of 3-4.5 degrees, about 6
+// degrees apart) of the given mean point standard deviation over the sector,
+// added to the large-scale noise, which stays the same for the same seed.
+// The default spec is today's world, byte for byte.
+struct WorldSpec {
+  int regimes = kDefaultRegimes;  // 3, 4 or 5; ignored when noise_only
+  bool noise_only = false;
+  double small_noise_std = 0.0;   // m; 0 = none
+  // Throws isohypse::InputError for another count or a negative or non-finite std.
+  void validate() const;
+  int planted() const { return noise_only ? 0 : regimes; }
+};
+
 class World {
 public:
-  explicit World(std::uint64_t seed);
+  explicit World(std::uint64_t seed, const WorldSpec& spec = {});
 
   std::uint64_t seed() const { return seed_; }
+  const WorldSpec& spec() const { return spec_; }
+  // Regimes planted: 0 in a noise-only world.
+  int n_regimes() const { return static_cast<int>(regimes_.size()); }
   std::size_t n_terms() const;
   // The spatial terms at the points: n_points x n_terms, metres per unit coefficient.
   arma::mat terms(const Points& points) const;
@@ -79,7 +98,8 @@ public:
   double regime_anomaly(int r, double lat, double lon) const;
   const Pattern& drift() const { return drift_; }
 
-  // Truth on a real (standard-calendar) day in [kFirstDay, kLastDay].
+  // Truth on a real (standard-calendar) day in [kFirstDay, kLastDay]; the
+  // regime is -1 every day in a noise-only world.
   int truth_regime(const isohypse::Date& real) const;
   arma::vec truth_coefs(const isohypse::Date& real) const;
   // Labelled regime: the truth's state in the cold season, -1 outside it.
@@ -100,14 +120,22 @@ private:
   void fill_coefs(double* column, const isohypse::Date& real, int regime, double drift_factor,
                   const double* noise) const;
 
+  int next_state(int from, double u) const;
+  nlohmann::json noise_json() const;        // the large-scale noise, for describe()
+  nlohmann::json small_noise_json() const;  // the small-scale noise, for describe()
+  void plant_noise(std::uint64_t stream, int lattice_points, double radius_min, double radius_max, double std);
+
   std::uint64_t seed_;
+  WorldSpec spec_;
   std::vector<Pattern> regimes_;
+  std::vector<std::vector<double>> markov_;  // rows: from, columns: to
   std::vector<double> stationary_;  // of the Markov chain
   Pattern drift_;
-  std::vector<Centre> blobs_;  // unit-amplitude noise centres (amplitude field unused)
-  double blob_scale_ = 0.0;    // metres per unit noise coefficient
-  std::vector<int> states_;    // truth chain per day
-  arma::mat noise_;            // n_blobs x n_days, unit-variance AR(1) per column row
+  std::vector<Centre> blobs_;        // unit-amplitude noise centres (amplitude field unused)
+  std::vector<double> blob_scale_;   // metres per unit noise coefficient, per centre
+  std::size_t large_blobs_ = 0;      // the first centres: the large-scale noise; the rest small-scale
+  std::vector<int> states_;    // truth chain per day (-1 in a noise-only world)
+  arma::mat noise_;            // n_blobs x n_days, unit-variance AR(1) per row
 };
 
 // The spatial terms on one grid, with the columns that vanish there dropped
