@@ -140,7 +140,8 @@ def one_world(root, name, flags, planted_k):
         if planted_k is not None:
             row["ari"], row["match"], row["none"], row["days"] = agreement(model_labels(model), planted_labels(folder))
     else:
-        row["message"] = (r.stderr + r.stdout).strip()[-300:]
+        errors = [line for line in r.stderr.splitlines() if "error" in line]
+        row["message"] = errors[-1] if errors else r.stderr.strip()[-300:]
         row["model_left"] = os.path.exists(model)
     return row
 
@@ -182,7 +183,7 @@ def main():
                 check(w["exit"] != 0 and not w.get("model_left", True)
                       and "significant" in w.get("message", ""),
                       f"{w['name']}: derive --k auto refuses (exit {w['exit']}; significant k: "
-                      f"{w.get('significant', 'n/a')}; message: {w.get('message', '')[-120:]!r})")
+                      f"{w.get('significant', 'none')}; message: {w.get('message', '')[:160]!r})")
         secs = time.time() - t0
         check(secs < 120, f"all {len(WORLDS)} worlds generated and derived in {secs:.0f} s (< 120 s)")
     finally:
