@@ -1,5 +1,6 @@
 #include <doctest/doctest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <string>
 #include <thread>
@@ -123,4 +124,32 @@ TEST_CASE("red-noise surrogate shape and seed") {
   CHECK(arma::approx_equal(a, red_noise_surrogate(pcs, consecutive, 1), "absdiff", 0.0));
   CHECK_FALSE(arma::approx_equal(a, red_noise_surrogate(pcs, consecutive, 2), "absdiff", 1e-6));
   CHECK_THROWS_AS(red_noise_surrogate(pcs, std::vector<char>(10, 1), 1), InternalError);
+}
+
+TEST_CASE("partition similarity from unit centroids equals the per-pair anomaly correlation formula") {
+  // The definition of Michelangeli et al. (1995), A(P, Q) = min_i max_j
+  // ACC(P_i, Q_j), written out with Armadillo's norm_dot on random centroid
+  // sets of several sizes; the library normalises each set once instead.
+  arma::arma_rng::set_seed(31);
+  std::vector<arma::mat> sets;
+  for (int m = 0; m < 6; ++m) sets.push_back(arma::randn(7, 5));
+  const arma::mat similarity = classifiability(sets).similarity;
+  for (std::size_t m = 0; m < sets.size(); ++m)
+    for (std::size_t q = 0; q < sets.size(); ++q) {
+      double worst = 2.0;
+      for (arma::uword i = 0; i < sets[m].n_cols; ++i) {
+        double best = -2.0;
+        for (arma::uword j = 0; j < sets[q].n_cols; ++j)
+          best = std::max(best, arma::norm_dot(sets[m].col(i), sets[q].col(j)));
+        worst = std::min(worst, best);
+      }
+      CHECK(partition_similarity(sets[m], sets[q]) == doctest::Approx(worst).epsilon(1e-13));
+      if (m != q) CHECK(similarity(m, q) == doctest::Approx(worst).epsilon(1e-13));
+    }
+  CHECK(partition_similarity(arma::randn(7, 3), arma::randn(7, 8)) <= 1.0);
+  arma::mat zero = sets[0];
+  zero.col(2).zeros();
+  CHECK_THROWS_AS(partition_similarity(zero, sets[1]), NumericalError);
+  CHECK_THROWS_AS(classifiability({sets[0], zero}), NumericalError);
+  CHECK_THROWS_AS(classifiability({sets[0], arma::randn(6, 5)}), InternalError);
 }

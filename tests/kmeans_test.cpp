@@ -1,5 +1,6 @@
 #include <doctest/doctest.h>
 
+#include <algorithm>
 #include <string>
 
 #include "isohypse/base/error.hpp"
@@ -159,4 +160,102 @@ TEST_CASE("k-means refuses sizes that do not fit and names them") {
   bad(0, 0) = arma::datum::nan;
   o.k = 2;
   CHECK_THROWS_AS(kmeans(bad, o), DataError);
+}
+
+namespace {
+
+// kmeans() with one restart and plain Lloyd steps (the double path) from the
+// same k-means++ start as kmeans_quick with the same seed.
+KMeansResult double_run(const arma::mat& X, int k, std::uint64_t seed) {
+  KMeansOptions o;
+  o.k = k;
+  o.restarts = 1;
+  o.seed = seed;
+  o.tolerance = 0.0;
+  o.step = LloydStep::Plain;
+  return kmeans(X, o);
+}
+
+}  // namespace
+
+TEST_CASE("quick k-means (float and early stop) gives the double Lloyd labels on planted groups") {
+  // Four well-separated groups in 5 dimensions (spread 0.7, centres >= 6
+  // apart): from the same start both paths must end in the same partition,
+  // and the float inertia must agree within 1e-5 relative (float sums of
+  // squares over a few hundred points; our tolerance, not a published one).
+  const arma::mat centres = {{0, 6, 0, 6}, {0, 0, 6, 6}, {0, 0, 0, 3}, {1, 0, 0, 0}, {0, 2, 0, 0}};
+  auto [X, group] = planted(centres, {30, 80, 50, 20}, 0.7, 3);
+  const arma::fmat rows = arma::conv_to<arma::fmat>::from(X.t());
+  QuickKMeans state;
+  for (std::uint64_t seed = 1; seed <= 10; ++seed) {
+    QuickKMeansOptions q;
+    q.k = 4;
+    q.seed = seed;
+    kmeans_quick(rows, q, state);
+    const KMeansResult ref = double_run(X, 4, seed);
+    CHECK(adjusted_rand_index(state.labels, ref.labels) == 1.0);
+    CHECK(state.inertia == doctest::Approx(ref.inertia).epsilon(1e-5));
+    CHECK(state.centroids.n_rows == 5);
+    CHECK(state.centroids.n_cols == 4);
+  }
+}
+
+TEST_CASE("quick k-means stays within convergence noise of the double Lloyd on unimodal data") {
+  // No groups (as red noise): Lloyd creeps, so the early stop (relative
+  // inertia change 1e-6) ends before the double path's full convergence.
+  // The inertia may then exceed the converged one by a little (< 0.5 %), and
+  // each quick centroid has a double centroid with anomaly correlation > 0.99;
+  // with no stop (0) the quick path follows the double one to the same labels
+  // but for float rounding at boundaries (adjusted Rand index > 0.98).
+  // Tolerances are ours (convergence noise), checked on 8 seeds.
+  arma::arma_rng::set_seed(11);
+  const arma::mat X = arma::diagmat(arma::vec{3, 2, 1.5, 1, 0.8, 0.5}) * arma::randn(6, 2000);
+  const arma::fmat rows = arma::conv_to<arma::fmat>::from(X.t());
+  QuickKMeans state;
+  for (std::uint64_t seed = 1; seed <= 8; ++seed) {
+    const KMeansResult ref = double_run(X, 6, seed);
+    QuickKMeansOptions q;
+    q.k = 6;
+    q.seed = seed;
+    q.relative_inertia_change = 0.0;
+    kmeans_quick(rows, q, state);
+    CHECK(adjusted_rand_index(state.labels, ref.labels) > 0.98);
+    q.relative_inertia_change = 1e-6;
+    kmeans_quick(rows, q, state);
+    CHECK(state.inertia >= ref.inertia * (1.0 - 1e-6));
+    CHECK(state.inertia <= ref.inertia * 1.005);
+    for (arma::uword i = 0; i < 6; ++i) {
+      double best = -1.0;
+      for (arma::uword j = 0; j < 6; ++j)
+        best = std::max(best, arma::norm_dot(state.centroids.col(i), ref.centroids.col(j)));
+      CHECK(best > 0.99);
+    }
+  }
+}
+
+TEST_CASE("quick k-means restarts keep the smallest inertia and refuse bad input") {
+  arma::arma_rng::set_seed(12);
+  const arma::fmat rows = arma::randn<arma::fmat>(300, 3);
+  QuickKMeans state;
+  QuickKMeansOptions q;
+  q.k = 5;
+  q.seed = 4;
+  q.restarts = 6;
+  kmeans_quick(rows, q, state);
+  const double best = state.inertia;
+  const std::vector<int> labels = state.labels;
+  double recomputed = 0.0;
+  for (arma::uword i = 0; i < rows.n_rows; ++i)
+    recomputed += arma::accu(arma::square(arma::conv_to<arma::vec>::from(rows.row(i).t()) -
+                                          state.centroids.col(static_cast<arma::uword>(labels[i]))));
+  CHECK(best == doctest::Approx(recomputed).epsilon(1e-5));
+  q.restarts = 1;
+  kmeans_quick(rows, q, state);
+  CHECK(best <= state.inertia);
+  q.k = 301;
+  CHECK_THROWS_AS(kmeans_quick(rows, q, state), InputError);
+  arma::fmat bad = rows;
+  bad(3, 1) = arma::datum::nan;
+  q.k = 2;
+  CHECK_THROWS_AS(kmeans_quick(bad, q, state), DataError);
 }

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <memory>
 #include <string>
 
 #include "isohypse/numerics/eof.hpp"
@@ -36,6 +37,38 @@ std::string format_table(const std::vector<RegimeCountRow>& table) {
   return s;
 }
 
+// The columns of P scaled to unit length; NumericalError for a zero column
+// (its anomaly correlation is undefined).
+arma::mat unit_columns(const arma::mat& P) {
+  arma::mat u(arma::size(P), arma::fill::none);
+  for (uword j = 0; j < P.n_cols; ++j) {
+    const double norm = arma::norm(P.col(j));
+    if (norm == 0.0)
+      throw NumericalError("anomaly correlation: a centroid is the zero vector (no anomaly)");
+    u.col(j) = P.col(j) / norm;
+  }
+  return u;
+}
+
+// A(P, Q) for unit columns: min over columns i of P of the max over columns
+// j of Q of their dot product (their anomaly correlation).
+double similarity_of_unit(const arma::mat& P, const arma::mat& Q) {
+  const uword d = P.n_rows;
+  double worst = arma::datum::inf;
+  for (uword i = 0; i < P.n_cols; ++i) {
+    const double* p = P.colptr(i);
+    double best = -arma::datum::inf;
+    for (uword j = 0; j < Q.n_cols; ++j) {
+      const double* q = Q.colptr(j);
+      double dot = 0.0;
+      for (uword r = 0; r < d; ++r) dot += p[r] * q[r];
+      best = std::max(best, dot);
+    }
+    worst = std::min(worst, best);
+  }
+  return worst;
+}
+
 }  // namespace
 
 double anomaly_correlation(const arma::vec& a, const arma::vec& b) {
@@ -54,25 +87,27 @@ double partition_similarity(const arma::mat& P, const arma::mat& Q) {
                      std::to_string(Q.n_rows) + " dimensions");
   if (P.n_cols == 0 || Q.n_cols == 0)
     throw InternalError("partition similarity: a partition has no centroids");
-  double worst = arma::datum::inf;
-  for (uword i = 0; i < P.n_cols; ++i) {
-    double best = -arma::datum::inf;
-    for (uword j = 0; j < Q.n_cols; ++j)
-      best = std::max(best, anomaly_correlation(P.col(i), Q.col(j)));
-    worst = std::min(worst, best);
-  }
-  return worst;
+  return similarity_of_unit(unit_columns(P), unit_columns(Q));
 }
 
 ClassifiabilityResult classifiability(const std::vector<arma::mat>& sets) {
   const std::size_t n = sets.size();
   if (n < 2)
     throw InternalError("classifiability: needs at least 2 partitions, found " + std::to_string(n));
+  // Each set normalised once: A(P, Q) is then a min of maxima of dot products.
+  std::vector<arma::mat> unit(n);
+  for (std::size_t m = 0; m < n; ++m) {
+    if (sets[m].n_rows != sets[0].n_rows || sets[m].n_cols == 0)
+      throw InternalError("classifiability: partition " + std::to_string(m) + " has " +
+                          std::to_string(sets[m].n_cols) + " centroids of " + std::to_string(sets[m].n_rows) +
+                          " dimensions, partition 0 centroids of " + std::to_string(sets[0].n_rows));
+    unit[m] = unit_columns(sets[m]);
+  }
   ClassifiabilityResult r;
   r.similarity.eye(n, n);
   for (std::size_t m = 0; m < n; ++m)
     for (std::size_t q = 0; q < n; ++q)
-      if (m != q) r.similarity(m, q) = partition_similarity(sets[m], sets[q]);
+      if (m != q) r.similarity(m, q) = similarity_of_unit(unit[m], unit[q]);
   const arma::vec row_sums = arma::sum(r.similarity, 1) - 1.0;  // without the diagonal
   r.index = arma::accu(row_sums) / static_cast<double>(n * (n - 1));
   r.best = static_cast<int>(row_sums.index_max());  // first maximum
@@ -101,6 +136,22 @@ arma::mat red_noise_surrogate(const arma::mat& pcs, const std::vector<char>& con
   return out;
 }
 
+namespace {
+
+// Data set 0 is the data, 1..S the surrogates, each made once, in float
+// and with one day per row, as kmeans_quick takes them.
+std::vector<arma::fmat> float_data_sets(const arma::mat& pcs, const std::vector<char>& consecutive,
+                                        const RegimeCountOptions& opt) {
+  std::vector<arma::fmat> sets(static_cast<std::size_t>(opt.surrogates) + 1);
+  sets[0] = arma::conv_to<arma::fmat>::from(pcs);
+  for (std::size_t s = 1; s < sets.size(); ++s)
+    sets[s] = arma::conv_to<arma::fmat>::from(
+        red_noise_surrogate(pcs, consecutive, detail::derive_seed(opt.seed, {1, s})));
+  return sets;
+}
+
+}  // namespace
+
 std::vector<RegimeCountRow> regime_count_table(const arma::mat& pcs,
                                                const std::vector<char>& consecutive,
                                                const RegimeCountOptions& opt,
@@ -120,26 +171,25 @@ std::vector<RegimeCountRow> regime_count_table(const arma::mat& pcs,
     throw InternalError(who + ": " + std::to_string(pcs.n_rows) + " days but " +
                      std::to_string(consecutive.size()) + " consecutive-day flags");
 
-  // Data set 0 is the data, 1..S the surrogates; points as columns.
-  const std::size_t n_sets = static_cast<std::size_t>(opt.surrogates) + 1;
-  std::vector<arma::mat> sets(n_sets);
-  sets[0] = pcs.t();
-  for (std::size_t s = 1; s < n_sets; ++s)
-    sets[s] = red_noise_surrogate(pcs, consecutive, detail::derive_seed(opt.seed, {1, s})).t();
+  const std::vector<arma::fmat> sets = float_data_sets(pcs, consecutive, opt);
+  const std::size_t n_sets = sets.size();
 
   const std::size_t n_k = static_cast<std::size_t>(opt.k_max - opt.k_min + 1);
   std::vector<ClassifiabilityResult> results(n_k * n_sets);
+  detail::StatePool<QuickKMeans> buffers([] { return std::make_unique<QuickKMeans>(); });
   auto unit = [&](std::size_t u) {
     const std::size_t ki = u / n_sets, s = u % n_sets;
     const int k = opt.k_min + static_cast<int>(ki);
+    auto state = buffers.lease();
     std::vector<arma::mat> centroid_sets(static_cast<std::size_t>(opt.runs));
     for (std::size_t run = 0; run < centroid_sets.size(); ++run) {
-      KMeansOptions ko;
+      QuickKMeansOptions ko;
       ko.k = k;
       ko.restarts = opt.restarts_per_run;
+      ko.relative_inertia_change = kClassifiabilityInertiaChange;
       ko.seed = detail::derive_seed(opt.seed, {2, static_cast<std::uint64_t>(k), s, run});
-      ko.threads = 1;  // parallel over units instead
-      centroid_sets[run] = kmeans(sets[s], ko).centroids;
+      kmeans_quick(sets[s], ko, *state);
+      centroid_sets[run] = state->centroids;
     }
     results[u] = classifiability(centroid_sets);
   };

@@ -321,6 +321,162 @@ KMeansResult to_result(Run&& run, int best_restart) {
   return r;
 }
 
+// --- the quick path (kmeans_quick): float points as rows, plain Lloyd ---
+
+constexpr uword kBlock = 256;  // points whose distances are computed together
+
+// Squared distances of points b..b+m-1 (rows of P) to centre j, into out.
+// Cloned for AVX2 (chosen at run time) as it is the table's inner loop.
+__attribute__((target_clones("avx2", "default")))
+void block_distances(const float* __restrict p, uword n, uword d, const float* __restrict centre, uword m,
+                     float* __restrict out) {
+  std::fill(out, out + m, 0.0f);
+  for (uword r = 0; r < d; ++r) {
+    const float c = centre[r];
+    const float* __restrict x = p + r * n;
+    for (uword i = 0; i < m; ++i) {
+      const float t = x[i] - c;
+      out[i] += t * t;
+    }
+  }
+}
+
+// k-means++ as kmeans_plus_plus, in float (the same draws from rng).
+void quick_seed(const arma::fmat& P, uword k, detail::Rng& rng, QuickKMeans& s) {
+  const uword n = P.n_rows;
+  s.centres.set_size(P.n_cols, k);
+  s.centres.col(0) = P.row(rng.below(n)).t();
+  block_distances(P.memptr(), n, P.n_cols, s.centres.colptr(0), n, s.d2.data());
+  for (uword c = 1; c < k; ++c) {
+    double total = 0.0;
+    for (uword i = 0; i < n; ++i) total += s.d2[i];
+    uword pick = 0;
+    if (total > 0.0) {
+      const double target = rng.uniform() * total;
+      double cumulative = 0.0;
+      for (uword i = 0; i < n; ++i) {
+        if (s.d2[i] <= 0.0f) continue;
+        pick = i;
+        cumulative += s.d2[i];
+        if (cumulative > target) break;
+      }
+    } else {
+      pick = rng.below(n);
+    }
+    s.centres.col(c) = P.row(pick).t();
+    block_distances(P.memptr(), n, P.n_cols, s.centres.colptr(c), n, s.nearest.data());
+    for (uword i = 0; i < n; ++i) s.d2[i] = std::min(s.d2[i], s.nearest[i]);
+  }
+}
+
+// Moves point i's contribution to the cluster sums from cluster `from` to `to`.
+void quick_move(const arma::fmat& P, uword i, int from, int to, QuickKMeans& s) {
+  for (uword r = 0; r < P.n_cols; ++r) {
+    const double x = P.at(i, r);
+    s.sums.at(static_cast<uword>(from), r) -= x;
+    s.sums.at(static_cast<uword>(to), r) += x;
+  }
+  --s.count[static_cast<uword>(from)];
+  ++s.count[static_cast<uword>(to)];
+}
+
+// Every point to its nearest centre (ties: lowest index), a block of points
+// at a time so that the inner loops run over points and vectorise. Returns
+// the inertia; s.nearest gets each point's squared distance, `changed` the
+// number of labels that changed. A changed label moves the point's
+// contribution to the sums (when valid), so late steps, which move few
+// points, need no rebuild of the sums.
+double quick_assign(const arma::fmat& P, QuickKMeans& s, std::size_t& changed) {
+  const uword n = P.n_rows, d = P.n_cols, k = s.centres.n_cols;
+  float* __restrict acc = s.acc.data();
+  int* __restrict bj = s.best_j.data();
+  double inertia = 0.0;
+  changed = 0;
+  for (uword b = 0; b < n; b += kBlock) {
+    const uword m = std::min(kBlock, n - b);
+    float* __restrict best = s.nearest.data() + b;
+    block_distances(P.memptr() + b, n, d, s.centres.colptr(0), m, best);
+    std::fill(bj, bj + m, 0);
+    for (uword j = 1; j < k; ++j) {
+      block_distances(P.memptr() + b, n, d, s.centres.colptr(j), m, acc);
+      const int jj = static_cast<int>(j);
+      for (uword i = 0; i < m; ++i) {
+        const bool closer = acc[i] < best[i];
+        best[i] = closer ? acc[i] : best[i];
+        bj[i] = closer ? jj : bj[i];
+      }
+    }
+    for (uword i = 0; i < m; ++i) {
+      inertia += best[i];
+      const int from = s.labels[b + i];
+      if (from == bj[i]) continue;
+      ++changed;
+      if (s.sums_valid) quick_move(P, b + i, from, bj[i], s);
+      s.labels[b + i] = bj[i];
+    }
+  }
+  return inertia;
+}
+
+// Centres to the cluster means (sums in double, rebuilt when not valid). A
+// cluster left empty takes the point farthest from its centre, as
+// cluster_means; its label follows at the next step, so the sums are then
+// rebuilt.
+void quick_update(const arma::fmat& P, QuickKMeans& s) {
+  const uword n = P.n_rows, d = P.n_cols, k = s.centres.n_cols;
+  if (!s.sums_valid) {
+    s.sums.zeros(k, d);
+    std::fill(s.count.begin(), s.count.end(), 0);
+    for (uword r = 0; r < d; ++r) {
+      const float* x = P.colptr(r);
+      double* sum = s.sums.colptr(r);
+      for (uword i = 0; i < n; ++i) sum[s.labels[i]] += x[i];
+    }
+    for (uword i = 0; i < n; ++i) ++s.count[static_cast<uword>(s.labels[i])];
+    s.sums_valid = true;
+  }
+  arma::mat& sums = s.sums;
+  for (uword j = 0; j < k; ++j) {
+    if (s.count[j] > 0) continue;
+    const uword i = static_cast<uword>(std::max_element(s.nearest.begin(), s.nearest.end()) - s.nearest.begin());
+    const auto from = static_cast<uword>(s.labels[i]);
+    s.nearest[i] = -1.0f;  // not taken twice
+    for (uword r = 0; r < d; ++r) {
+      sums(from, r) -= P(i, r);
+      sums(j, r) = P(i, r);
+    }
+    --s.count[from];
+    s.count[j] = 1;
+    s.sums_valid = false;
+  }
+  for (uword j = 0; j < k; ++j)
+    if (s.count[j] > 0)
+      for (uword r = 0; r < d; ++r)
+        s.centres(r, j) = static_cast<float>(sums(j, r) / static_cast<double>(s.count[j]));
+}
+
+// Lloyd steps from s.centres until no label changes, the inertia fell by at
+// most rtol of itself (a rise, only possible after re-seeding an empty
+// cluster, does not stop), or max_iterations updates; labels and inertia
+// always belong to the final centres.
+void quick_lloyd(const arma::fmat& P, int max_iterations, double rtol, QuickKMeans& s) {
+  std::fill(s.labels.begin(), s.labels.end(), -1);
+  s.sums_valid = false;
+  double previous = std::numeric_limits<double>::infinity();
+  int updates = 0;
+  while (true) {
+    std::size_t changed = 0;
+    const double inertia = quick_assign(P, s, changed);
+    s.inertia = inertia;
+    const double drop = previous - inertia;
+    if (changed == 0 || (drop >= 0.0 && drop <= rtol * inertia) || updates == max_iterations) break;
+    previous = inertia;
+    quick_update(P, s);
+    ++updates;
+  }
+  s.iterations = updates;
+}
+
 }  // namespace
 
 KMeansResult kmeans(const arma::mat& data, const KMeansOptions& opt) {
@@ -399,6 +555,43 @@ double adjusted_rand_index(const std::vector<int>& a, const std::vector<int>& b)
   // maximum == expected only when both are one cluster or both all singletons.
   if (maximum == expected) return 1.0;
   return (index - expected) / (maximum - expected);
+}
+
+}  // namespace isohypse
+
+namespace isohypse {
+
+void kmeans_quick(const arma::fmat& points, const QuickKMeansOptions& opt, QuickKMeans& s) {
+  const uword n = points.n_rows, d = points.n_cols;
+  if (d == 0) throw InternalError("quick k-means: the points have no dimensions");
+  if (opt.k < 1 || static_cast<uword>(opt.k) > n)
+    throw InputError("quick k-means: k = " + std::to_string(opt.k) + " must be in 1.." + std::to_string(n) +
+                     " (the number of points)");
+  if (opt.restarts < 1 || opt.max_iterations < 1 || !(opt.relative_inertia_change >= 0.0))
+    throw InputError("quick k-means: restarts and max_iterations must be >= 1 and the relative inertia change >= 0");
+  if (!points.is_finite()) throw DataError("quick k-means: the points hold NaN or Inf values");
+  const auto k = static_cast<uword>(opt.k);
+  s.nearest.resize(n);
+  s.d2.resize(n);
+  s.acc.resize(kBlock);
+  s.best_j.resize(kBlock);
+  s.labels.resize(n);
+  s.count.assign(k, 0);
+  double best = std::numeric_limits<double>::infinity();
+  int best_iterations = 0;
+  for (int r = 0; r < opt.restarts; ++r) {
+    detail::Rng rng(detail::derive_seed(opt.seed, {static_cast<std::uint64_t>(r)}));
+    quick_seed(points, k, rng, s);
+    quick_lloyd(points, opt.max_iterations, opt.relative_inertia_change, s);
+    if (!(s.inertia < best)) continue;
+    best = s.inertia;
+    best_iterations = s.iterations;
+    s.centroids = arma::conv_to<arma::mat>::from(s.centres);
+    if (opt.restarts > 1) s.kept_labels = s.labels;
+  }
+  if (opt.restarts > 1) s.labels.swap(s.kept_labels);
+  s.inertia = best;
+  s.iterations = best_iterations;
 }
 
 }  // namespace isohypse

@@ -81,10 +81,17 @@ struct RegimeCountRow {
   int best_run = 0;              // the data's best partition among the runs
 };
 
-// For each k in [k_min, k_max]: `runs` k-means runs (seeds derived from
+// The quick k-means runs of the table stop when one Lloyd step lowers the
+// inertia by at most this fraction of it (see kmeans_quick): their centroids
+// are then within convergence noise of fully converged ones, which moves the
+// indices by far less than their sampling spread.
+inline constexpr double kClassifiabilityInertiaChange = 1e-6;
+
+// For each k in [k_min, k_max]: `runs` quick k-means runs (kmeans_quick, in
+// float, restarts_per_run k-means++ starts each, seeds derived from
 // (seed, k, run)) on the data and on each of `surrogates` red-noise
-// surrogates (the same surrogates for every k). The result does not depend on
-// the thread count. progress(done, total), if set, is called from the
+// surrogates (the same surrogates for every k, made once). The result does
+// not depend on the thread count. progress(done, total), if set, is called from the
 // calling thread after each (k, data set) unit. Throws InputError for
 // options out of range (2 <= k_min <= k_max <= n_time, runs >= 2,
 // surrogates >= 1, 0 < level < 1, restarts_per_run >= 1).

@@ -58,6 +58,45 @@ KMeansResult kmeans_from(const arma::mat& data, const arma::mat& initial_centres
                          int max_iterations, double tolerance,
                          LloydStep step = LloydStep::Plain);
 
+// A quick k-means run, for the classifiability table's thousands of runs
+// whose centroids are only compared by anomaly correlation (use kmeans() for
+// a partition that is kept). It differs from kmeans() with one restart in
+// three ways only: single precision (the points are float, the cluster sums
+// double); plain Lloyd steps; and a stop, besides "no label changed", when
+// one step lowered the inertia by at most `relative_inertia_change` of it.
+// The seeding is kmeans()'s k-means++ with restart r drawing from (seed, r),
+// so the starts equal kmeans()'s up to float rounding of the distances.
+// Orientation: points is n x dims (one point per ROW, as EofResult::pcs), so
+// that distances are computed for many points at once; the centroids
+// returned are dims x k in double, in seeding order (not reordered by size).
+// Errors: as kmeans() (InputError for k out of 1..n, DataError for NaN/Inf).
+struct QuickKMeansOptions {
+  int k = 4;
+  int restarts = 1;                       // the smallest inertia wins (ties: lowest)
+  int max_iterations = 300;
+  double relative_inertia_change = 1e-6;  // stop when (I_prev - I) <= this * I
+  std::uint64_t seed = kDefaultSeed;
+};
+
+// The result and the buffers of quick runs; reuse one per thread so that a
+// run allocates nothing after the first (contents other than the results are
+// scratch).
+struct QuickKMeans {
+  arma::mat centroids;      // dims x k, result
+  std::vector<int> labels;  // per point, result
+  double inertia = 0.0;     // result (accumulated in double)
+  int iterations = 0;       // Lloyd updates of the kept restart
+  // scratch
+  arma::fmat centres;                  // dims x k
+  arma::mat sums;                      // k x dims
+  bool sums_valid = false;             // sums and count match labels
+  std::vector<arma::uword> count;
+  std::vector<float> nearest, acc, d2; // per point / per block
+  std::vector<int> best_j, kept_labels;
+};
+
+void kmeans_quick(const arma::fmat& points, const QuickKMeansOptions& opt, QuickKMeans& state);
+
 // Index of the nearest centroid (squared Euclidean; ties: lowest index) for
 // every column of data.
 std::vector<int> nearest_centroid(const arma::mat& data, const arma::mat& centroids);
