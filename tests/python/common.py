@@ -1,6 +1,8 @@
 """Shared helpers for the Python reference tests (run with /usr/bin/python3)."""
+import atexit
 import json
 import os
+import shutil
 import subprocess
 import sys
 import tempfile
@@ -37,4 +39,11 @@ def tool(name, *args):
 
 
 def scratch():
-    return tempfile.mkdtemp(prefix="isohypse-test-")
+    """A fresh directory, removed when the test ends unless ISOHYPSE_KEEP_SCRATCH is set
+    (then its path stays in the log for a post-mortem)."""
+    path = tempfile.mkdtemp(prefix="isohypse-test-")
+    if os.environ.get("ISOHYPSE_KEEP_SCRATCH"):
+        print(f"scratch kept: {path}", flush=True)
+    else:
+        atexit.register(shutil.rmtree, path, ignore_errors=True)
+    return path
