@@ -1,6 +1,7 @@
 #include "isohypse/numerics/kmeans.hpp"
 
 #include <algorithm>
+#include <cstring>
 #include <cmath>
 #include <limits>
 #include <map>
@@ -326,10 +327,10 @@ KMeansResult to_result(Run&& run, int best_restart) {
 constexpr uword kBlock = 256;  // points whose distances are computed together
 
 // Squared distances of points b..b+m-1 (rows of P) to centre j, into out.
-// Cloned for AVX2 (chosen at run time) as it is the table's inner loop.
-__attribute__((target_clones("avx2", "default")))
-void block_distances(const float* __restrict p, uword n, uword d, const float* __restrict centre, uword m,
-                     float* __restrict out) {
+// Inlined into the kernels below, which are cloned for AVX2 (chosen at run
+// time): they are the table's inner loops.
+inline void distances_to(const float* __restrict p, uword n, uword d, const float* __restrict centre, uword m,
+                         float* __restrict out) {
   std::fill(out, out + m, 0.0f);
   for (uword r = 0; r < d; ++r) {
     const float c = centre[r];
@@ -339,6 +340,98 @@ void block_distances(const float* __restrict p, uword n, uword d, const float* _
       out[i] += t * t;
     }
   }
+}
+
+__attribute__((target_clones("avx2", "default")))
+void block_distances(const float* __restrict p, uword n, uword d, const float* __restrict centre, uword m,
+                     float* __restrict out) {
+  distances_to(p, n, d, centre, m, out);
+}
+
+// For points b..b+m-1: the squared distance to the nearest of the k centres
+// (columns of `centres`, d floats each) into best, its index into bj (ties:
+// lowest index). Eight points at a time in one vector register each for the
+// distance, the best distance and its index, so that nothing but the points
+// goes through memory; the sums over dimensions run in the same order as
+// distances_to, so both give the same floats.
+using Lanes = float __attribute__((vector_size(32)));
+using IntLanes = int __attribute__((vector_size(32)));
+
+// G groups of eight points from point i on: G independent chains of
+// additions, so that the adder's latency is hidden.
+template <int G>
+__attribute__((always_inline)) inline void nearest_of_groups(const float* __restrict p, uword n, uword d, const float* __restrict centres, uword k,
+                              uword i, float* __restrict best, int* __restrict bj) {
+  Lanes nearest[G];
+  IntLanes index[G] = {};
+  for (uword j = 0; j < k; ++j) {
+    const float* c = centres + j * d;
+    Lanes sum[G] = {};
+    for (uword r = 0; r < d; ++r) {
+      const float* x = p + r * n + i;
+      for (int g = 0; g < G; ++g) {
+        Lanes v;
+        std::memcpy(&v, x + 8 * g, sizeof v);
+        const Lanes t = v - c[r];
+        sum[g] += t * t;
+      }
+    }
+    for (int g = 0; g < G; ++g) {
+      if (j == 0) {
+        nearest[g] = sum[g];
+        continue;
+      }
+      const IntLanes closer = sum[g] < nearest[g];
+      nearest[g] = closer ? sum[g] : nearest[g];
+      index[g] = closer ? static_cast<int>(j) + IntLanes{} : index[g];
+    }
+  }
+  std::memcpy(best + i, nearest, sizeof nearest);
+  std::memcpy(bj + i, index, sizeof index);
+}
+
+__attribute__((target_clones("avx2", "default")))
+void block_nearest(const float* __restrict p, uword n, uword d, const float* __restrict centres, uword k, uword m,
+                   float* __restrict best, int* __restrict bj) {
+  uword i = 0;
+  for (; i + 32 <= m; i += 32) nearest_of_groups<4>(p, n, d, centres, k, i, best, bj);
+  for (; i + 8 <= m; i += 8) nearest_of_groups<1>(p, n, d, centres, k, i, best, bj);
+  for (; i < m; ++i) {  // the last few points
+    float b = 0.0f;
+    int bi = 0;
+    for (uword j = 0; j < k; ++j) {
+      float sum = 0.0f;
+      for (uword r = 0; r < d; ++r) {
+        const float t = p[r * n + i] - centres[j * d + r];
+        sum += t * t;
+      }
+      if (j == 0 || sum < b) {
+        b = sum;
+        bi = static_cast<int>(j);
+      }
+    }
+    best[i] = b;
+    bj[i] = bi;
+  }
+}
+
+// The sum of m squared distances in double, over 8 independent lanes (a
+// sequential sum is one long chain of additions).
+double block_sum(const float* __restrict v, uword m) {
+  double lane[8] = {0, 0, 0, 0, 0, 0, 0, 0};
+  uword i = 0;
+  for (; i + 8 <= m; i += 8)
+    for (uword l = 0; l < 8; ++l) lane[l] += static_cast<double>(v[i + l]);
+  for (; i < m; ++i) lane[0] += static_cast<double>(v[i]);
+  return ((lane[0] + lane[1]) + (lane[2] + lane[3])) + ((lane[4] + lane[5]) + (lane[6] + lane[7]));
+}
+
+// The number of points whose label differs from bj (vectorises; most blocks
+// of a late step have none).
+uword block_changes(const int* __restrict labels, const int* __restrict bj, uword m) {
+  uword changed = 0;
+  for (uword i = 0; i < m; ++i) changed += labels[i] != bj[i] ? 1 : 0;
+  return changed;
 }
 
 // k-means++ as kmeans_plus_plus, in float (the same draws from rng).
@@ -388,34 +481,50 @@ void quick_move(const arma::fmat& P, uword i, int from, int to, QuickKMeans& s) 
 // points, need no rebuild of the sums.
 double quick_assign(const arma::fmat& P, QuickKMeans& s, std::size_t& changed) {
   const uword n = P.n_rows, d = P.n_cols, k = s.centres.n_cols;
-  float* __restrict acc = s.acc.data();
   int* __restrict bj = s.best_j.data();
   double inertia = 0.0;
   changed = 0;
   for (uword b = 0; b < n; b += kBlock) {
     const uword m = std::min(kBlock, n - b);
     float* __restrict best = s.nearest.data() + b;
-    block_distances(P.memptr() + b, n, d, s.centres.colptr(0), m, best);
-    std::fill(bj, bj + m, 0);
-    for (uword j = 1; j < k; ++j) {
-      block_distances(P.memptr() + b, n, d, s.centres.colptr(j), m, acc);
-      const int jj = static_cast<int>(j);
-      for (uword i = 0; i < m; ++i) {
-        const bool closer = acc[i] < best[i];
-        best[i] = closer ? acc[i] : best[i];
-        bj[i] = closer ? jj : bj[i];
-      }
-    }
+    block_nearest(P.memptr() + b, n, d, s.centres.memptr(), k, m, best, bj);
+    inertia += block_sum(best, m);
+    int* labels = s.labels.data() + b;
+    if (block_changes(labels, bj, m) == 0) continue;
     for (uword i = 0; i < m; ++i) {
-      inertia += best[i];
-      const int from = s.labels[b + i];
+      const int from = labels[i];
       if (from == bj[i]) continue;
       ++changed;
       if (s.sums_valid) quick_move(P, b + i, from, bj[i], s);
-      s.labels[b + i] = bj[i];
+      labels[i] = bj[i];
     }
   }
   return inertia;
+}
+
+// The cluster sums and counts from the labels. Four partial sums per
+// cluster, point by point: consecutive points of one cluster then do not
+// wait for each other's additions.
+void rebuild_sums(const arma::fmat& P, QuickKMeans& s) {
+  const uword n = P.n_rows, d = P.n_cols, k = s.centres.n_cols;
+  constexpr uword kCopies = 4;
+  s.partial.assign(kCopies * k * d, 0.0);
+  std::fill(s.count.begin(), s.count.end(), 0);
+  const float* x = P.memptr();
+  for (uword i = 0; i < n; ++i) {
+    const auto l = static_cast<uword>(s.labels[i]);
+    double* t = s.partial.data() + ((i % kCopies) * k + l) * d;
+    for (uword r = 0; r < d; ++r) t[r] += static_cast<double>(x[r * n + i]);
+    ++s.count[l];
+  }
+  s.sums.set_size(k, d);
+  for (uword j = 0; j < k; ++j)
+    for (uword r = 0; r < d; ++r) {
+      double sum = 0.0;
+      for (uword c = 0; c < kCopies; ++c) sum += s.partial[(c * k + j) * d + r];
+      s.sums(j, r) = sum;
+    }
+  s.sums_valid = true;
 }
 
 // Centres to the cluster means (sums in double, rebuilt when not valid). A
@@ -423,18 +532,8 @@ double quick_assign(const arma::fmat& P, QuickKMeans& s, std::size_t& changed) {
 // cluster_means; its label follows at the next step, so the sums are then
 // rebuilt.
 void quick_update(const arma::fmat& P, QuickKMeans& s) {
-  const uword n = P.n_rows, d = P.n_cols, k = s.centres.n_cols;
-  if (!s.sums_valid) {
-    s.sums.zeros(k, d);
-    std::fill(s.count.begin(), s.count.end(), 0);
-    for (uword r = 0; r < d; ++r) {
-      const float* x = P.colptr(r);
-      double* sum = s.sums.colptr(r);
-      for (uword i = 0; i < n; ++i) sum[s.labels[i]] += x[i];
-    }
-    for (uword i = 0; i < n; ++i) ++s.count[static_cast<uword>(s.labels[i])];
-    s.sums_valid = true;
-  }
+  const uword d = P.n_cols, k = s.centres.n_cols;
+  if (!s.sums_valid) rebuild_sums(P, s);
   arma::mat& sums = s.sums;
   for (uword j = 0; j < k; ++j) {
     if (s.count[j] > 0) continue;
@@ -573,7 +672,6 @@ void kmeans_quick(const arma::fmat& points, const QuickKMeansOptions& opt, Quick
   const auto k = static_cast<uword>(opt.k);
   s.nearest.resize(n);
   s.d2.resize(n);
-  s.acc.resize(kBlock);
   s.best_j.resize(kBlock);
   s.labels.resize(n);
   s.count.assign(k, 0);

@@ -91,7 +91,8 @@ struct QuickKMeans {
   arma::mat sums;                      // k x dims
   bool sums_valid = false;             // sums and count match labels
   std::vector<arma::uword> count;
-  std::vector<float> nearest, acc, d2; // per point / per block
+  std::vector<double> partial;         // partial cluster sums
+  std::vector<float> nearest, d2;      // per point
   std::vector<int> best_j, kept_labels;
 };
 
