@@ -7,8 +7,10 @@
 
 #include "isohypse/numerics/classifiability.hpp"
 #include "isohypse/base/error.hpp"
+#include "planted_pcs.hpp"
 
 using namespace isohypse;
+using isohypse::testing::planted_regime_pcs;
 
 TEST_CASE("classifiability index of METHODS.md section 3 (Michelangeli et al. 1995)") {
   // Centroids as columns: P1 = {(1,0),(0,1)}, P2 = {(1,0),(0.6,0.8)},
@@ -26,6 +28,22 @@ TEST_CASE("classifiability index of METHODS.md section 3 (Michelangeli et al. 19
   CHECK(row_sums[2] == doctest::Approx(2.36));
   CHECK(row_sums[3] == doctest::Approx(2.20));
   CHECK(r.best == 0);
+  // The jackknife spread: the index with each partition left out (the mean
+  // of the remaining ordered pairs), sqrt((N-1)/N sum (I_(i) - mean)^2)
+  // (Efron & Tibshirani 1993, An Introduction to the Bootstrap, eq. 11.5).
+  std::vector<double> left_out;
+  for (std::size_t i = 0; i < sets.size(); ++i) {
+    std::vector<arma::mat> rest;
+    for (std::size_t q = 0; q < sets.size(); ++q)
+      if (q != i) rest.push_back(sets[q]);
+    left_out.push_back(classifiability(rest).index);
+  }
+  double mean = 0, ss = 0;
+  for (double v : left_out) mean += v / 4.0;
+  for (double v : left_out) ss += (v - mean) * (v - mean);
+  CHECK(r.spread == doctest::Approx(std::sqrt(3.0 / 4.0 * ss)).epsilon(1e-12));
+  CHECK(r.spread > 0.0);
+  CHECK(classifiability({sets[0], sets[0], sets[0]}).spread == 0.0);
   // A(P1, P2) = min(max(1, 0.6), max(0, 0.8)) = 0.8 by the definition.
   CHECK(partition_similarity(sets[0], sets[1]) == doctest::Approx(0.8));
   CHECK(anomaly_correlation({1, 0}, {0.6, 0.8}) == doctest::Approx(0.6));
@@ -33,88 +51,6 @@ TEST_CASE("classifiability index of METHODS.md section 3 (Michelangeli et al. 19
   CHECK_THROWS_AS(classifiability({sets[0]}), InternalError);
 }
 
-namespace {
-
-// Planted regimes: three centres at the corners of an equilateral triangle
-// of radius 3 in the first two of 8 components (so k = 2 has no preferred
-// merge), persistent 6-day episodes in 120-day seasons, unit noise in every
-// component. One day per row, as EofResult::pcs.
-arma::mat planted_regime_pcs(arma::uword n_days, std::vector<char>& consecutive) {
-  arma::arma_rng::set_seed(21);
-  const double pi = 3.141592653589793;
-  const arma::uword dims = 8;
-  arma::mat centres(dims, 3, arma::fill::zeros);
-  for (int j = 0; j < 3; ++j) {
-    centres(0, j) = 3.0 * std::cos(2.0 * pi * j / 3.0);
-    centres(1, j) = 3.0 * std::sin(2.0 * pi * j / 3.0);
-  }
-  arma::mat pcs(n_days, dims);
-  consecutive.assign(n_days, 1);
-  int regime = 0;
-  for (arma::uword t = 0; t < n_days; ++t) {
-    if (t % 6 == 0) regime = static_cast<int>(arma::randi<arma::uvec>(1, arma::distr_param(0, 2))[0]);
-    if (t % 120 == 0) consecutive[t] = 0;
-    pcs.row(t) = centres.col(regime).t() + arma::randn<arma::rowvec>(dims);
-  }
-  return pcs;
-}
-
-}  // namespace
-
-TEST_CASE("regime count: planted three regimes are significant against red noise") {
-  std::vector<char> consecutive;
-  const arma::mat pcs = planted_regime_pcs(600, consecutive);
-  RegimeCountOptions o;
-  o.k_min = 2;
-  o.k_max = 5;
-  o.runs = 10;
-  o.surrogates = 10;
-  o.threads = 1;
-  const auto caller = std::this_thread::get_id();
-  int calls = 0, last = 0;
-  bool from_caller = true;
-  const auto table = regime_count_table(pcs, consecutive, o, [&](int done, int total) {
-    ++calls;
-    last = done;
-    from_caller = from_caller && std::this_thread::get_id() == caller && total == 44;
-  });
-  REQUIRE(table.size() == 4);
-  CHECK(table[1].k == 3);
-  CHECK(table[1].index > 0.99);
-  CHECK(table[1].significant);
-  CHECK_FALSE(table[0].significant);  // k = 2 merges a different pair each run
-  CHECK(choose_regime_count(table) == 3);
-  CHECK(calls == 44);  // 4 values of k x (data + 10 surrogates)
-  CHECK(last == 44);
-  CHECK(from_caller);
-
-  o.threads = 2;
-  bool two_from_caller = true;
-  const auto table2 = regime_count_table(pcs, consecutive, o, [&](int, int) {
-    two_from_caller = two_from_caller && std::this_thread::get_id() == caller;
-  });
-  CHECK(two_from_caller);
-  for (std::size_t i = 0; i < table.size(); ++i) {
-    CHECK(table2[i].index == table[i].index);
-    CHECK(table2[i].surrogate_level == table[i].surrogate_level);
-    CHECK(table2[i].best_run == table[i].best_run);
-  }
-}
-
-TEST_CASE("choosing k: the largest significant index or an error listing the table") {
-  std::vector<RegimeCountRow> table = {
-      {2, 0.99, 0.995, false, 0}, {3, 0.97, 0.96, true, 1}, {4, 0.95, 0.85, true, 2}};
-  CHECK(choose_regime_count(table) == 3);
-  table[1].significant = false;
-  CHECK(choose_regime_count(table) == 4);
-  table[2].significant = false;
-  try {
-    choose_regime_count(table);
-    FAIL("expected NumericalError");
-  } catch (const NumericalError& e) {
-    CHECK(std::string(e.what()).find("k = 3: index 0.9700") != std::string::npos);
-  }
-}
 
 TEST_CASE("red-noise surrogate shape and seed") {
   std::vector<char> consecutive;

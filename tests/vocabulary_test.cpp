@@ -91,16 +91,38 @@ TEST_CASE("regime JSON round trip and the keys of models written before unificat
 }
 
 TEST_CASE("k table JSON round trip and the former key index") {
-  const std::vector<RegimeCountEntry> t = {{3, 0.91, 0.85, true}, {4, 0.80, 0.84, false}};
-  const nlohmann::json j = k_table_json(t);
+  RegimeCountEntry a;
+  a.k = 3;
+  a.index = 0.91;
+  a.index_spread = 0.004;
+  a.variance_ratio = 1.7;
+  a.surrogate_index = {0.8, 0.85};
+  a.surrogate_ratio = {1.1, 1.2};
+  a.surrogate_level = 0.85;
+  a.p_index = a.p_ratio = 1.0 / 3.0;
+  a.holm_level = 0.05;
+  a.significant = true;
+  RegimeCountEntry b = a;
+  b.k = 4;
+  b.stopped_early = true;
+  b.significant = false;
+  const nlohmann::json j = k_table_json({a, b});
   CHECK(j[0]["classifiability"].get<double>() == 0.91);
+  CHECK(j[0]["surrogates"].get<int>() == 2);
+  CHECK(j[0]["surrogate_classifiability"][1].get<double>() == doctest::Approx(0.85).epsilon(1e-7));
   CHECK_FALSE(j[1]["significant"].get<bool>());
   const auto back = k_table_from_json(j);
   REQUIRE(back.size() == 2);
-  CHECK(back[1].surrogate_level == 0.84);
+  CHECK(back[1].surrogate_level == 0.85);
+  CHECK(back[1].stopped_early);
+  CHECK(back[0].p_ratio == doctest::Approx(1.0 / 3.0));
+  CHECK(back[0].surrogate_ratio.size() == 2);
+  // A row of a model written before the p-values: the rest unknown (NaN).
   const auto old = k_table_from_json(nlohmann::json::array(
       {{{"k", 5}, {"index", 0.77}, {"surrogate_level", 0.7}, {"significant", true}}}));
   CHECK(old[0].index == 0.77);
+  CHECK(std::isnan(old[0].p_index));
+  CHECK(old[0].surrogates() == 0);
 }
 
 TEST_CASE("transition matrix JSON carries its states and nulls") {

@@ -164,6 +164,7 @@ void put_global_attributes(nc::File& f, const RegimeModel& m) {
   for (const auto& r : m.regimes) regimes.push_back(regime_json(r));
   f.put_att(NC_GLOBAL, "regimes", regimes.dump());
   f.put_att(NC_GLOBAL, "regime_count_table", k_table_json(m.k_table).dump());
+  if (!m.k_reason.empty()) f.put_att(NC_GLOBAL, "regime_count_reason", m.k_reason);
   f.put_att(NC_GLOBAL, "config", m.config.dump());
   f.put_att(NC_GLOBAL, "provenance", m.provenance.dump());
 }
@@ -222,6 +223,7 @@ RegimeModel read_regime_model(const std::string& path) {
   m.total_variance = att_num(f, "total_variance");
   m.inertia = att_num(f, "inertia");
   m.k_automatic = att_num(f, "k_automatic") != 0;
+  m.k_reason = f.text_att(NC_GLOBAL, "regime_count_reason").value_or("");  // older models have none
   try {
     m.config = nlohmann::json::parse(att_text(f, "config"));
     m.provenance = nlohmann::json::parse(att_text(f, "provenance"));

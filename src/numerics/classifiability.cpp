@@ -2,40 +2,16 @@
 
 #include <algorithm>
 #include <cmath>
-#include <cstdio>
-#include <memory>
 #include <string>
 
 #include "isohypse/numerics/eof.hpp"
 #include "isohypse/base/error.hpp"
-#include "isohypse/numerics/kmeans.hpp"
-#include "base/parallel.hpp"
 #include "base/random.hpp"
 
 namespace isohypse {
 namespace {
 
 using arma::uword;
-
-// numpy.quantile's default (linear interpolation between order statistics).
-double quantile(std::vector<double> v, double q) {
-  std::sort(v.begin(), v.end());
-  const double pos = q * static_cast<double>(v.size() - 1);
-  const auto lo = static_cast<std::size_t>(std::floor(pos));
-  const std::size_t hi = std::min(lo + 1, v.size() - 1);
-  return v[lo] + (pos - static_cast<double>(lo)) * (v[hi] - v[lo]);
-}
-
-std::string format_table(const std::vector<RegimeCountRow>& table) {
-  std::string s;
-  char line[160];
-  for (const auto& r : table) {
-    std::snprintf(line, sizeof line, "\n  k = %d: index %.4f, surrogate level %.4f%s", r.k, r.index,
-                  r.surrogate_level, r.significant ? " (significant)" : "");
-    s += line;
-  }
-  return s;
-}
 
 // The columns of P scaled to unit length; NumericalError for a zero column
 // (its anomaly correlation is undefined).
@@ -67,6 +43,21 @@ double similarity_of_unit(const arma::mat& P, const arma::mat& Q) {
     worst = std::min(worst, best);
   }
   return worst;
+}
+
+// The jackknife standard error of the index: run i left out removes its row
+// and its column from the sum of the pairs.
+double jackknife_spread(const arma::mat& similarity, double total) {
+  const uword n = similarity.n_rows;
+  if (n < 3) return 0.0;
+  const arma::vec rows = arma::sum(similarity, 1) - 1.0;
+  const arma::rowvec cols = arma::sum(similarity, 0) - 1.0;
+  arma::vec left_out(n);
+  const double pairs = static_cast<double>((n - 1) * (n - 2));
+  for (uword i = 0; i < n; ++i) left_out(i) = (total - rows(i) - cols(i)) / pairs;
+  const double mean = arma::mean(left_out);
+  const double nd = static_cast<double>(n);
+  return std::sqrt((nd - 1.0) / nd * arma::accu(arma::square(left_out - mean)));
 }
 
 }  // namespace
@@ -109,8 +100,10 @@ ClassifiabilityResult classifiability(const std::vector<arma::mat>& sets) {
     for (std::size_t q = 0; q < n; ++q)
       if (m != q) r.similarity(m, q) = similarity_of_unit(unit[m], unit[q]);
   const arma::vec row_sums = arma::sum(r.similarity, 1) - 1.0;  // without the diagonal
-  r.index = arma::accu(row_sums) / static_cast<double>(n * (n - 1));
+  const double total = arma::accu(row_sums);
+  r.index = total / static_cast<double>(n * (n - 1));
   r.best = static_cast<int>(row_sums.index_max());  // first maximum
+  r.spread = jackknife_spread(r.similarity, total);
   return r;
 }
 
@@ -134,105 +127,6 @@ arma::mat red_noise_surrogate(const arma::mat& pcs, const std::vector<char>& con
     }
   }
   return out;
-}
-
-namespace {
-
-// Data set 0 is the data, 1..S the surrogates, each made once, in float
-// and with one day per row, as kmeans_quick takes them.
-std::vector<arma::fmat> float_data_sets(const arma::mat& pcs, const std::vector<char>& consecutive,
-                                        const RegimeCountOptions& opt) {
-  std::vector<arma::fmat> sets(static_cast<std::size_t>(opt.surrogates) + 1);
-  sets[0] = arma::conv_to<arma::fmat>::from(pcs);
-  for (std::size_t s = 1; s < sets.size(); ++s)
-    sets[s] = arma::conv_to<arma::fmat>::from(
-        red_noise_surrogate(pcs, consecutive, detail::derive_seed(opt.seed, {1, s})));
-  return sets;
-}
-
-}  // namespace
-
-std::vector<RegimeCountRow> regime_count_table(const arma::mat& pcs,
-                                               const std::vector<char>& consecutive,
-                                               const RegimeCountOptions& opt,
-                                               const std::function<void(int, int)>& progress) {
-  const std::string who = "regime count (classifiability)";
-  if (opt.k_min < 2 || opt.k_max < opt.k_min || static_cast<uword>(opt.k_max) > pcs.n_rows)
-    throw InputError(who + ": needs 2 <= k_min <= k_max <= " + std::to_string(pcs.n_rows) +
-                     " days, found k_min = " + std::to_string(opt.k_min) +
-                     ", k_max = " + std::to_string(opt.k_max));
-  if (opt.runs < 2 || opt.surrogates < 1 || opt.restarts_per_run < 1 ||
-      !(opt.level > 0.0 && opt.level < 1.0))
-    throw InputError(who + ": needs runs >= 2, surrogates >= 1, restarts_per_run >= 1 and "
-                     "0 < level < 1, found " + std::to_string(opt.runs) + ", " +
-                     std::to_string(opt.surrogates) + ", " + std::to_string(opt.restarts_per_run) +
-                     " and " + std::to_string(opt.level));
-  if (consecutive.size() != pcs.n_rows)
-    throw InternalError(who + ": " + std::to_string(pcs.n_rows) + " days but " +
-                     std::to_string(consecutive.size()) + " consecutive-day flags");
-
-  const std::vector<arma::fmat> sets = float_data_sets(pcs, consecutive, opt);
-  const std::size_t n_sets = sets.size();
-
-  const std::size_t n_k = static_cast<std::size_t>(opt.k_max - opt.k_min + 1);
-  std::vector<ClassifiabilityResult> results(n_k * n_sets);
-  detail::StatePool<QuickKMeans> buffers([] { return std::make_unique<QuickKMeans>(); });
-  auto unit = [&](std::size_t u) {
-    const std::size_t ki = u / n_sets, s = u % n_sets;
-    const int k = opt.k_min + static_cast<int>(ki);
-    auto state = buffers.lease();
-    std::vector<arma::mat> centroid_sets(static_cast<std::size_t>(opt.runs));
-    for (std::size_t run = 0; run < centroid_sets.size(); ++run) {
-      QuickKMeansOptions ko;
-      ko.k = k;
-      ko.restarts = opt.restarts_per_run;
-      ko.relative_inertia_change = kClassifiabilityInertiaChange;
-      ko.seed = detail::derive_seed(opt.seed, {2, static_cast<std::uint64_t>(k), s, run});
-      kmeans_quick(sets[s], ko, *state);
-      centroid_sets[run] = state->centroids;
-    }
-    results[u] = classifiability(centroid_sets);
-  };
-  std::function<void(std::size_t, std::size_t)> report;
-  if (progress)
-    report = [&](std::size_t done, std::size_t total) {
-      progress(static_cast<int>(done), static_cast<int>(total));
-    };
-  detail::parallel_for(results.size(), opt.threads, unit, report);
-
-  std::vector<RegimeCountRow> table(n_k);
-  for (std::size_t ki = 0; ki < n_k; ++ki) {
-    std::vector<double> surrogate(n_sets - 1);
-    for (std::size_t s = 1; s < n_sets; ++s) surrogate[s - 1] = results[ki * n_sets + s].index;
-    RegimeCountRow& row = table[ki];
-    row.k = opt.k_min + static_cast<int>(ki);
-    row.index = results[ki * n_sets].index;
-    row.best_run = results[ki * n_sets].best;
-    row.surrogate_level = quantile(surrogate, opt.level);
-    row.significant = row.index > row.surrogate_level + kSignificanceMargin;
-  }
-  return table;
-}
-
-int choose_regime_count(const std::vector<RegimeCountRow>& table) {
-  const RegimeCountRow* best = nullptr;
-  for (const auto& r : table)
-    if (r.significant && (!best || r.index > best->index))
-      best = &r;
-  // Indices that differ by less than kIndexTie cannot be ranked with a few
-  // tens of runs: among those, the k that stands farthest above red noise.
-  if (best) {
-    const double top = best->index;
-    for (const auto& r : table)
-      if (r.significant && r.index >= top - kIndexTie &&
-          r.index - r.surrogate_level > best->index - best->surrogate_level)
-        best = &r;
-  }
-  if (!best)
-    throw NumericalError("choosing the number of regimes: no k in the range is significant (the "
-                         "data's classifiability never exceeds the red-noise surrogates' level); "
-                         "set k explicitly. Table:" + format_table(table));
-  return best->k;
 }
 
 }  // namespace isohypse

@@ -42,20 +42,63 @@ RegimeInfo regime_from_json(const nlohmann::json& j) {
 }
 
 nlohmann::json k_table_json(const std::vector<RegimeCountEntry>& table) {
+  // Surrogate values in float precision: 7 digits say all they can, and
+  // the table stays a few kilobytes in the model's attribute.
+  auto floats = [](const std::vector<double>& v) {
+    nlohmann::json a = nlohmann::json::array();
+    for (double x : v) a.push_back(number_or_null(static_cast<float>(x)));
+    return a;
+  };
   nlohmann::json rows = nlohmann::json::array();
   for (const auto& e : table)
     rows.push_back({{"k", e.k},
                     {"classifiability", e.index},
-                    {"surrogate_level", e.surrogate_level},
+                    {"classifiability_spread", number_or_null(e.index_spread)},
+                    {"variance_ratio", number_or_null(e.variance_ratio)},
+                    {"surrogates", e.surrogates()},
+                    {"surrogate_level", number_or_null(e.surrogate_level)},
+                    {"surrogate_classifiability", floats(e.surrogate_index)},
+                    {"surrogate_variance_ratio", floats(e.surrogate_ratio)},
+                    {"p_classifiability", number_or_null(e.p_index)},
+                    {"p_variance_ratio", number_or_null(e.p_ratio)},
+                    {"gap", number_or_null(e.gap)},
+                    {"gap_spread", number_or_null(e.gap_spread)},
+                    {"stopped_early", e.stopped_early},
+                    {"holm_level", number_or_null(e.holm_level)},
                     {"significant", e.significant}});
   return rows;
 }
 
 std::vector<RegimeCountEntry> k_table_from_json(const nlohmann::json& j) {
+  const double nan = arma::datum::nan;
+  auto number = [&](const nlohmann::json& e, const char* key) {
+    return e.contains(key) && e.at(key).is_number() ? e.at(key).get<double>() : nan;
+  };
+  auto numbers = [&](const nlohmann::json& e, const char* key) {
+    std::vector<double> v;
+    if (e.contains(key))
+      for (const auto& x : e.at(key)) v.push_back(x.is_number() ? x.get<double>() : nan);
+    return v;
+  };
   std::vector<RegimeCountEntry> table;
-  for (const auto& e : j)
-    table.push_back({e.at("k"), e.contains("classifiability") ? e.at("classifiability") : e.at("index"),
-                     e.at("surrogate_level"), e.at("significant")});
+  for (const auto& e : j) {
+    RegimeCountEntry r;
+    r.k = e.at("k");
+    r.index = e.contains("classifiability") ? e.at("classifiability") : e.at("index");
+    r.index_spread = number(e, "classifiability_spread");
+    r.variance_ratio = number(e, "variance_ratio");
+    r.surrogate_level = number(e, "surrogate_level");
+    r.surrogate_index = numbers(e, "surrogate_classifiability");
+    r.surrogate_ratio = numbers(e, "surrogate_variance_ratio");
+    r.p_index = number(e, "p_classifiability");
+    r.p_ratio = number(e, "p_variance_ratio");
+    r.gap = number(e, "gap");
+    r.gap_spread = number(e, "gap_spread");
+    r.stopped_early = e.value("stopped_early", false);
+    r.holm_level = number(e, "holm_level");
+    r.significant = e.at("significant");
+    table.push_back(std::move(r));
+  }
   return table;
 }
 

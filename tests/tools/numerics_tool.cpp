@@ -17,7 +17,8 @@
 //       prints labels, centroids (k x dims), inertia, iterations.
 //   numerics_tool surrogate PCS FLAGS [--seed S]      prints the surrogate (n x m)
 //   numerics_tool ari LABELS_A LABELS_B                prints the adjusted Rand index
-//   numerics_tool regime-table PCS FLAGS [--k-min --k-max --runs --surrogates --threads]
+//   numerics_tool regime-table PCS FLAGS [--k-min --k-max --runs --surrogates --level --stop-early yes/no --threads]
+//   numerics_tool holm ROWS.json [--level L]  (rows: k, index, spread, p_index, p_ratio; the verdicts and the choice of k)
 //       prints the table and the wall time (seconds).
 #include <chrono>
 #include <cstdio>
@@ -31,6 +32,8 @@
 #include <nlohmann/json.hpp>
 
 #include "isohypse/numerics/classifiability.hpp"
+#include "isohypse/numerics/regime_model.hpp"
+#include "isohypse/numerics/regime_significance.hpp"
 #include "isohypse/numerics/eof.hpp"
 #include "isohypse/base/error.hpp"
 #include "isohypse/numerics/kmeans.hpp"
@@ -180,6 +183,8 @@ json run(const std::string& command, const Args& a) {
     o.k_max = std::stoi(a.get("k-max", "8"));
     o.runs = std::stoi(a.get("runs", "30"));
     o.surrogates = std::stoi(a.get("surrogates", "30"));
+    o.level = std::stod(a.get("level", "0.9"));
+    o.stop_early = a.get("stop-early", "yes") == "yes";
     o.threads = std::stoi(a.get("threads", "0"));
     const arma::mat pcs = read_matrix(a.positional[0]);
     const auto flags = read_flags(a.positional[1]);
@@ -187,14 +192,32 @@ json run(const std::string& command, const Args& a) {
     const auto table = isohypse::regime_count_table(pcs, flags, o, {});
     const double seconds =
         std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
-    json rows = json::array();
-    for (const auto& r : table)
-      rows.push_back({{"k", r.k}, {"index", r.index}, {"surrogate_level", r.surrogate_level},
-                      {"significant", r.significant}, {"best_run", r.best_run}});
-    return {{"table", rows}, {"seconds", seconds}};
+    json rows = isohypse::k_table_json(table);
+    const auto choice = isohypse::choose_regime_count(table);
+    return {{"table", rows}, {"seconds", seconds}, {"k", choice.k}, {"reason", choice.reason}};
+  }
+  if (command == "holm") {  // p-values in, Holm's verdict and the choice out
+    need(a, 1, "holm ROWS.json [--level L]: rows of k, index, spread, p_index, p_ratio");
+    std::ifstream in(a.positional[0]);
+    const json rows_in = json::parse(in);
+    std::vector<isohypse::RegimeCountRow> table;
+    for (const auto& r : rows_in) {
+      isohypse::RegimeCountRow row;
+      row.k = r.at("k");
+      row.index = r.at("index");
+      row.index_spread = r.at("spread");
+      row.p_index = r.at("p_index");
+      row.p_ratio = r.at("p_ratio");
+      table.push_back(row);
+    }
+    isohypse::apply_holm(table, std::stod(a.get("level", "0.9")));
+    json out = json::array();
+    for (const auto& r : table) out.push_back({{"k", r.k}, {"holm_level", r.holm_level}, {"significant", r.significant}});
+    const auto choice = isohypse::choose_regime_count(table);
+    return {{"rows", out}, {"k", choice.k}, {"reason", choice.reason}};
   }
   throw InputError("numerics_tool: unknown command '" + command +
-                   "' (eof, kmeans, kmeans-from, surrogate, ari, regime-table)");
+                   "' (eof, kmeans, kmeans-from, surrogate, ari, regime-table, holm)");
 }
 
 }  // namespace

@@ -1,4 +1,5 @@
-// The classifiability index and the choice of the number of regimes.
+// The classifiability index of a set of k-means partitions, and red-noise
+// surrogates to compare it with (the choice of k: regime_significance.hpp).
 //
 // Michelangeli, Vautard & Legras (1995), "Weather regimes: recurrence and
 // quasi stationarity", J. Atmos. Sci. 52, 1237-1256 (equations from memory):
@@ -11,8 +12,7 @@
 // finds the same centroids); the best partition is the one with the largest
 // sum of A against the others. The index is compared with that of red-noise
 // surrogates (each principal component replaced by an independent AR(1)
-// process with its lag-1 autocorrelation and variance); k is significant
-// where the data's index exceeds the surrogates' `level` quantile.
+// process with its lag-1 autocorrelation and variance).
 //
 // Orientation: a centroid set is dims x k (one centroid per column, as
 // KMeansResult::centroids); pcs is n_time x n_pc (one day per ROW, as
@@ -21,7 +21,6 @@
 
 #include <armadillo>
 #include <cstdint>
-#include <functional>
 #include <vector>
 
 #include "isohypse/base/vocabulary.hpp"
@@ -38,11 +37,17 @@ double partition_similarity(const arma::mat& P, const arma::mat& Q);
 
 struct ClassifiabilityResult {
   double index = 0.0;   // mean of A over ordered pairs m != n
+  // The index's jackknife standard error over the runs (Efron & Tibshirani
+  // 1993, An Introduction to the Bootstrap, eq. 11.5): the spread of the
+  // index recomputed with each run left out, sqrt((N-1)/N sum (I_(i) -
+  // mean)^2). It measures how much the index depends on the particular runs
+  // drawn; 0 when every run finds the same centroids, and 0 for N = 2.
+  double spread = 0.0;
   int best = 0;         // run with the largest sum of A against the others (ties: lowest)
   arma::mat similarity; // runs x runs, (m, n) = A(P_m, P_n); diagonal 1
 };
 
-// Needs at least two centroid sets of equal dims (InputError otherwise).
+// Needs at least two centroid sets of equal dims (InternalError otherwise).
 ClassifiabilityResult classifiability(const std::vector<arma::mat>& centroid_sets);
 
 // Red-noise surrogate of pcs (n_time x n_pc): every column replaced by an
@@ -53,62 +58,5 @@ ClassifiabilityResult classifiability(const std::vector<arma::mat>& centroid_set
 // Throws InputError when consecutive has the wrong length.
 arma::mat red_noise_surrogate(const arma::mat& pcs, const std::vector<char>& consecutive,
                               std::uint64_t seed);
-
-struct RegimeCountOptions {
-  int k_min = 2, k_max = 8;
-  int runs = 30;             // k-means runs per k (each a partition P_m)
-  int surrogates = 30;       // red-noise surrogates per k
-  double level = 0.9;        // quantile of the surrogate indices to beat
-  int restarts_per_run = 1;  // k-means++ restarts inside each run
-  std::uint64_t seed = kDefaultSeed;
-  int threads = 0;           // 0 = hardware
-};
-
-// An index must exceed the surrogates' level by more than this to count as
-// significant: with k = 2 both are often 1.000, and such a k cannot be told
-// apart from red noise.
-inline constexpr double kSignificanceMargin = 1e-3;
-// Indices closer than this are treated as tied when choosing k; the tie goes
-// to the k farthest above its surrogate level.
-inline constexpr double kIndexTie = 0.01;
-
-struct RegimeCountRow {
-  int k = 0;
-  double index = 0.0;            // classifiability of the data
-  double surrogate_level = 0.0;  // the `level` quantile of the surrogate indices
-                                 // (linear interpolation, numpy's default)
-  bool significant = false;      // index > surrogate_level
-  int best_run = 0;              // the data's best partition among the runs
-};
-
-// The quick k-means runs of the table stop when one Lloyd step lowers the
-// inertia by at most this fraction of it (see kmeans_quick): their centroids
-// are then within convergence noise of fully converged ones, which moves the
-// indices by far less than their sampling spread.
-inline constexpr double kClassifiabilityInertiaChange = 1e-6;
-
-// For each k in [k_min, k_max]: `runs` quick k-means runs (kmeans_quick, in
-// float, restarts_per_run k-means++ starts each, seeds derived from
-// (seed, k, run)) on the data and on each of `surrogates` red-noise
-// surrogates (the same surrogates for every k, made once). The result does
-// not depend on the thread count. progress(done, total), if set, is called from the
-// calling thread after each (k, data set) unit. Throws InputError for
-// options out of range (2 <= k_min <= k_max <= n_time, runs >= 2,
-// surrogates >= 1, 0 < level < 1, restarts_per_run >= 1).
-std::vector<RegimeCountRow> regime_count_table(const arma::mat& pcs,
-                                               const std::vector<char>& consecutive,
-                                               const RegimeCountOptions& opt,
-                                               const std::function<void(int, int)>& progress);
-
-// The k for `k: auto`: among significant rows the one with the largest index,
-// i.e. the most reproducible partition that beats red noise; indices within
-// kIndexTie of the largest count as tied, and the tie goes to the largest
-// margin over the surrogate level (then the smaller k). (The largest margin index - surrogate_level was tried and rejected:
-// the surrogates' level at small k scatters between 0.86 and 1.0 from one
-// sample to the next, so the margin favoured large k with mediocre indices
-// even for data with three planted regimes of index 1.) Throws
-// NumericalError listing the table when no k is significant (the caller may
-// fall back to a fixed k).
-int choose_regime_count(const std::vector<RegimeCountRow>& table);
 
 }  // namespace isohypse

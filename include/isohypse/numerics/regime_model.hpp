@@ -11,6 +11,7 @@
 #include "isohypse/base/calendar.hpp"
 #include "isohypse/numerics/climatology.hpp"
 #include "isohypse/base/field.hpp"
+#include "isohypse/numerics/regime_significance.hpp"
 
 namespace isohypse {
 
@@ -25,11 +26,8 @@ struct RegimeInfo {
   double residence_days = 0; // 1/(1 - p_ii)
 };
 
-struct RegimeCountEntry {
-  int k = 0;
-  double index = 0, surrogate_level = 0;
-  bool significant = false;
-};
+// A row of the table for choosing k (regime_significance.hpp).
+using RegimeCountEntry = RegimeCountRow;
 
 struct RegimeModel {
   int format_version = kRegimeModelFormatVersion;
@@ -51,6 +49,7 @@ struct RegimeModel {
   double no_regime_threshold = 0.25; // anomaly correlation with the nearest centroid
   std::vector<RegimeCountEntry> k_table;
   bool k_automatic = false;
+  std::string k_reason;              // why this k, in words (choose_regime_count; empty in older models)
   // The observed sequence: every day of the record.
   std::vector<Date> dates;
   std::vector<int> labels;           // 0..k-1, or -1 for no regime
@@ -84,9 +83,13 @@ void assign_regimes(const arma::mat& pcs, const arma::mat& centroids, double thr
 nlohmann::json regime_json(const RegimeInfo& regime);
 RegimeInfo regime_from_json(const nlohmann::json& j);
 
-// The JSON of the table for choosing k: rows of k, classifiability,
-// surrogate_level, significant. k_table_from_json also reads the key
-// "index" of the service's former answer.
+// The JSON of the table for choosing k, a row per k: k, classifiability,
+// classifiability_spread, variance_ratio, surrogates (the number drawn),
+// surrogate_level, surrogate_classifiability and surrogate_variance_ratio
+// (one value per surrogate, in float precision), p_classifiability,
+// p_variance_ratio, gap, gap_spread, stopped_early, holm_level, significant.
+// k_table_from_json also reads the rows of older models (k, classifiability
+// or index, surrogate_level, significant; the rest NaN or empty).
 nlohmann::json k_table_json(const std::vector<RegimeCountEntry>& table);
 std::vector<RegimeCountEntry> k_table_from_json(const nlohmann::json& j);
 

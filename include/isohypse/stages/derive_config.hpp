@@ -33,9 +33,14 @@ struct DeriveConfig {
   std::optional<int> k;                     // empty: automatic from the classifiability table
   int k_min = 2, k_max = 8;
   int restarts = 100;                       // k-means++ restarts of the final partition
-  int classifiability_runs = 30;            // partitions per k for the index
-  int surrogates = 30;                      // red-noise surrogates per k
-  double significance = 0.9;                // surrogate quantile to beat
+  int classifiability_runs = 30;            // partitions per k for the index (>= 3)
+  // Red-noise surrogates per k (at most: a k that can no longer pass stops
+  // early). With k automatic at least minimum_surrogates(k range,
+  // significance): 69 for k = 2..8 at 0.9.
+  int surrogates = 100;
+  // 1 - the family-wise error rate of the test over all k (Holm's
+  // correction): on red noise some k passes with probability <= 0.1.
+  double significance = 0.9;
   double no_regime_threshold = 0.25;        // anomaly correlation with the nearest centroid
   std::vector<std::string> names;           // optional regime names, in the model's order
   // The one seed of every random choice: k-means restarts, the

@@ -62,7 +62,8 @@ RegimeModel model_from(const Record& rec, Climatology clim, const arma::vec& wei
   m.inertia = km.inertia;
   m.no_regime_threshold = cfg.no_regime_threshold;
   m.k_automatic = !cfg.k;
-  for (const auto& r : count.table) m.k_table.push_back({r.k, r.index, r.surrogate_level, r.significant});
+  m.k_table = count.table;
+  m.k_reason = count.reason;
   m.dates = rec.field.dates;
   m.config = cfg.to_json();
   return m;

@@ -5,6 +5,7 @@
 
 #include "isohypse/base/error.hpp"
 #include "isohypse/base/json_config.hpp"
+#include "isohypse/numerics/regime_significance.hpp"
 
 namespace isohypse {
 
@@ -125,9 +126,15 @@ void DeriveConfig::validate() const {
   if (k_min < 2 || k_max < k_min || k_max > 30)
     bad("k range " + std::to_string(k_min) + ".." + std::to_string(k_max) + " (need 2 <= k_min <= k_max <= 30)");
   if (restarts < 1) bad("restarts must be at least 1");
-  if (classifiability_runs < 2) bad("classifiability_runs must be at least 2");
+  if (classifiability_runs < 3) bad("classifiability_runs must be at least 3 (the index's spread leaves one out)");
   if (surrogates < 1) bad("surrogates must be at least 1");
   if (!(significance > 0 && significance < 1)) bad("significance must lie between 0 and 1");
+  const int needed = minimum_surrogates(k_max - k_min + 1, significance);
+  if (!k && surrogates < needed)
+    bad("surrogates = " + std::to_string(surrogates) + " is too few for k = auto: testing " +
+        std::to_string(k_max - k_min + 1) + " values of k at significance " + json(significance).dump() +
+        " needs at least " + std::to_string(needed) +
+        " (the smallest p-value is 1/(surrogates + 1)); use the default 100 or fix k");
   if (!(no_regime_threshold >= -1 && no_regime_threshold <= 1)) bad("no_regime_threshold must lie in -1..1");
   if (eof.count < 0) bad("eof.count must be 0 (by variance) or positive");
   if (!(eof.variance_fraction > 0 && eof.variance_fraction <= 1)) bad("eof.variance_fraction must lie in (0, 1]");

@@ -1,5 +1,6 @@
 #include "isohypse/stages/derive_summary.hpp"
 
+#include <cmath>
 #include <cstdio>
 #include <sstream>
 
@@ -9,7 +10,42 @@ namespace {
 
 using json = nlohmann::json;
 
+// A p-value with 3 decimals, ">=" before it when it is a lower bound, "-"
+// when unknown (older models).
+std::string p_text(double p, bool lower_bound) {
+  if (!std::isfinite(p)) return "-";
+  char s[32];
+  std::snprintf(s, sizeof s, "%s%.3f", lower_bound ? ">=" : "", p);
+  return s;
+}
+
+std::string number_text(double v, const char* format) {
+  if (!std::isfinite(v)) return "-";
+  char s[32];
+  std::snprintf(s, sizeof s, format, v);
+  return s;
+}
+
 }  // namespace
+
+std::string regime_count_text(const std::vector<RegimeCountRow>& table, int k_used) {
+  std::ostringstream o;
+  o << "  k  classifiability (spread)  surrogate level  variance ratio  surrogates  p index  p ratio"
+       "  Holm level   gap (spread)  significant\n";
+  char line[256];
+  for (const auto& e : table) {
+    const std::string drawn = std::to_string(e.surrogates()) + (e.stopped_early ? " stopped" : "");
+    std::snprintf(line, sizeof line, "%3d  %15.3f (%s)  %15s  %14s  %-10s  %7s  %7s  %10s  %6s (%s)  %s%s\n", e.k,
+                  e.index, number_text(e.index_spread, "%.3f").c_str(), number_text(e.surrogate_level, "%.3f").c_str(),
+                  number_text(e.variance_ratio, "%.3f").c_str(), drawn.c_str(),
+                  p_text(e.p_index, e.stopped_early).c_str(), p_text(e.p_ratio, e.stopped_early).c_str(),
+                  number_text(e.holm_level, "%.4f").c_str(), number_text(e.gap, "%.3f").c_str(),
+                  number_text(e.gap_spread, "%.3f").c_str(), e.significant ? "yes" : "no",
+                  e.k == k_used ? "   <- used" : "");
+    o << line;
+  }
+  return o.str();
+}
 
 json model_summary(const RegimeModel& m) {
   json j;
@@ -27,8 +63,8 @@ json model_summary(const RegimeModel& m) {
                     {"explained_error", m.north_error(i) / m.total_variance}});
   }
   j["eofs"] = eofs;
-  json kt = k_table_json(m.k_table);
-  j["regime_count_table"] = kt;
+  j["regime_count_table"] = k_table_json(m.k_table);
+  j["regime_count_reason"] = m.k_reason;
   j["k"] = m.k();
   j["k_automatic"] = m.k_automatic;
   json regs = json::array();
@@ -65,13 +101,10 @@ std::string summary_text(const RegimeModel& m) {
                   100 * m.north_error(i) / m.total_variance, m.effective_n(i));
     o << line;
   }
-  o << "\n  k  classifiability  surrogate " << "level  significant\n";
-  for (const auto& e : m.k_table) {
-    std::snprintf(line, sizeof line, "%3d  %15.3f  %15.3f  %s%s\n", e.k, e.index, e.surrogate_level,
-                  e.significant ? "yes" : "no", e.k == m.k() ? "   <- used" : "");
-    o << line;
-  }
-  o << "\nk = " << m.k() << (m.k_automatic ? " (chosen from the table)" : " (as configured)") << "\n\n";
+  o << "\n" << regime_count_text(m.k_table, m.k());
+  o << "\nk = " << m.k() << (m.k_automatic ? " (chosen from the table)" : " (as configured)") << "\n";
+  if (!m.k_reason.empty()) o << m.k_reason << "\n";
+  o << "\n";
   o << "id   frequency  mean run  longest  episodes>=5d  residence  name\n";
   for (const auto& r : m.regimes) {
     std::snprintf(line, sizeof line, "%-4s %8.1f%%  %6.1f d  %5d d  %12d  %7.1f d  %s\n", r.id.c_str(),
