@@ -13,7 +13,8 @@ namespace isohypse {
 // As JSON (derive --summary FILE): format_version, domain, grid, season_months,
 // record, eofs (eigenvalue, explained and cumulative fractions, North error,
 // effective N), regime_count_table, k, k_automatic, regimes (regime_json),
-// no_regime_frequency (of in-season days), no_regime_threshold, transitions
+// no_regime_frequency (of in-season days), no_regime_threshold,
+// no_regime_correlation (the rule's name, regime_model.hpp), transitions
 // (transition_json over model_states) and provenance.
 nlohmann::json model_summary(const RegimeModel& model);
 // The same as text tables for a terminal.
