@@ -13,10 +13,13 @@ its record that have a planted label (truth/labels.csv, 0..N-1):
     pattern correlation of the planted pattern (truth/patterns.nc) with the
     model's pattern (the assignment of largest total correlation,
     scipy.optimize.linear_sum_assignment); no-regime days never agree;
+  - labelled right: of the days the model gives a regime, the share whose
+    regime is the planted one (what flagging the no-regime days buys);
   - ARI: the adjusted Rand index (Hubert & Arabie 1985, "Comparing
     partitions", J. Classification 2, 193-218; sklearn.metrics) of the
     model's labels, no regime as a class of its own, with the planted ones.
-Prints one row per model: rule, threshold, k, days, no regime, agreement, ARI.
+Prints one row per model: rule, threshold, k, days, no regime, agreement,
+labelled right, ARI.
 """
 import argparse
 import csv
@@ -73,7 +76,7 @@ def main():
     ap.add_argument("models", nargs="+")
     a = ap.parse_args()
     truth = planted_labels(a.truth)
-    print(f"{'model':40s} {'rule':26s} {'thr':>5s} {'k':>2s} {'days':>5s} {'no regime':>9s} {'agreement':>9s} {'ARI':>6s}")
+    print(f"{'model':40s} {'rule':26s} {'thr':>5s} {'k':>2s} {'days':>5s} {'no regime':>9s} {'agreement':>9s} {'labelled right':>14s} {'ARI':>6s}")
     for path in a.models:
         m = model_record(path)
         mapping, R = match(m, a.truth)
@@ -88,9 +91,10 @@ def main():
         want = np.array([mapping.get(p, -2) for p in planted])
         share_none = float(np.mean(ours < 0))
         agree = float(np.mean(ours == want))
+        right = float(np.mean((ours == want)[ours >= 0]))
         ari = adjusted_rand_score(planted, np.where(ours < 0, k, ours))
         print(f"{path[-40:]:40s} {m['rule']:26s} {m['threshold']:5.2f} {k:2d} {len(ours):5d} {share_none:9.1%} "
-              f"{agree:9.1%} {ari:6.3f}   matched pattern correlations "
+              f"{agree:9.1%} {right:14.1%} {ari:6.3f}   matched pattern correlations "
               f"{[round(float(R[p, q]), 2) for p, q in sorted(mapping.items())]}")
 
 
