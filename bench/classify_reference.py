@@ -19,7 +19,10 @@ The steps, from the published methods (../shared/METHODS.md §1, §4):
     projected on the EOFs: pc_j = sum_s (w_s x'_s - m_s) e_js;
   - nearest centroid by squared distance in component space; "no regime"
     where the uncentred correlation with that centroid is below the model's
-    threshold;
+    threshold: over the full weighted field, (pc . c) / (|w x' - m| |c|),
+    for format version 2 models (no_regime_correlation =
+    "full_field_area_weighted"), in EOF space, (pc . c) / (|pc| |c|), for
+    version 1 models;
   - lagged ensemble (Hoffman & Kalnay 1983, Tellus 35A, 100-118): every
     member of every initialisation pooled on its real-calendar valid day,
     p_k = sum_m w_m 1[label_m = k] / sum_m w_m with "no regime" a category.
@@ -69,6 +72,10 @@ class Model:
             self.centroids = np.asarray(ds["centroid"][:], float)  # (regime, eof)
             self.patterns = np.asarray(ds["pattern"][:], float)  # (regime, lat, lon)
             self.threshold = float(ds.no_regime_threshold)
+            version = int(np.ravel(ds.getncattr("isohypse_format_version"))[0])
+            self.rule = ds.getncattr("no_regime_correlation") if version >= 2 else "eof_space"
+            if self.rule not in ("full_field_area_weighted", "eof_space"):
+                raise ValueError(f"{path}: unknown no_regime_correlation {self.rule!r}")
             self.running_mean_days = int(ds.running_mean_days)
             self.harmonics = int(ds.climatology_harmonics)
             self.detrend = int(ds.climatology_detrend) != 0
@@ -94,12 +101,14 @@ class Model:
         correlations, and each day's margin from a different answer (relative
         gap between the two nearest squared distances, distance of the
         correlation from the threshold) so callers can set aside float ties."""
-        pcs = (anomalies * self.weight - self.eof_mean) @ self.eofs.T
+        y = anomalies * self.weight - self.eof_mean
+        pcs = y @ self.eofs.T
         d2 = ((pcs[:, None, :] - self.centroids[None, :, :]) ** 2).sum(axis=2)
         order = np.argsort(d2, axis=1)
         best = order[:, 0]
         c = self.centroids[best]
-        norm = np.linalg.norm(pcs, axis=1) * np.linalg.norm(c, axis=1)
+        day_norm = np.linalg.norm(y if self.rule == "full_field_area_weighted" else pcs, axis=1)
+        norm = day_norm * np.linalg.norm(c, axis=1)
         cor = np.where(norm > 0, (pcs * c).sum(axis=1) / np.where(norm > 0, norm, 1.0), 0.0)
         labels = np.where(cor >= self.threshold, best, self.k)
         rows = np.arange(len(best))

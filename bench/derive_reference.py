@@ -13,7 +13,9 @@ k-means++ start each, on the data and on 30 red-noise surrogates; k is
 significant where the index beats the surrogates' 90 % quantile, and the
 significant k with the largest index is chosen); final k-means with 100
 k-means++ starts; labels for every day by the nearest centroid, "no regime"
-(-1) below an anomaly correlation of 0.25. The random numbers differ from
+(-1) below an anomaly correlation of 0.25 taken over the full weighted field,
+(pc . c) / (|w x' - m| |c|) (issue 11); patterns: the composites of each
+regime's in-season days, no-regime days left out. The random numbers differ from
 isohypse's (fixed seeds of its own), so k and the partitions agree only as
 far as the data determine them.
 
@@ -184,26 +186,29 @@ def run(args):
     km = KMeans(n_clusters=k, n_init=RESTARTS, max_iter=MAX_ITER, tol=TOL, random_state=SEED).fit(pcs)
     lap("kmeans")
 
-    labels_season = km.labels_
-    patterns = np.stack([anom[season][labels_season == j].mean(axis=0) for j in range(k)])
-    all_pcs = (anom * w - mean) @ eofs.T
-    labels, corr = assign(all_pcs, km.cluster_centers_)
+    weighted = anom * w - mean
+    all_pcs = weighted @ eofs.T
+    field_norms = np.linalg.norm(weighted, axis=1)
+    del weighted
+    labels, corr = assign(all_pcs, km.cluster_centers_, field_norms)
+    patterns = np.stack([anom[season & (labels == j)].mean(axis=0) for j in range(k)])
     lap("labels")
 
     peak_kb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
     np.savez(args.out, explained=explained[:n_eof], n_eof=n_eof, k=k, k_table=json.dumps(table),
              patterns=patterns.reshape(k, nlat, nlon), labels=labels, correlation=corr, in_season=season,
-             pcs=pcs, eofs=eofs, mean=mean, weights=w, anom_season_days=np.where(season)[0],
+             pcs=pcs, eofs=eofs, mean=mean, weights=w, anom_season_days=np.where(season)[0], field_norms=field_norms,
              timings=json.dumps(timings), peak_kb=peak_kb)
     print(f"reference: k = {k}, {n_eof} EOFs ({explained[:n_eof].sum():.3f}), peak RSS {peak_kb / 1024:.0f} MiB",
           file=sys.stderr)
 
 
-def assign(pcs, centroids):
+def assign(pcs, centroids, field_norms):
+    """Nearest centroid; the full-field correlation (pc . c) / (|y| |c|), field_norms = |y| per day."""
     d = ((pcs[:, None, :] - centroids[None, :, :]) ** 2).sum(axis=2)
     best = d.argmin(axis=1)
     c = centroids[best]
-    corr = (pcs * c).sum(axis=1) / (np.linalg.norm(pcs, axis=1) * np.linalg.norm(c, axis=1))
+    corr = (pcs * c).sum(axis=1) / (field_norms * np.linalg.norm(c, axis=1))
     return np.where(corr >= NO_REGIME_THRESHOLD, best, -1), corr
 
 
@@ -242,9 +247,9 @@ def compare(args):
         km = KMeans(n_clusters=iso_k, n_init=RESTARTS, max_iter=MAX_ITER, tol=TOL, random_state=SEED).fit(ref["pcs"])
         # The composites are of unweighted anomalies; rebuild them from the weighted PCs' partition.
         anom_w = ref["pcs"] @ ref["eofs"] + ref["mean"]
-        ref_patterns = np.stack([(anom_w[km.labels_ == j] / ref["weights"]).mean(axis=0)
+        lab, _ = assign(ref["pcs"], km.cluster_centers_, ref["field_norms"][ref["anom_season_days"]])
+        ref_patterns = np.stack([(anom_w[lab == j] / ref["weights"]).mean(axis=0)
                                  for j in range(iso_k)]).reshape(iso_patterns.shape)
-        lab, _ = assign(ref["pcs"], km.cluster_centers_)
         ref_labels = np.full(n_days, -2)
         ref_labels[ref["anom_season_days"]] = lab
         note = f" (reference refitted at isohypse's k = {iso_k} for the comparison; patterns from retained EOFs)"

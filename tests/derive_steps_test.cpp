@@ -82,25 +82,48 @@ TEST_CASE("derive: the season's days and their consecutive flags") {
   CHECK(s.next[1] == 1);
 }
 
-TEST_CASE("derive: patterns are the mean anomaly of each regime's days and refuse a partition of other days") {
+TEST_CASE("derive: patterns are the mean anomaly of each regime's season days without no-regime days") {
   std::vector<Date> dates;
   for (int d = 1; d <= 12; ++d) dates.push_back(make_date(2001, 1, d, Calendar::Standard));
+  for (int d = 1; d <= 3; ++d) dates.push_back(make_date(2001, 2, d, Calendar::Standard));  // out of season
   const Season season = select_season(dates, {1});
   Field f;
   f.grid.lat = {40.0};
   f.grid.lon = {0.0, 10.0};
   f.dates = dates;
-  f.values.set_size(2, 12);
-  for (arma::uword t = 0; t < 12; ++t) {
+  f.values.set_size(2, 15);
+  for (arma::uword t = 0; t < 15; ++t) {
     f.values(0, t) = float(t);
     f.values(1, t) = -float(t);
   }
-  std::vector<int> labels(12, 0);
-  for (int t = 6; t < 12; ++t) labels[t] = 1;
+  std::vector<int> labels(15, 0);
+  for (int t = 6; t < 15; ++t) labels[t] = 1;
+  labels[5] = -1;  // no regime: in no composite
   const arma::mat p = regime_patterns(f, season, labels, 2);
-  CHECK(p(0, 0) == doctest::Approx(2.5));  // mean of 0..5
-  CHECK(p(1, 1) == doctest::Approx(-8.5)); // minus the mean of 6..11
-  CHECK_THROWS_AS(regime_patterns(f, season, std::vector<int>(11, 0), 2), InternalError);
+  CHECK(p(0, 0) == doctest::Approx(2.0));  // mean of 0..4 (day 5 has no regime)
+  CHECK(p(1, 1) == doctest::Approx(-8.5)); // minus the mean of 6..11 (February is out of season)
+  CHECK_THROWS_AS(regime_patterns(f, season, std::vector<int>(12, 0), 2), InternalError);
   labels[3] = 2;
   CHECK_THROWS_AS(regime_patterns(f, season, labels, 2), InternalError);
+  labels[3] = -2;
+  CHECK_THROWS_AS(regime_patterns(f, season, labels, 2), InternalError);
+}
+
+TEST_CASE("derive: regime statistics count only each regime's own days and no regime ends a run") {
+  std::vector<Date> dates;
+  for (int d = 1; d <= 10; ++d) dates.push_back(make_date(2001, 1, d, Calendar::Standard));
+  const Season season = select_season(dates, {1});
+  RegimeModel m;
+  m.centroids.zeros(1, 2);
+  m.labels = {0, 0, -1, 0, 1, 1, -1, -1, 1, 1};
+  regime_statistics(season, {"first", "second"}, m);
+  REQUIRE(m.regimes.size() == 2);
+  CHECK(m.regimes[0].frequency == doctest::Approx(3.0 / 10));
+  CHECK(m.regimes[0].mean_run == doctest::Approx(1.5));  // runs of 2 and 1: the no-regime day splits them
+  CHECK(m.regimes[0].longest_run == 2);
+  CHECK(m.regimes[1].frequency == doctest::Approx(4.0 / 10));
+  CHECK(m.regimes[1].mean_run == doctest::Approx(2.0));
+  CHECK(m.transition_counts(0, 2) == 1);  // R1 -> no regime
+  CHECK(m.transition_counts(2, 0) == 1);  // no regime -> R1
+  CHECK(m.transition_counts(2, 2) == 1);
 }

@@ -147,7 +147,9 @@ int define_variable(nc::File& f, const ModelVariable& v) {
 void put_global_attributes(nc::File& f, const RegimeModel& m) {
   f.put_att(NC_GLOBAL, "title", "isohypse regime model");
   f.put_att(NC_GLOBAL, "Conventions", "CF-1.10");
-  f.put_att(NC_GLOBAL, "isohypse_format_version", NC_INT, {double(m.format_version)});
+  // The current version whatever the model was read as: the file states its
+  // rule in no_regime_correlation, which a version 2 reader follows.
+  f.put_att(NC_GLOBAL, "isohypse_format_version", NC_INT, {double(kRegimeModelFormatVersion)});
   f.put_att(NC_GLOBAL, "domain", m.domain.to_string());
   f.put_att(NC_GLOBAL, "variable", m.variable);
   f.put_att(NC_GLOBAL, "calendar", calendar_name(m.calendar));
@@ -157,6 +159,7 @@ void put_global_attributes(nc::File& f, const RegimeModel& m) {
   f.put_att(NC_GLOBAL, "climatology_trend_origin", to_string(m.climatology.trend_origin));
   f.put_att(NC_GLOBAL, "running_mean_days", NC_INT, {double(m.running_mean_days)});
   f.put_att(NC_GLOBAL, "no_regime_threshold", NC_DOUBLE, {m.no_regime_threshold});
+  f.put_att(NC_GLOBAL, "no_regime_correlation", no_regime_rule_name(m.no_regime_rule));
   f.put_att(NC_GLOBAL, "total_variance", NC_DOUBLE, {m.total_variance});
   f.put_att(NC_GLOBAL, "inertia", NC_DOUBLE, {m.inertia});
   f.put_att(NC_GLOBAL, "k_automatic", NC_INT, {m.k_automatic ? 1.0 : 0.0});
@@ -167,6 +170,20 @@ void put_global_attributes(nc::File& f, const RegimeModel& m) {
   if (!m.k_reason.empty()) f.put_att(NC_GLOBAL, "regime_count_reason", m.k_reason);
   f.put_att(NC_GLOBAL, "config", m.config.dump());
   f.put_att(NC_GLOBAL, "provenance", m.provenance.dump());
+}
+
+// Version 1 models took the no-regime correlation in EOF space and say
+// nothing; they keep that rule, so their stored labels stay what their
+// guidance archives were made with (inspect and the summary say so).
+NoRegimeRule read_no_regime_rule(const nc::File& f, int format_version) {
+  if (format_version < 2) return NoRegimeRule::EofSpace;
+  const std::string name = att_text(f, "no_regime_correlation");
+  const auto rule = no_regime_rule_from_name(name);
+  if (!rule)
+    throw DataError(f.path() + ": no_regime_correlation is '" + name + "'; expected '" +
+                    no_regime_rule_name(NoRegimeRule::FullField) + "' or '" +
+                    no_regime_rule_name(NoRegimeRule::EofSpace) + "'");
+  return *rule;
 }
 
 }  // namespace
@@ -206,10 +223,11 @@ RegimeModel read_regime_model(const std::string& path) {
   if (!version || version->empty())
     throw DataError(path + ": not an isohypse regime model (no isohypse_format_version attribute)");
   m.format_version = static_cast<int>((*version)[0]);
-  if (m.format_version != kRegimeModelFormatVersion)
+  if (m.format_version < 1 || m.format_version > kRegimeModelFormatVersion)
     throw DataError(path + ": regime model format version " + std::to_string(m.format_version) +
-                    "; this isohypse reads version " + std::to_string(kRegimeModelFormatVersion) +
+                    "; this isohypse reads versions 1 to " + std::to_string(kRegimeModelFormatVersion) +
                     " (derive the model again with this version)");
+  m.no_regime_rule = read_no_regime_rule(f, m.format_version);
   m.domain = Domain::parse(att_text(f, "domain"), path + " domain");
   m.variable = att_text(f, "variable");
   m.calendar = parse_calendar(att_text(f, "calendar"));

@@ -121,25 +121,38 @@ void subtract_climatology(Field& h, const Climatology& clim) {
   h.units = "m (anomaly)";
 }
 
-namespace {
-
-template <class T>
-void running_mean_impl(arma::Mat<T>& v, const std::vector<Date>& dates, int days) {
-  if (days <= 1) return;
+std::vector<MeanWindow> running_mean_windows(const std::vector<Date>& dates, int days) {
+  const arma::uword nt = dates.size();
+  std::vector<MeanWindow> windows(nt);
+  if (days <= 1) {
+    for (arma::uword t = 0; t < nt; ++t) windows[t] = {t, t};
+    return windows;
+  }
   const std::vector<char> next = consecutive_flags(dates);
-  const int half_lo = (days - 1) / 2, half_hi = days / 2;
-  const arma::uword nt = v.n_cols, np = v.n_rows;
-  arma::Mat<T> out(np, nt, arma::fill::none);
-  std::vector<T> sum(np), cnt(np);
+  const arma::uword half_lo = (days - 1) / 2, half_hi = days / 2;
   arma::uword run_start = 0;
   for (arma::uword t = 0; t < nt; ++t) {
     if (!next[t]) run_start = t;
     arma::uword run_end = t;
     while (run_end + 1 < nt && next[run_end + 1] && run_end + 1 <= t + half_hi) ++run_end;
-    arma::uword lo = t >= run_start + half_lo ? t - half_lo : run_start;
+    windows[t] = {t >= run_start + half_lo ? t - half_lo : run_start, run_end};
+  }
+  return windows;
+}
+
+namespace {
+
+template <class T>
+void running_mean_impl(arma::Mat<T>& v, const std::vector<Date>& dates, int days) {
+  if (days <= 1) return;
+  const std::vector<MeanWindow> windows = running_mean_windows(dates, days);
+  const arma::uword nt = v.n_cols, np = v.n_rows;
+  arma::Mat<T> out(np, nt, arma::fill::none);
+  std::vector<T> sum(np), cnt(np);
+  for (arma::uword t = 0; t < nt; ++t) {
     std::fill(sum.begin(), sum.end(), T(0));
     std::fill(cnt.begin(), cnt.end(), T(0));
-    for (arma::uword s = lo; s <= run_end; ++s) {
+    for (arma::uword s = windows[t].lo; s <= windows[t].hi; ++s) {
       const T* col = v.colptr(s);
       for (arma::uword p = 0; p < np; ++p)
         if (!std::isnan(col[p])) {

@@ -125,11 +125,26 @@ std::vector<std::string> model_states(const RegimeModel& model) {
   return state_list(ids);
 }
 
-void assign_regimes(const arma::mat& pcs, const arma::mat& centroids, double threshold, std::vector<int>& labels,
-                    arma::vec& correlation) {
+const char* no_regime_rule_name(NoRegimeRule rule) {
+  return rule == NoRegimeRule::FullField ? "full_field_area_weighted" : "eof_space";
+}
+
+std::optional<NoRegimeRule> no_regime_rule_from_name(const std::string& name) {
+  for (NoRegimeRule r : {NoRegimeRule::FullField, NoRegimeRule::EofSpace})
+    if (name == no_regime_rule_name(r)) return r;
+  return std::nullopt;
+}
+
+void assign_regimes(const RegimeModel& model, const arma::mat& pcs, const arma::vec& field_norms,
+                    std::vector<int>& labels, arma::vec& correlation) {
+  const arma::mat& centroids = model.centroids;
+  const bool full_field = model.no_regime_rule == NoRegimeRule::FullField;
   if (pcs.n_cols != centroids.n_rows)
     throw InternalError("assign_regimes: " + std::to_string(pcs.n_cols) + " components per day but centroids have " +
                      std::to_string(centroids.n_rows));
+  if (full_field && field_norms.n_elem != pcs.n_rows)
+    throw InternalError("assign_regimes: " + std::to_string(field_norms.n_elem) + " field norms for " +
+                        std::to_string(pcs.n_rows) + " days");
   // Plain loops: no temporaries per day (classify labels thousands of member-days).
   const arma::uword n = pcs.n_rows, k = centroids.n_cols, ne = centroids.n_rows;
   labels.assign(n, -1);
@@ -157,10 +172,12 @@ void assign_regimes(const arma::mat& pcs, const arma::mat& centroids, double thr
     }
     double dot = 0;
     for (arma::uword e = 0; e < ne; ++e) dot += pcs(i, e) * centroids(e, bj);
-    const double xn = std::sqrt(xx);
+    // The pattern E c has norm |c| over the grid (E orthonormal), and y . E c
+    // = pc . c: only the day's own norm differs between the two rules.
+    const double xn = full_field ? field_norms(i) : std::sqrt(xx);
     const double c = (xn > 0 && cnorm[bj] > 0) ? dot / (xn * cnorm[bj]) : 0.0;
     correlation(i) = c;
-    labels[i] = c >= threshold ? static_cast<int>(bj) : -1;
+    labels[i] = c >= model.no_regime_threshold ? static_cast<int>(bj) : -1;
   }
 }
 

@@ -71,6 +71,7 @@ json model_summary(const RegimeModel& model) {
           {"calendar", calendar_name(model.calendar)},
           {"season_months", months},
           {"no_regime_threshold", model.no_regime_threshold},
+          {"no_regime_correlation", no_regime_rule_name(model.no_regime_rule)},
           {"eof_count", model.n_eof()},
           {"grid", {{"lat", std::vector<double>(model.grid.lat.begin(), model.grid.lat.end())},
                     {"lon", std::vector<double>(model.grid.lon.begin(), model.grid.lon.end())},

@@ -98,11 +98,18 @@ other_cal = good("fc_20251202_360.nc", init=(2025, 12, 2), calendar="360_day")
 expect("forecasts in the noleap and 360_day calendars", [base, other_cal], other_cal)
 
 # A regime model of another format version.
-future = os.path.join(tmp, "model_v2.nc")
+future = os.path.join(tmp, "model_v3.nc")
 shutil.copy(model_path, future)
 with netCDF4.Dataset(future, "a") as ds:
-    ds.setncattr("isohypse_format_version", np.int32(2))
-expect("regime model of format version 2", [base], future, model=future)
+    ds.setncattr("isohypse_format_version", np.int32(3))
+expect("regime model of format version 3", [base], future, model=future)
+
+# A version 2 model whose no-regime rule is not one isohypse knows.
+odd_rule = os.path.join(tmp, "model_odd_rule.nc")
+shutil.copy(model_path, odd_rule)
+with netCDF4.Dataset(odd_rule, "a") as ds:
+    ds.setncattr("no_regime_correlation", "centred")
+expect("regime model with an unknown no_regime_correlation", [base], odd_rule, model=odd_rule, exit_code=3)
 
 # Reforecasts: on the forecasts' grid they are used; on a 2.5-degree grid refused.
 rf_dir = os.path.join(tmp, "rf_same")

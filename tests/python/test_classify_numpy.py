@@ -9,7 +9,9 @@ correlation threshold). The forecasts are written here with netCDF4-python on
 the model's grid (latitudes descending, geopotential in m2 s-2, one file per
 initialisation with a `number` dimension), once in the noleap calendar across
 29 February and once in 360_day across 30 January/1 February, each with
-another weighting; a third run uses a model with a 5-day running mean.
+another weighting; a third run uses a model with a 5-day running mean (the
+full-field no-regime correlation of smoothed fields), a fourth a copy of the
+model marked format version 1 (the EOF-space correlation, issue 11).
 Also: the document validates against config/guidance.schema.json (jsonschema,
 Draft 2020-12); the daily probabilities are the lagged-ensemble fractions
 (Hoffman & Kalnay 1983, Tellus 35A, 100-118) of the reference's labels and sum
@@ -18,7 +20,9 @@ import csv
 import datetime
 import json
 import os
+import shutil
 
+import netCDF4
 import numpy as np
 from jsonschema import Draft202012Validator
 
@@ -149,6 +153,18 @@ if model_path:
     # 360_day across 30 January; issued a day after the latest initialisation.
     run_case("360_day", model_path, "360_day", [(2001, 1, 28), (2001, 1, 30), (2001, 2, 1)], "linear",
              issue=datetime.date(2001, 2, 2))
+    # A model of format version 1 (before issue 11) keeps its EOF-space
+    # no-regime correlation; the reference follows the file's version too.
+    v1_dir = os.path.join(tmp, "v1")
+    os.makedirs(v1_dir)
+    v1_model = os.path.join(v1_dir, "model_v1.nc")
+    shutil.copy(model_path, v1_model)
+    with netCDF4.Dataset(v1_model, "a") as ds:
+        ds.setncattr("isohypse_format_version", np.int32(1))
+        ds.delncattr("no_regime_correlation")
+    check(reference.Model(model_path).rule == "full_field_area_weighted" and reference.Model(v1_model).rule == "eof_space",
+          "the model says full_field_area_weighted; its version 1 copy falls back to the EOF-space rule")
+    run_case("version-1", v1_model, "noleap", [(2024, 2, 24), (2024, 2, 26)], "equal")
     smooth_dir = os.path.join(tmp, "smooth")
     os.makedirs(smooth_dir)
     smooth_model = small_model(smooth_dir, lat, lon, {"filter": {"running_mean_days": 5}})

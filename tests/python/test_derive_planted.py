@@ -120,7 +120,7 @@ for k_arg in ("4", "auto"):
 model = os.path.join(tmp, "model_k4.nc")
 if os.path.exists(model):
     r = run([BIN, "inspect", model])
-    check(r.returncode == 0 and "isohypse regime model, format version 1" in r.stdout and "R4" in r.stdout,
+    check(r.returncode == 0 and "isohypse regime model, format version 2" in r.stdout and "R4" in r.stdout,
           "inspect describes a regime model: format, regimes")
     r = run([BIN, "inspect", "--json", model])
     j = json.loads(r.stdout) if r.returncode == 0 else {}

@@ -14,6 +14,11 @@
    EOF step (tests/tools/numerics_tool) must agree with numpy.linalg.svd.
 3. Determinism: one seed gives identical labels and centroids whatever the
    thread count (project rule, ../shared/STYLE.md item 6).
+1b. Labels (issue 11): every day's stored correlation is numpy's full-field,
+   area-weighted uncentred correlation with its nearest centroid's pattern
+   E c, labels follow the threshold, the patterns are composites without
+   no-regime days, and a copy marked format version 1 keeps the EOF-space
+   rule (inspect says which).
 4. The model file is NetCDF-4 (HDF5 underneath: h5py opens it, netCDF4-python
    too), carries its format version and a provenance with the inputs (sizes),
    the seed and the tool version.
@@ -21,6 +26,7 @@
 import datetime
 import json
 import os
+import shutil
 
 import h5py
 import netCDF4
@@ -104,6 +110,63 @@ check(np.allclose(eigen, lam, rtol=1e-5), f"eigenvalues = s^2 / (n - 1) (model {
 compare_eofs(eofs, vt[:N_EOF], "invented record")
 largest = [e[np.argmax(np.abs(e))] for e in eofs]
 check(all(x > 0 for x in largest), "each EOF's largest loading is positive (the sign convention of eof.hpp)")
+
+# ---------------------------------------------------------------- 1b. labels and the no-regime rule (issue 11)
+# Every day of the record: y = w x' - m over the grid (x' the anomaly from the
+# stored climatology), its components on the stored EOFs, the nearest stored
+# centroid, and the area-weighted uncentred correlation of y with that
+# regime's pattern E c over the full field, (y . E c) / (|y| |E c|), not in
+# the truncated EOF space. Composites: the mean anomaly of each regime's
+# in-season days, no-regime days left out.
+with netCDF4.Dataset(models[1]) as m:
+    centroids = np.asarray(m["centroid"][:], dtype=np.float64)            # (regime, eof)
+    stored_cor = np.asarray(m["correlation"][:], dtype=np.float64)
+    stored_lab = np.asarray(m["label"][:], dtype=int)
+    stored_pat = np.asarray(m["pattern"][:], dtype=np.float64).reshape(len(centroids), -1)
+    threshold = float(m.getncattr("no_regime_threshold"))
+    rule = m.getncattr("no_regime_correlation")
+    version = int(np.ravel(m.getncattr("isohypse_format_version"))[0])
+check(version == 2 and rule == "full_field_area_weighted",
+      f"the model is format version 2 with no_regime_correlation = full_field_area_weighted ({version}, {rule})")
+anom = h - B @ C                                   # (day, point), metres
+Y = anom * w - eof_mean
+pcs = Y @ eofs.T
+d2 = ((pcs[:, None, :] - centroids[None, :, :]) ** 2).sum(axis=2)
+nearest = d2.argmin(axis=1)
+pattern = centroids[nearest] @ eofs                # E c of each day's nearest regime, on the grid
+full = (Y * pattern).sum(axis=1) / (np.linalg.norm(Y, axis=1) * np.linalg.norm(pattern, axis=1))
+in_eofs = (pcs * centroids[nearest]).sum(axis=1) / (np.linalg.norm(pcs, axis=1) * np.linalg.norm(centroids[nearest], axis=1))
+want = np.where(full >= threshold, nearest, -1)
+d_cor = np.abs(stored_cor - full).max()
+check(d_cor < 1e-5, f"stored correlations are numpy's full-field area-weighted correlations (max diff {d_cor:.1e})")
+gain = np.abs(in_eofs) - np.abs(full)
+check(gain.min() > -1e-9 and gain.max() > 0.1, f"the truncation shows: no day's full-field correlation exceeds its "
+      f"EOF-space one in size (EOF space larger by {gain.min():.3f} to {gain.max():.3f}, mean {gain.mean():.3f})")
+srt = np.sort(d2, axis=1)
+clear = (np.abs(full - threshold) > 1e-5) & (srt[:, 1] - srt[:, 0] > 1e-6 * srt[:, 1])
+check(np.array_equal(stored_lab[clear], want[clear]) and clear.sum() >= n_days - 5,
+      f"stored labels are numpy's on all {clear.sum()} clear days of {n_days} "
+      f"({(want[season] < 0).mean():.1%} of in-season days no regime; EOF-space rule: {(in_eofs[season] < threshold).mean():.1%})")
+check(((want[season] < 0).sum() > 0), "the invented record has no-regime days in season, so the composites below test their exclusion")
+composite = np.array([anom[season & (stored_lab == j)].mean(axis=0) for j in range(len(centroids))])
+d_pat = np.abs(composite - stored_pat).max()
+check(d_pat < 1e-3, f"patterns are the composites of each regime's in-season days without no-regime days (max diff {d_pat:.1e} m)")
+with_none = np.array([anom[season & (nearest == j)].mean(axis=0) for j in range(len(centroids))])
+check(np.abs(with_none - stored_pat).max() > 1e-2, "and differ from composites that would keep the no-regime days")
+
+# A copy marked format version 1 keeps the EOF-space rule, and inspect says so.
+v1 = os.path.join(tmp, "model_v1.nc")
+shutil.copy(models[1], v1)
+with netCDF4.Dataset(v1, "a") as m:
+    m.setncattr("isohypse_format_version", np.int32(1))
+    m.delncattr("no_regime_correlation")
+r1, r2, rt = run([BIN, "inspect", "--json", v1]), run([BIN, "inspect", "--json", models[1]]), run([BIN, "inspect", v1])
+ok = r1.returncode == 0 and r2.returncode == 0
+check(ok and json.loads(r1.stdout).get("no_regime_correlation") == "eof_space"
+      and json.loads(r2.stdout).get("no_regime_correlation") == "full_field_area_weighted",
+      f"inspect --json shows the rule: eof_space for the version 1 copy, full_field_area_weighted for the model")
+check(rt.returncode == 0 and "in EOF space, the rule of format version 1 models" in rt.stdout,
+      "inspect's text says a version 1 model keeps the EOF-space rule")
 
 # ---------------------------------------------------------------- 3. determinism
 def content(path):

@@ -41,6 +41,14 @@ Climatology fit_climatology(const Field& heights, const ClimatologyOptions& opti
 // heights - climatology, in place (NaN stays NaN).
 void subtract_climatology(Field& heights, const Climatology& clim);
 
+// The days averaged for day t by running_mean: dates lo..hi (indices,
+// inclusive), t - (N-1)/2 .. t + N/2 cut to t's run of consecutive days.
+struct MeanWindow {
+  arma::uword lo = 0, hi = 0;
+};
+// One window per date; N <= 1 gives each day alone.
+std::vector<MeanWindow> running_mean_windows(const std::vector<Date>& dates, int days);
+
 // Centred N-day running mean within each run of consecutive days (shorter
 // windows at the ends of a run); N <= 1 leaves the data unchanged. NaN
 // values are skipped in the averages.

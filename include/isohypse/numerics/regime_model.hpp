@@ -5,6 +5,7 @@
 
 #include <armadillo>
 #include <nlohmann/json.hpp>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -15,7 +16,27 @@
 
 namespace isohypse {
 
-inline constexpr int kRegimeModelFormatVersion = 1;
+// Version 2: the no-regime correlation is taken over the full field (see
+// NoRegimeRule); version 1 models, read as before, keep the EOF-space rule.
+inline constexpr int kRegimeModelFormatVersion = 2;
+
+// How the correlation that decides "no regime" is computed. Both use the
+// nearest centroid c in component space and the day's weighted, centred
+// field y = w x - m (w = sqrt(cos lat), m the EOF mean) with components
+// pc = E^T y:
+//   FullField: (pc . c) / (|y| |c|), the area-weighted uncentred anomaly
+//     correlation of the day's field with the regime's pattern E c over the
+//     whole grid (E orthonormal: y . E c = pc . c and |E c| = |c|).
+//   EofSpace:  (pc . c) / (|pc| |c|), the same within the truncated EOF
+//     space; larger by |y| / |pc| (the variance the EOFs leave out is
+//     ignored). The rule of format version 1 models.
+enum class NoRegimeRule { FullField, EofSpace };
+
+// The rule's name in the model file's global attribute
+// no_regime_correlation: "full_field_area_weighted" or "eof_space".
+const char* no_regime_rule_name(NoRegimeRule rule);
+// The rule of a name; std::nullopt for any other text.
+std::optional<NoRegimeRule> no_regime_rule_from_name(const std::string& name);
 
 struct RegimeInfo {
   std::string id;            // "R1", "R2", ... in the model's order (decreasing frequency)
@@ -47,6 +68,7 @@ struct RegimeModel {
   arma::mat patterns;                // n_points x k, metres (composites of member days)
   std::vector<RegimeInfo> regimes;
   double no_regime_threshold = 0.25; // anomaly correlation with the nearest centroid
+  NoRegimeRule no_regime_rule = NoRegimeRule::FullField;  // EofSpace when read from a version 1 file
   std::vector<RegimeCountEntry> k_table;
   bool k_automatic = false;
   std::string k_reason;              // why this k, in words (choose_regime_count; empty in older models)
@@ -54,7 +76,7 @@ struct RegimeModel {
   std::vector<Date> dates;
   std::vector<int> labels;           // 0..k-1, or -1 for no regime
   std::vector<char> in_season;
-  arma::vec correlation;             // with the nearest centroid
+  arma::vec correlation;             // with the nearest centroid, by no_regime_rule
   arma::mat transition;              // (k+1) x (k+1), state k = no regime, in-season days
   arma::umat transition_counts;
   double inertia = 0;
@@ -68,11 +90,17 @@ struct RegimeModel {
   int no_regime_state() const { return k(); }
 };
 
-// Per day: the nearest centroid (squared distance in component space) and the
-// uncentred anomaly correlation with it; labels -1 where the correlation is
-// below the threshold. pcs: n_days x n_eof.
-void assign_regimes(const arma::mat& pcs, const arma::mat& centroids, double threshold, std::vector<int>& labels,
-                    arma::vec& correlation);
+// Per day: the nearest of model.centroids (squared distance in component
+// space) and the uncentred anomaly correlation with it by
+// model.no_regime_rule; labels -1 where the correlation is below
+// model.no_regime_threshold. pcs: n_days x n_eof, the components of the
+// weighted, centred fields y; field_norms: |y| per day (the weighted
+// full-field norm, metres), used by NoRegimeRule::FullField and ignored
+// (may be empty) by EofSpace. A day with a zero norm gets correlation 0.
+// The one assignment of derive, classify and verify (via labeller.hpp).
+// Throws InternalError when the sizes disagree.
+void assign_regimes(const RegimeModel& model, const arma::mat& pcs, const arma::vec& field_norms,
+                    std::vector<int>& labels, arma::vec& correlation);
 
 // The JSON of a regime, the same in the model file, the derive summary and
 // the service's API: id, name, frequency, mean_run_days, median_run_days,

@@ -13,8 +13,9 @@ namespace isohypse {
 // As JSON (derive --summary FILE): format_version, domain, grid, season_months,
 // record, eofs (eigenvalue, explained and cumulative fractions, North error,
 // effective N), regime_count_table (k_table_json), regime_count_reason, k,
-// k_automatic, regimes (regime_json),
-// no_regime_frequency (of in-season days), no_regime_threshold, transitions
+// k_automatic, regimes (regime_json), no_regime_frequency (of in-season
+// days), no_regime_threshold, no_regime_correlation (the rule's name,
+// regime_model.hpp), transitions
 // (transition_json over model_states) and provenance.
 nlohmann::json model_summary(const RegimeModel& model);
 // The same as text tables for a terminal.

@@ -99,9 +99,9 @@ RegimeModel derive_regimes(const DeriveConfig& cfg, const DeriveProgress& progre
   clock.lap("kmeans");
 
   RegimeModel m = model_from(rec, std::move(clim), weights, eof, count, km, cfg);
-  m.patterns = regime_patterns(anomalies, season, km.labels, count.k);
   starting("labels");
-  label_days(anomalies, weights, m);
+  label_days(anomalies, m);
+  m.patterns = regime_patterns(anomalies, season, m.labels, count.k);
   m.in_season = season.in_season;
   regime_statistics(season, cfg.names, m);
   clock.lap("labels");

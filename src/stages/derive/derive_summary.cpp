@@ -78,6 +78,7 @@ json model_summary(const RegimeModel& m) {
     }
   j["no_regime_frequency"] = season_days ? double(none) / double(season_days) : 0.0;
   j["no_regime_threshold"] = m.no_regime_threshold;
+  j["no_regime_correlation"] = no_regime_rule_name(m.no_regime_rule);
   j["transitions"] = transition_json(model_states(m), m.transition, arma::conv_to<arma::mat>::from(m.transition_counts));
   j["provenance"] = m.provenance;
   return j;
@@ -112,8 +113,11 @@ std::string summary_text(const RegimeModel& m) {
     o << line;
   }
   json s = model_summary(m);
-  std::snprintf(line, sizeof line, "no regime: %.1f%% of in-season days (anomaly correlation below %.2f)\n",
-                100 * s["no_regime_frequency"].get<double>(), m.no_regime_threshold);
+  std::snprintf(line, sizeof line, "no regime: %.1f%% of in-season days (anomaly correlation below %.2f, %s)\n",
+                100 * s["no_regime_frequency"].get<double>(), m.no_regime_threshold,
+                m.no_regime_rule == NoRegimeRule::FullField ? "over the full weighted field"
+                                                            : "in EOF space, the rule of format version 1 models; "
+                                                              "derive again for the full-field rule");
   o << line << "\nTransition probabilities (row: from, column: to)\n      ";
   for (const auto& r : m.regimes) {
     std::snprintf(line, sizeof line, "%7s", r.id.c_str());

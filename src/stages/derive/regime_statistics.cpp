@@ -1,47 +1,47 @@
 #include "stages/derive/regime_statistics.hpp"
 
+#include <spdlog/spdlog.h>
+
 #include <algorithm>
 
 #include "isohypse/base/error.hpp"
-#include "isohypse/numerics/eof.hpp"
+#include "isohypse/numerics/labeller.hpp"
 #include "isohypse/numerics/regime_sequence.hpp"
 
 namespace isohypse::derive_steps {
 
 arma::mat regime_patterns(const Field& anomalies, const Season& season, const std::vector<int>& labels, int k) {
-  // The partition comes from the same season's PCs: a mismatch is a bug.
-  if (labels.size() != season.size())
+  // The labels come from the same record: a mismatch is a bug.
+  if (labels.size() != season.in_season.size())
     throw InternalError("regime patterns: " + std::to_string(labels.size()) + " labels for " +
-                        std::to_string(season.size()) + " season days");
-  for (int l : labels)
-    if (l < 0 || l >= k) throw InternalError("regime patterns: label " + std::to_string(l) + " outside 0.." +
-                                             std::to_string(k - 1));
+                        std::to_string(season.in_season.size()) + " days of the record");
   arma::mat patterns(anomalies.grid.n_points(), k, arma::fill::zeros);
   arma::vec counts(k, arma::fill::zeros);
-  for (std::size_t i = 0; i < season.size(); ++i) {
-    const int l = labels[i];
-    patterns.col(l) += arma::conv_to<arma::vec>::from(anomalies.values.col(season.days[i]));
+  for (const arma::uword t : season.days) {
+    const int l = labels[t];
+    if (l < -1 || l >= k)
+      throw InternalError("regime patterns: label " + std::to_string(l) + " outside -1.." + std::to_string(k - 1));
+    if (l < 0) continue;  // no regime: in no regime's composite
+    patterns.col(l) += arma::conv_to<arma::vec>::from(anomalies.values.col(t));
     counts(l) += 1;
   }
-  for (int j = 0; j < k; ++j) patterns.col(j) /= std::max(1.0, counts(j));
+  for (int j = 0; j < k; ++j) {
+    if (counts(j) == 0) spdlog::warn("regime {} has no day above the no-regime threshold: its pattern is zero", j + 1);
+    patterns.col(j) /= std::max(1.0, counts(j));
+  }
   return patterns;
 }
 
-void label_days(const Field& anomalies, const arma::vec& weights, RegimeModel& model) {
-  if (weights.n_elem != anomalies.n_points())
-    throw InternalError("daily labels: " + std::to_string(weights.n_elem) + " weights for " +
+void label_days(const Field& anomalies, RegimeModel& model) {
+  if (model.weights.n_elem != anomalies.n_points())
+    throw InternalError("daily labels: " + std::to_string(model.weights.n_elem) + " weights for " +
                         std::to_string(anomalies.n_points()) + " grid points");
-  constexpr arma::uword kBlock = 2048;  // days per projection
-  const arma::fvec wf = arma::conv_to<arma::fvec>::from(weights);
-  const arma::uword n = anomalies.n_times();
-  arma::mat pcs(n, model.eofs.n_cols);
-  for (arma::uword t0 = 0; t0 < n; t0 += kBlock) {
-    const arma::uword t1 = std::min<arma::uword>(n, t0 + kBlock) - 1;
-    arma::fmat part = anomalies.values.cols(t0, t1);
-    part.each_col() %= wf;
-    pcs.rows(t0, t1) = project_onto_eofs(part, model.eof_mean, model.eofs);
-  }
-  assign_regimes(pcs, model.centroids, model.no_regime_threshold, model.labels, model.correlation);
+  // The labeller of classify and verify: the three stages label a field
+  // identically, by the model's own no-regime rule.
+  RegimeLabeller labeller(model);
+  model.labels = labeller.label(anomalies.values, &model.correlation);
+  for (int& l : model.labels)
+    if (l == model.k()) l = -1;
 }
 
 void regime_statistics(const Season& season, const std::vector<std::string>& names, RegimeModel& model) {
