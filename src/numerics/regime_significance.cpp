@@ -27,6 +27,10 @@ double quantile(std::vector<double> v, double q) {
   return v[lo] + (pos - static_cast<double>(lo)) * (v[hi] - v[lo]);
 }
 
+// p <= level, allowing for the binary rounding of the levels: 1 - 0.9 is
+// 0.09999999999999998, and a p-value of 5/100 must pass at 0.1 / 2.
+bool at_most(double p, double level) { return p <= level * (1.0 + 1e-9); }
+
 // What the runs on one data set at one k give.
 struct SetResult {
   double index = 0.0, spread = 0.0, ratio = 0.0;
@@ -216,7 +220,7 @@ std::vector<RegimeCountRow> regime_count_table(const arma::mat& pcs,
         row.surrogate_ratio.push_back(results[i * batch + b].ratio);
       }
       const Exceedances e = count_exceedances(row);
-      const bool decided = (1.0 + std::max(e.index, e.ratio)) / (1.0 + opt.surrogates) > alpha;
+      const bool decided = !at_most((1.0 + std::max(e.index, e.ratio)) / (1.0 + opt.surrogates), alpha);
       if (opt.stop_early && decided && last < opt.surrogates) {
         open[ks[i]] = 0;
         tracker.drop(opt.surrogates - last);
@@ -242,8 +246,8 @@ void apply_holm(std::vector<RegimeCountRow>& table, double level) {
   for (std::size_t rank = 0; rank < m; ++rank) {
     RegimeCountRow& row = table[order[rank]];
     row.holm_level = alpha / static_cast<double>(m - rank);
-    passing = passing && row.p_ratio <= row.holm_level;
-    row.significant = passing && row.p_index <= alpha;
+    passing = passing && at_most(row.p_ratio, row.holm_level);
+    row.significant = passing && at_most(row.p_index, alpha);
   }
 }
 

@@ -1,11 +1,9 @@
 """Planted worlds: does `isohypse derive --k auto` find the planted number of
 regimes? (issue 11, "Checks outside the project").
 
-NOT registered with ctest yet (the name does not start with test_): the rule
-for choosing k is known to be wrong on some records, and issue 11 fixes it in
-another part. Run it by hand after a build:
+Run by ctest (py.test_planted_k); by hand after a build:
 
-    ISOHYPSE_BUILD_DIR=build /usr/bin/python3 tests/python/planted_k.py
+    ISOHYPSE_BUILD_DIR=build /usr/bin/python3 tests/python/test_planted_k.py
 
 For each world (isohypse-demo-world --size tiny: reanalysis 2011-2020 over the
 sector 20N-80N, 170E-40W and its planted truth; seed 8) with 3, 4 and 5
