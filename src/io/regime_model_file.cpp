@@ -168,6 +168,8 @@ void put_global_attributes(nc::File& f, const RegimeModel& m) {
   f.put_att(NC_GLOBAL, "regimes", regimes.dump());
   f.put_att(NC_GLOBAL, "regime_count_table", k_table_json(m.k_table).dump());
   if (!m.k_reason.empty()) f.put_att(NC_GLOBAL, "regime_count_reason", m.k_reason);
+  if (std::isfinite(m.partition_agreement))
+    f.put_att(NC_GLOBAL, "partition_agreement", NC_DOUBLE, {m.partition_agreement});
   f.put_att(NC_GLOBAL, "config", m.config.dump());
   f.put_att(NC_GLOBAL, "provenance", m.provenance.dump());
 }
@@ -242,6 +244,7 @@ RegimeModel read_regime_model(const std::string& path) {
   m.inertia = att_num(f, "inertia");
   m.k_automatic = att_num(f, "k_automatic") != 0;
   m.k_reason = f.text_att(NC_GLOBAL, "regime_count_reason").value_or("");  // older models have none
+  if (auto a = f.num_att(NC_GLOBAL, "partition_agreement"); a && !a->empty()) m.partition_agreement = (*a)[0];
   try {
     m.config = nlohmann::json::parse(att_text(f, "config"));
     m.provenance = nlohmann::json::parse(att_text(f, "provenance"));

@@ -17,7 +17,10 @@ best one-to-one relabelling (Hungarian assignment, Kuhn 1955; scipy's
 linear_sum_assignment), with no-regime days counted as mismatches.
 
 Assertions are what the issue asks:
-  - a world with N planted regimes: the chosen k is N;
+  - a world with N planted regimes: the chosen k is N, and the kept partition
+    (the least inertia of the final restarts) and the partition of the
+    classifiability runs that agrees best with the others (Michelangeli et
+    al. 1995) give the same regimes (partition similarity A >= 0.99);
   - the noise-only world: no k is significant and `--k auto` refuses (a
     non-zero exit code, no model written, a message that no regime structure
     is significant).
@@ -136,6 +139,7 @@ def one_world(root, name, flags, planted_k):
         row["significant"] = [e["k"] for e in s["regime_count_table"] if e["significant"]]
         row["table"] = s["regime_count_table"]
         row["n_eofs"] = len(s["eofs"])
+        row["partition_agreement"] = s.get("partition_agreement")
         if planted_k is not None:
             row["ari"], row["match"], row["none"], row["days"] = agreement(model_labels(model), planted_labels(folder))
     else:
@@ -180,6 +184,10 @@ def main():
                 check(w["exit"] == 0 and w.get("k") == w["planted"],
                       f"{w['name']}: derive --k auto chose k = {w.get('k', 'exit ' + str(w['exit']))}, "
                       f"planted {w['planted']}")
+                a = w.get("partition_agreement")
+                check(a is not None and a >= 0.99,
+                      f"{w['name']}: the kept partition (least inertia) and the classifiability runs' most "
+                      f"agreeing one give the same regimes (A = {a})")
             else:
                 check(w["exit"] != 0 and not w.get("model_left", True)
                       and "significant" in w.get("message", ""),

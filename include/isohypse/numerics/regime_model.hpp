@@ -72,6 +72,9 @@ struct RegimeModel {
   std::vector<RegimeCountEntry> k_table;
   bool k_automatic = false;
   std::string k_reason;              // why this k, in words (choose_regime_count; empty in older models)
+  // The kept partition against the classifiability runs' most agreeing one
+  // (derive's agreement_with_runs); NaN when unknown.
+  double partition_agreement = arma::datum::nan;
   // The observed sequence: every day of the record.
   std::vector<Date> dates;
   std::vector<int> labels;           // 0..k-1, or -1 for no regime

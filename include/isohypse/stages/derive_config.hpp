@@ -41,6 +41,9 @@ struct DeriveConfig {
   // 1 - the family-wise error rate of the test over all k (Holm's
   // correction): on red noise some k passes with probability <= 0.1.
   double significance = 0.9;
+  // Stop drawing surrogates for a k once it cannot pass (the verdicts are
+  // those of the full test); false draws them all for every k.
+  bool stop_early = true;
   // "No regime" below this area-weighted anomaly correlation of the day's
   // full field with its nearest regime's pattern (NoRegimeRule::FullField,
   // regime_model.hpp). 0.25 stays the default with the full-field rule

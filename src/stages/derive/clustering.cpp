@@ -1,5 +1,9 @@
 #include "stages/derive/clustering.hpp"
 
+#include <algorithm>
+
+#include "isohypse/numerics/classifiability.hpp"
+
 namespace isohypse::derive_steps {
 
 KMeansOptions kmeans_options(const DeriveConfig& cfg, int k) {
@@ -13,6 +17,14 @@ KMeansOptions kmeans_options(const DeriveConfig& cfg, int k) {
 
 KMeansResult cluster_days(const arma::mat& pcs, int k, const DeriveConfig& cfg) {
   return kmeans(pcs.t(), kmeans_options(cfg, k));
+}
+
+double agreement_with_runs(const KMeansResult& km, const std::vector<RegimeCountRow>& table) {
+  for (const auto& row : table)
+    if (row.k == static_cast<int>(km.centroids.n_cols) && !row.best_centroids.empty())
+      return std::min(partition_similarity(km.centroids, row.best_centroids),
+                      partition_similarity(row.best_centroids, km.centroids));
+  return arma::datum::nan;
 }
 
 }  // namespace isohypse::derive_steps

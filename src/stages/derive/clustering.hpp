@@ -3,8 +3,10 @@
 #pragma once
 
 #include <armadillo>
+#include <vector>
 
 #include "isohypse/numerics/kmeans.hpp"
+#include "isohypse/numerics/regime_significance.hpp"
 #include "isohypse/stages/derive.hpp"
 
 namespace isohypse::derive_steps {
@@ -16,5 +18,14 @@ KMeansOptions kmeans_options(const DeriveConfig& cfg, int k);
 // points). Clusters ordered by decreasing size (kmeans). Throws what kmeans
 // throws.
 KMeansResult cluster_days(const arma::mat& pcs, int k, const DeriveConfig& cfg);
+
+// How closely the kept partition (the least inertia of cfg.restarts full
+// k-means runs) matches the partition of the classifiability runs that
+// agrees best with the others (Michelangeli et al. 1995's choice, the
+// table's best_run at this k): min(A(kept, best), A(best, kept)), A the
+// partition similarity of classifiability.hpp; 1 when every regime of one
+// has an identical centroid in the other. NaN when the table has no row
+// for k (a configured k outside k_min..k_max).
+double agreement_with_runs(const KMeansResult& km, const std::vector<RegimeCountRow>& table);
 
 }  // namespace isohypse::derive_steps

@@ -99,6 +99,7 @@ RegimeModel derive_regimes(const DeriveConfig& cfg, const DeriveProgress& progre
   clock.lap("kmeans");
 
   RegimeModel m = model_from(rec, std::move(clim), weights, eof, count, km, cfg);
+  m.partition_agreement = agreement_with_runs(km, count.table);
   starting("labels");
   label_days(anomalies, m);
   m.patterns = regime_patterns(anomalies, season, m.labels, count.k);

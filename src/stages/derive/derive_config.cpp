@@ -43,7 +43,7 @@ const char* eof_method_name(EofOptions::Method m) {
 
 void regimes_from_json(const json& r, const std::string& src, DeriveConfig& c) {
   const std::string w = src + ": regimes";
-  check_keys(r, {"k", "k_min", "k_max", "restarts", "classifiability_runs", "surrogates", "significance", "names"}, w);
+  check_keys(r, {"k", "k_min", "k_max", "restarts", "classifiability_runs", "surrogates", "significance", "stop_early", "names"}, w);
   if (r.contains("k")) {
     if (r["k"].is_string() && r["k"] == "auto") c.k.reset();
     else if (r["k"].is_number_integer()) c.k = r["k"].get<int>();
@@ -55,6 +55,7 @@ void regimes_from_json(const json& r, const std::string& src, DeriveConfig& c) {
   get_value(r, "classifiability_runs", c.classifiability_runs, w);
   get_value(r, "surrogates", c.surrogates, w);
   get_value(r, "significance", c.significance, w);
+  get_value(r, "stop_early", c.stop_early, w);
   get_value(r, "names", c.names, w);
 }
 
@@ -107,7 +108,7 @@ json DeriveConfig::to_json() const {
               {"method", eof_method_name(eof.method)}};
   j["regimes"] = {{"k", k ? json(*k) : json("auto")}, {"k_min", k_min}, {"k_max", k_max}, {"restarts", restarts},
                   {"classifiability_runs", classifiability_runs}, {"surrogates", surrogates},
-                  {"significance", significance}, {"names", names}};
+                  {"significance", significance}, {"stop_early", stop_early}, {"names", names}};
   j["no_regime_threshold"] = no_regime_threshold;
   j["seed"] = seed;
   j["threads"] = threads;

@@ -65,6 +65,7 @@ json model_summary(const RegimeModel& m) {
   j["eofs"] = eofs;
   j["regime_count_table"] = k_table_json(m.k_table);
   j["regime_count_reason"] = m.k_reason;
+  j["partition_agreement"] = number_or_null(m.partition_agreement);
   j["k"] = m.k();
   j["k_automatic"] = m.k_automatic;
   json regs = json::array();
@@ -105,6 +106,12 @@ std::string summary_text(const RegimeModel& m) {
   o << "\n" << regime_count_text(m.k_table, m.k());
   o << "\nk = " << m.k() << (m.k_automatic ? " (chosen from the table)" : " (as configured)") << "\n";
   if (!m.k_reason.empty()) o << m.k_reason << "\n";
+  if (std::isfinite(m.partition_agreement)) {
+    std::snprintf(line, sizeof line,
+                  "Kept partition (least inertia of the final restarts) against the classifiability runs' most "
+                  "agreeing one: A = %.3f\n", m.partition_agreement);
+    o << line;
+  }
   o << "\n";
   o << "id   frequency  mean run  longest  episodes>=5d  residence  name\n";
   for (const auto& r : m.regimes) {

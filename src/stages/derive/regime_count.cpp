@@ -17,6 +17,7 @@ RegimeCountOptions regime_count_options(const DeriveConfig& cfg, std::size_t sea
   rco.runs = cfg.classifiability_runs;
   rco.surrogates = cfg.surrogates;
   rco.level = cfg.significance;
+  rco.stop_early = cfg.stop_early;
   rco.seed = cfg.seed;
   rco.threads = cfg.threads;
   return rco;
