@@ -324,7 +324,7 @@ KMeansResult to_result(Run&& run, int best_restart) {
 
 // --- the quick path (kmeans_quick): float points as rows, plain Lloyd ---
 
-constexpr uword kBlock = 256;  // points whose distances are computed together
+constexpr uword kBlock = 288;  // points whose distances are computed together (6 x 48)
 
 // Squared distances of points b..b+m-1 (rows of P) to centre j, into out.
 // Inlined into the kernels below, which are cloned for AVX2 (chosen at run
@@ -348,81 +348,101 @@ void block_distances(const float* __restrict p, uword n, uword d, const float* _
   distances_to(p, n, d, centre, m, out);
 }
 
-// For points b..b+m-1: the squared distance to the nearest of the k centres
-// (columns of `centres`, d floats each) into best, its index into bj (ties:
-// lowest index). Eight points at a time in one vector register each for the
-// distance, the best distance and its index, so that nothing but the points
-// goes through memory; the sums over dimensions run in the same order as
-// distances_to, so both give the same floats.
+// For points b..b+m-1: the index of the nearest of the k centres (columns
+// of `centres`, d floats each) into bj (ties: lowest index). The nearest
+// centre minimises |c|^2 / 2 - x.c (half_norms[j] = |c_j|^2 / 2), one
+// multiply-add per coordinate instead of a difference and a square; the
+// inertia comes from the cluster sums instead (quick_inertia). G groups of
+// eight points at a time in vector registers, G independent chains of
+// additions so that the adder's latency is hidden, nothing but the points
+// read from memory.
 using Lanes = float __attribute__((vector_size(32)));
 using IntLanes = int __attribute__((vector_size(32)));
 
-// G groups of eight points from point i on: G independent chains of
-// additions, so that the adder's latency is hidden.
 template <int G>
-__attribute__((always_inline)) inline void nearest_of_groups(const float* __restrict p, uword n, uword d, const float* __restrict centres, uword k,
-                              uword i, float* __restrict best, int* __restrict bj) {
+__attribute__((always_inline)) inline void nearest_of_groups(const float* __restrict p, uword n, uword d,
+                                                             const float* __restrict centres,
+                                                             const float* __restrict half_norms, uword k, uword i,
+                                                             int* __restrict bj) {
   Lanes nearest[G];
   IntLanes index[G] = {};
-  for (uword j = 0; j < k; ++j) {
+  auto keep = [&](int g, const Lanes& score, uword j) {
+    if (j == 0) {
+      nearest[g] = score;
+      return;
+    }
+    const IntLanes closer = score < nearest[g];
+    nearest[g] = closer ? score : nearest[g];
+    index[g] = closer ? static_cast<int>(j) + IntLanes{} : index[g];
+  };
+  uword j = 0;
+  // Two centres per pass over the coordinates: each point vector loaded
+  // feeds two multiply-adds.
+  for (; j + 2 <= k; j += 2) {
+    const float* c0 = centres + j * d;
+    const float* c1 = c0 + d;
+    Lanes dot0[G] = {}, dot1[G] = {};
+    for (uword r = 0; r < d; ++r) {
+      const float* x = p + r * n + i;
+      const float a = c0[r], b = c1[r];
+      for (int g = 0; g < G; ++g) {
+        Lanes v;
+        std::memcpy(&v, x + 8 * g, sizeof v);
+        dot0[g] += v * a;
+        dot1[g] += v * b;
+      }
+    }
+    for (int g = 0; g < G; ++g) {
+      keep(g, half_norms[j] - dot0[g], j);
+      keep(g, half_norms[j + 1] - dot1[g], j + 1);
+    }
+  }
+  if (j < k) {  // an odd last centre
     const float* c = centres + j * d;
-    Lanes sum[G] = {};
+    Lanes dot[G] = {};
     for (uword r = 0; r < d; ++r) {
       const float* x = p + r * n + i;
       for (int g = 0; g < G; ++g) {
         Lanes v;
         std::memcpy(&v, x + 8 * g, sizeof v);
-        const Lanes t = v - c[r];
-        sum[g] += t * t;
+        dot[g] += v * c[r];
       }
     }
-    for (int g = 0; g < G; ++g) {
-      if (j == 0) {
-        nearest[g] = sum[g];
-        continue;
-      }
-      const IntLanes closer = sum[g] < nearest[g];
-      nearest[g] = closer ? sum[g] : nearest[g];
-      index[g] = closer ? static_cast<int>(j) + IntLanes{} : index[g];
-    }
+    for (int g = 0; g < G; ++g) keep(g, half_norms[j] - dot[g], j);
   }
-  std::memcpy(best + i, nearest, sizeof nearest);
   std::memcpy(bj + i, index, sizeof index);
 }
 
-__attribute__((target_clones("avx2", "default")))
-void block_nearest(const float* __restrict p, uword n, uword d, const float* __restrict centres, uword k, uword m,
-                   float* __restrict best, int* __restrict bj) {
+__attribute__((target_clones("arch=haswell", "avx2", "default")))
+void block_nearest(const float* __restrict p, uword n, uword d, const float* __restrict centres,
+                   const float* __restrict half_norms, uword k, uword m, int* __restrict bj) {
   uword i = 0;
-  for (; i + 32 <= m; i += 32) nearest_of_groups<4>(p, n, d, centres, k, i, best, bj);
-  for (; i + 8 <= m; i += 8) nearest_of_groups<1>(p, n, d, centres, k, i, best, bj);
+  for (; i + 48 <= m; i += 48) nearest_of_groups<6>(p, n, d, centres, half_norms, k, i, bj);
+  for (; i + 8 <= m; i += 8) nearest_of_groups<1>(p, n, d, centres, half_norms, k, i, bj);
   for (; i < m; ++i) {  // the last few points
-    float b = 0.0f;
+    float best = 0.0f;
     int bi = 0;
     for (uword j = 0; j < k; ++j) {
-      float sum = 0.0f;
-      for (uword r = 0; r < d; ++r) {
-        const float t = p[r * n + i] - centres[j * d + r];
-        sum += t * t;
-      }
-      if (j == 0 || sum < b) {
-        b = sum;
+      float dot = 0.0f;
+      for (uword r = 0; r < d; ++r) dot += p[r * n + i] * centres[j * d + r];
+      const float score = half_norms[j] - dot;
+      if (j == 0 || score < best) {
+        best = score;
         bi = static_cast<int>(j);
       }
     }
-    best[i] = b;
     bj[i] = bi;
   }
 }
 
-// The sum of m squared distances in double, over 8 independent lanes (a
+// The sum of the squares of m floats in double, over 8 independent lanes (a
 // sequential sum is one long chain of additions).
-double block_sum(const float* __restrict v, uword m) {
+double sum_of_squares(const float* __restrict v, uword m) {
   double lane[8] = {0, 0, 0, 0, 0, 0, 0, 0};
   uword i = 0;
   for (; i + 8 <= m; i += 8)
-    for (uword l = 0; l < 8; ++l) lane[l] += static_cast<double>(v[i + l]);
-  for (; i < m; ++i) lane[0] += static_cast<double>(v[i]);
+    for (uword l = 0; l < 8; ++l) lane[l] += static_cast<double>(v[i + l]) * static_cast<double>(v[i + l]);
+  for (; i < m; ++i) lane[0] += static_cast<double>(v[i]) * static_cast<double>(v[i]);
   return ((lane[0] + lane[1]) + (lane[2] + lane[3])) + ((lane[4] + lane[5]) + (lane[6] + lane[7]));
 }
 
@@ -475,20 +495,18 @@ void quick_move(const arma::fmat& P, uword i, int from, int to, QuickKMeans& s) 
 
 // Every point to its nearest centre (ties: lowest index), a block of points
 // at a time so that the inner loops run over points and vectorise. Returns
-// the inertia; s.nearest gets each point's squared distance, `changed` the
-// number of labels that changed. A changed label moves the point's
+// the number of labels that changed. A changed label moves the point's
 // contribution to the sums (when valid), so late steps, which move few
 // points, need no rebuild of the sums.
-double quick_assign(const arma::fmat& P, QuickKMeans& s, std::size_t& changed) {
+std::size_t quick_assign(const arma::fmat& P, QuickKMeans& s) {
   const uword n = P.n_rows, d = P.n_cols, k = s.centres.n_cols;
+  s.half_norms.resize(k);
+  for (uword j = 0; j < k; ++j) s.half_norms[j] = 0.5f * arma::dot(s.centres.col(j), s.centres.col(j));
   int* __restrict bj = s.best_j.data();
-  double inertia = 0.0;
-  changed = 0;
+  std::size_t changed = 0;
   for (uword b = 0; b < n; b += kBlock) {
     const uword m = std::min(kBlock, n - b);
-    float* __restrict best = s.nearest.data() + b;
-    block_nearest(P.memptr() + b, n, d, s.centres.memptr(), k, m, best, bj);
-    inertia += block_sum(best, m);
+    block_nearest(P.memptr() + b, n, d, s.centres.memptr(), s.half_norms.data(), k, m, bj);
     int* labels = s.labels.data() + b;
     if (block_changes(labels, bj, m) == 0) continue;
     for (uword i = 0; i < m; ++i) {
@@ -499,7 +517,7 @@ double quick_assign(const arma::fmat& P, QuickKMeans& s, std::size_t& changed) {
       labels[i] = bj[i];
     }
   }
-  return inertia;
+  return changed;
 }
 
 // The cluster sums and counts from the labels. Four partial sums per
@@ -527,14 +545,47 @@ void rebuild_sums(const arma::fmat& P, QuickKMeans& s) {
   s.sums_valid = true;
 }
 
-// Centres to the cluster means (sums in double, rebuilt when not valid). A
+// The inertia of the labels about the current centres from the cluster
+// sums, in double: sum |x|^2 - 2 sum_j c_j.S_j + sum_j n_j |c_j|^2, with
+// sum |x|^2 = s.squares. The terms are of the size of the total variance,
+// so double keeps the inertia to about 1e-13 of itself.
+double quick_inertia(QuickKMeans& s) {
+  double inertia = s.squares;
+  for (uword j = 0; j < s.centres.n_cols; ++j) {
+    double cross = 0.0, norm = 0.0;
+    for (uword r = 0; r < s.centres.n_rows; ++r) {
+      const double c = s.centres(r, j);
+      cross += c * s.sums(j, r);
+      norm += c * c;
+    }
+    inertia += static_cast<double>(s.count[j]) * norm - 2.0 * cross;
+  }
+  return std::max(inertia, 0.0);
+}
+
+// Each point's squared distance to its own centre, into s.nearest (only
+// when a cluster is left empty, to find the point farthest from its centre).
+void own_distances(const arma::fmat& P, QuickKMeans& s) {
+  const uword n = P.n_rows, d = P.n_cols;
+  for (uword i = 0; i < n; ++i) {
+    const float* c = s.centres.colptr(static_cast<uword>(s.labels[i]));
+    float sum = 0.0f;
+    for (uword r = 0; r < d; ++r) {
+      const float t = P(i, r) - c[r];
+      sum += t * t;
+    }
+    s.nearest[i] = sum;
+  }
+}
+
+// Centres to the cluster means (the sums, in double, match the labels). A
 // cluster left empty takes the point farthest from its centre, as
 // cluster_means; its label follows at the next step, so the sums are then
 // rebuilt.
 void quick_update(const arma::fmat& P, QuickKMeans& s) {
   const uword d = P.n_cols, k = s.centres.n_cols;
-  if (!s.sums_valid) rebuild_sums(P, s);
   arma::mat& sums = s.sums;
+  if (std::find(s.count.begin(), s.count.end(), arma::uword{0}) != s.count.end()) own_distances(P, s);
   for (uword j = 0; j < k; ++j) {
     if (s.count[j] > 0) continue;
     const uword i = static_cast<uword>(std::max_element(s.nearest.begin(), s.nearest.end()) - s.nearest.begin());
@@ -564,8 +615,9 @@ void quick_lloyd(const arma::fmat& P, int max_iterations, double rtol, QuickKMea
   double previous = std::numeric_limits<double>::infinity();
   int updates = 0;
   while (true) {
-    std::size_t changed = 0;
-    const double inertia = quick_assign(P, s, changed);
+    const std::size_t changed = quick_assign(P, s);
+    if (!s.sums_valid) rebuild_sums(P, s);
+    const double inertia = quick_inertia(s);
     s.inertia = inertia;
     const double drop = previous - inertia;
     if (changed == 0 || (drop >= 0.0 && drop <= rtol * inertia) || updates == max_iterations) break;
@@ -672,6 +724,7 @@ void kmeans_quick(const arma::fmat& points, const QuickKMeansOptions& opt, Quick
   const auto k = static_cast<uword>(opt.k);
   s.nearest.resize(n);
   s.d2.resize(n);
+  s.squares = sum_of_squares(points.memptr(), n * d);
   s.best_j.resize(kBlock);
   s.labels.resize(n);
   s.count.assign(k, 0);

@@ -61,9 +61,13 @@ KMeansResult kmeans_from(const arma::mat& data, const arma::mat& initial_centres
 // A quick k-means run, for the classifiability table's thousands of runs
 // whose centroids are only compared by anomaly correlation (use kmeans() for
 // a partition that is kept). It differs from kmeans() with one restart in
-// three ways only: single precision (the points are float, the cluster sums
-// double); plain Lloyd steps; and a stop, besides "no label changed", when
-// one step lowered the inertia by at most `relative_inertia_change` of it.
+// four ways only: single precision (the points are float, the cluster sums
+// double); plain Lloyd steps whose nearest centre minimises |c|^2/2 - x.c
+// (in float, so near-ties may go the other way than with the distances);
+// the inertia computed from the cluster sums in double (sum |x|^2 -
+// 2 sum_j c_j.S_j + sum_j n_j |c_j|^2); and a stop, besides "no label
+// changed", when one step lowered the inertia by at most
+// `relative_inertia_change` of it.
 // The seeding is kmeans()'s k-means++ with restart r drawing from (seed, r),
 // so the starts equal kmeans()'s up to float rounding of the distances.
 // Orientation: points is n x dims (one point per ROW, as EofResult::pcs), so
@@ -92,6 +96,8 @@ struct QuickKMeans {
   bool sums_valid = false;             // sums and count match labels
   std::vector<arma::uword> count;
   std::vector<double> partial;         // partial cluster sums
+  std::vector<float> half_norms;       // |c_j|^2 / 2 per centre
+  double squares = 0.0;                // sum of the squared coordinates of the points
   std::vector<float> nearest, d2;      // per point
   std::vector<int> best_j, kept_labels;
 };
