@@ -79,7 +79,10 @@ json model_summary(const RegimeModel& model) {
           {"regimes", regimes},
           {"transitions", transition_json(model_states(model), model.transition,
                                           arma::conv_to<arma::mat>::from(model.transition_counts))},
-          {"regime_count_table", {{"k_automatic", model.k_automatic}, {"rows", k_table_json(model.k_table)}}},
+          {"regime_count_table", {{"k_automatic", model.k_automatic},
+                                  {"reason", model.k_reason},
+                                  {"partition_agreement", number_or_null(model.partition_agreement)},
+                                  {"rows", k_table_json(model.k_table)}}},
           {"palette", palette_json()},
           {"caution", kCaution}};
 }

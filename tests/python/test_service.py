@@ -77,6 +77,7 @@ try:
     check(t.shape == (5, 5) and np.allclose(np.nansum(t, axis=1)[:4], 1.0, atol=1e-6),
           "transition matrix 5 x 5, regime rows sum to 1")
     check(len(m["regime_count_table"]["rows"]) >= 1, "k table present")
+    check(m["regime_count_table"]["reason"].startswith("k = "), f"the reason for k is served: {m['regime_count_table']['reason'][:60]!r}")
 
     # --- maps
     status, hd, svg = server.get("/api/v1/model/regimes/R1.svg")
