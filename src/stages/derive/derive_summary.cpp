@@ -34,7 +34,8 @@ std::string regime_count_text(const std::vector<RegimeCountRow>& table, int k_us
        "  Holm level   gap (spread)  significant\n";
   char line[256];
   for (const auto& e : table) {
-    const std::string drawn = std::to_string(e.surrogates()) + (e.stopped_early ? " stopped" : "");
+    const std::string drawn = e.surrogates() == 0 ? "-"  // a model written before the p-values
+                                                  : std::to_string(e.surrogates()) + (e.stopped_early ? " stopped" : "");
     std::snprintf(line, sizeof line, "%3d  %15.3f (%s)  %15s  %14s  %-10s  %7s  %7s  %10s  %6s (%s)  %s%s\n", e.k,
                   e.index, number_text(e.index_spread, "%.3f").c_str(), number_text(e.surrogate_level, "%.3f").c_str(),
                   number_text(e.variance_ratio, "%.3f").c_str(), drawn.c_str(),
@@ -44,6 +45,9 @@ std::string regime_count_text(const std::vector<RegimeCountRow>& table, int k_us
                   e.k == k_used ? "   <- used" : "");
     o << line;
   }
+  o << "(surrogate level: the significance quantile of the surrogates' indices; p: Monte Carlo p-values, \">=\" a\n"
+       " lower bound where a k stopped early; significant: p ratio within Holm's level and p index within\n"
+       " 1 - significance; gap: the variance reduction beyond red noise, which ranks k of tied index)\n";
   return o.str();
 }
 
