@@ -69,10 +69,12 @@ std::string date_param(const Request& req, const char* name) {
   return v;
 }
 
-// ?from=&to= as a range of issue dates ("" open).
-std::pair<std::string, std::string> date_range(const Request& req) {
-  std::string from = date_param(req, "from"), to = date_param(req, "to");
-  if (!from.empty() && !to.empty() && from > to) throw HttpError(400, "from is after to");
+// ?FROM=&TO= as a range of dates ("" open).
+std::pair<std::string, std::string> date_range(const Request& req, const char* from_name = "from",
+                                               const char* to_name = "to") {
+  std::string from = date_param(req, from_name), to = date_param(req, to_name);
+  if (!from.empty() && !to.empty() && from > to)
+    throw HttpError(400, std::string(from_name) + " is after " + to_name);
   return {from, to};
 }
 
@@ -184,9 +186,12 @@ void guidance_list(const ServiceParts& p, const Request& req, Response& res) {
   send_json(res, out.dump());
 }
 
+// from/to: valid dates, as verify's --from/--to; issued_from/issued_to:
+// issue dates.
 void verification(const ServiceParts& p, const Request& req, Response& res) {
   const auto [from, to] = date_range(req);
-  send(res, p.verification.answer(from, to, p.worker.generation()));
+  const auto [issued_from, issued_to] = date_range(req, "issued_from", "issued_to");
+  send(res, p.verification.answer({from, to, issued_from, issued_to}, p.worker.generation()));
 }
 
 void post_run(const ServiceParts& p, const Request& req, Response& res) {

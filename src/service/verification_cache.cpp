@@ -1,5 +1,6 @@
 #include "service/verification_cache.hpp"
 
+#include "isohypse/base/calendar.hpp"
 #include "isohypse/base/error.hpp"
 #include "isohypse/stages/verify.hpp"
 
@@ -15,26 +16,32 @@ VerificationCache::VerificationCache(const ServiceConfig& config, const RegimeMo
                                      const GuidanceArchive& archive, std::mutex& netcdf)
     : config_(config), model_(model), archive_(archive), netcdf_(netcdf) {}
 
-HttpAnswer VerificationCache::answer(const std::string& from, const std::string& to, unsigned generation) {
-  const std::vector<std::string> dates = archive_.dates(from, to);
+HttpAnswer VerificationCache::answer(const VerificationRange& range, unsigned generation) {
+  // No issue after the last valid date can have a valid date in the range.
+  std::string last_issue = range.issued_to;
+  if (!range.to.empty() && (last_issue.empty() || range.to < last_issue)) last_issue = range.to;
+  const std::vector<std::string> dates = archive_.dates(range.issued_from, last_issue);
   if (dates.empty())
-    throw HttpError(404, "no guidance issued in " + (from.empty() ? "(start)" : from) + " .. " +
-                             (to.empty() ? "(end)" : to));
-  const std::string key = from + "|" + to + "|" + std::to_string(generation);
+    throw HttpError(404, "no guidance issued between " + (range.issued_from.empty() ? "(start)" : range.issued_from) +
+                             " and " + (last_issue.empty() ? "(end)" : last_issue));
+  const std::string key = range.from + "|" + range.to + "|" + range.issued_from + "|" + range.issued_to + "|" +
+                          std::to_string(generation);
   {
     std::lock_guard lock(mutex_);
     if (auto it = answers_.find(key); it != answers_.end()) return it->second;
   }
-  HttpAnswer result = verify(dates);
+  HttpAnswer result = verify(dates, range);
   std::lock_guard lock(mutex_);
   if (answers_.size() > kMaxAnswers) answers_.clear();
   answers_[key] = result;
   return result;
 }
 
-HttpAnswer VerificationCache::verify(const std::vector<std::string>& dates) {
+HttpAnswer VerificationCache::verify(const std::vector<std::string>& dates, const VerificationRange& range) {
   VerifyConfig vc = config_.verify_options();
   for (const auto& d : dates) vc.guidance.push_back(archive_.path_of(d));
+  if (!range.from.empty()) vc.from = parse_date(range.from, Calendar::ProlepticGregorian, "from");
+  if (!range.to.empty()) vc.to = parse_date(range.to, Calendar::ProlepticGregorian, "to");
   try {
     std::lock_guard lock(netcdf_);
     return {200, verify_guidance(model_, vc).dump()};

@@ -1,6 +1,7 @@
-// GET /api/v1/verification: the archive's guidance for a range of issue
-// dates verified against the observed files (verify_guidance with the
-// service's verify_options), kept per range and archive generation so that
+// GET /api/v1/verification: the archive's guidance verified against the
+// observed files (verify_guidance with the service's verify_options) for a
+// range of VALID dates, as verify's --from/--to, optionally restricted to a
+// range of issue dates; kept per ranges and archive generation so that
 // a page reloaded many times verifies once. An archive that cannot be
 // verified (no observations for its valid dates, guidance of another
 // model) is answered with the status of its error (http_errors.hpp), and
@@ -18,6 +19,12 @@
 
 namespace isohypse {
 
+// The dates asked for, YYYY-MM-DD or "" (open): valid dates (from, to) and
+// issue dates (issued_from, issued_to).
+struct VerificationRange {
+  std::string from, to, issued_from, issued_to;
+};
+
 class VerificationCache {
 public:
   // Keeps references; they must outlive the cache. `netcdf` is the
@@ -25,20 +32,23 @@ public:
   VerificationCache(const ServiceConfig& config, const RegimeModel& model, const GuidanceArchive& archive,
                     std::mutex& netcdf);
 
-  // The report for issue dates in [from, to] (YYYY-MM-DD, "" open) of
-  // archive generation `generation`. Throws HttpError 404 when the archive
-  // holds no guidance in the range. Thread-safe.
-  HttpAnswer answer(const std::string& from, const std::string& to, unsigned generation);
+  // The report for the guidance issued in [issued_from, issued_to] and no
+  // later than `to` (a later issue has no valid date in the range), scored
+  // on valid dates in [from, to], of archive generation `generation`. Throws
+  // HttpError 404 when the archive holds no such issue; verify's "no
+  // guidance valid between" and "no observations between" come back as its
+  // answer (400). Thread-safe.
+  HttpAnswer answer(const VerificationRange& range, unsigned generation);
 
 private:
-  HttpAnswer verify(const std::vector<std::string>& dates);
+  HttpAnswer verify(const std::vector<std::string>& dates, const VerificationRange& range);
 
   const ServiceConfig& config_;
   const RegimeModel& model_;
   const GuidanceArchive& archive_;
   std::mutex& netcdf_;
   std::mutex mutex_;
-  std::map<std::string, HttpAnswer> answers_;  // "from|to|generation" -> answer
+  std::map<std::string, HttpAnswer> answers_;  // "from|to|issued_from|issued_to|generation" -> answer
 };
 
 }  // namespace isohypse

@@ -149,12 +149,21 @@ try:
     check(status == 400, f"from after to: 400 ({status})")
 
     # --- verification against the demo analysis
-    status, rep = server.get_json("/api/v1/verification?from=2025-12-01&to=2025-12-03")
+    status, rep = server.get_json("/api/v1/verification?issued_from=2025-12-01&issued_to=2025-12-03")
     check(status in (200, 400, 422) and isinstance(rep, dict),
           f"verification answers 200, 400 or 422 ({status}: {str(rep)[:200]})")
     check(status == 200, "verification of three issues against the demo analysis succeeds")
+    # from/to are valid dates, as verify's --from/--to (issue 12): one meaning everywhere.
+    status, rep = server.get_json("/api/v1/verification?from=2025-12-10&to=2025-12-12")
+    period = rep.get("period", {}) if isinstance(rep, dict) else {}
+    check(status == 200 and period.get("from", "") >= "2025-12-10" and "2025-12-10" <= period.get("to", "") <= "2025-12-12",
+          f"from/to select valid dates ({status}: {str(rep.get('period', rep))[:200]})")
     status, rep = server.get_json("/api/v1/verification?from=2030-01-01&to=2030-02-01")
-    check(status == 404 and "error" in rep, f"verification of an empty range: 404 ({status})")
+    check(status == 400 and "no guidance valid between 2030-01-01 and 2030-02-01" in rep.get("error", ""),
+          f"valid dates the guidance does not reach: 400 saying which side is empty ({status}: {rep})")
+    status, rep = server.get_json("/api/v1/verification?issued_from=2030-01-01&issued_to=2030-02-01")
+    check(status == 404 and "no guidance issued between" in rep.get("error", ""),
+          f"an issue range with no guidance: 404 ({status}: {rep})")
     status, rep = server.get_json("/api/v1/verification?from=2025-13-01")
     check(status == 400, f"verification with a bad date: 400 ({status})")
 
@@ -262,15 +271,15 @@ try:
         json.dump({"format": "isohypse-guidance", "issue_date": "2025-12-07", "states": [],
                    "provenance": {"model": {"sha256": "0" * 64}}}, f)
     server = Server(tmp, world, model_path)
-    status, rep = server.get_json("/api/v1/verification?from=2025-12-06&to=2025-12-06")
+    status, rep = server.get_json("/api/v1/verification?issued_from=2025-12-06&issued_to=2025-12-06")
     check(status == 422 and "2025-12-06.json" in rep.get("error", "") and list(rep) == ["error"],
           f"verifying a document that is not guidance (DataError): 422 naming the file ({status}: {rep})")
-    status, rep = server.get_json("/api/v1/verification?from=2025-12-07&to=2025-12-07")
+    status, rep = server.get_json("/api/v1/verification?issued_from=2025-12-07&issued_to=2025-12-07")
     check(status == 400 and "another regime model" in rep.get("error", "") and list(rep) == ["error"],
           f"verifying another model's guidance (InputError): 400 ({status}: {rep})")
-    status, again = server.get_json("/api/v1/verification?from=2025-12-07&to=2025-12-07")
+    status, again = server.get_json("/api/v1/verification?issued_from=2025-12-07&issued_to=2025-12-07")
     check(status == 400 and again == rep, "the refusal is the same when asked again (kept with the archive's generation)")
-    status, rep = server.get_json("/api/v1/verification?from=2025-12-01&to=2025-12-03")
+    status, rep = server.get_json("/api/v1/verification?issued_from=2025-12-01&issued_to=2025-12-03")
     check(status == 200 and "windows" in rep, f"the rest of the archive still verifies ({status})")
 finally:
     server.stop()

@@ -144,8 +144,13 @@ r = run([BIN, "derive", "--config", cfg, "--input", f"{world}/reanalysis/*.nc", 
 r = run([BIN, "verify", "--model", other, "--guidance", arch, "--out", os.path.join(tmp, "bad.json")])
 check(r.returncode != 0 and "another regime model" in r.stderr and not os.path.exists(os.path.join(tmp, "bad.json")),
       f"guidance from another regime model: {r.stderr.strip()[:180]}")
+# Which side is empty is said (issue 12): no guidance valid in the period, or no observations for it.
 refused(["--guidance", arch, "--observed", f"{world}/analysis/*.nc", "--from", "2030-01-01", "--to", "2030-02-01"],
-        ["no observations"], "a period without observations")
+        ["no guidance valid between 2030-01-01 and 2030-02-01", "the guidance covers"],
+        "a period with no guidance valid in it")
+last_year = sorted(glob.glob(f"{world}/reanalysis/*.nc"))[-1]
+refused(["--guidance", arch, "--observed", last_year],
+        ["no observations for the valid dates", "cover"], "guidance with no observations for its valid dates")
 
 
 # 5. Bad flags: refused by the option builders or VerifyConfig::validate, exit 2 and one line naming the flag.

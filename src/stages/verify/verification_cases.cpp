@@ -2,6 +2,8 @@
 
 #include <algorithm>
 #include <limits>
+#include <optional>
+#include <string>
 
 #include "isohypse/base/error.hpp"
 
@@ -24,10 +26,26 @@ ObservedDays observed_by_day(const ObservedSequence& observed, std::size_t n_sta
   return by_day;
 }
 
-[[noreturn]] void no_cases(const ObservedSequence& observed, const VerifyConfig& config) {
-  throw InputError("no observations for the valid dates of the guidance" +
-                   std::string(config.from || config.to ? " in the period asked" : "") + " (observations from " +
-                   observed.source +
+// "YYYY-MM-DD" of a day number, or "(open)".
+std::string day_text(std::optional<Date> d) { return d ? to_string(*d) : std::string("(open)"); }
+
+// Why no case was formed: no guidance valid in the period asked, or no
+// observation for the valid dates that are there.
+[[noreturn]] void no_cases(const GuidanceSet& guidance, const ObservedSequence& observed, const VerifyConfig& config,
+                           std::size_t valid_in_period) {
+  const std::string period = "between " + day_text(config.from) + " and " + day_text(config.to);
+  if (valid_in_period == 0) {
+    std::optional<Date> first, last;
+    for (const auto& issue : guidance.issues)
+      for (const DailyGuidance& d : issue.daily) {
+        if (!first || day_number(d.valid) < day_number(*first)) first = d.valid;
+        if (!last || day_number(d.valid) > day_number(*last)) last = d.valid;
+      }
+    throw InputError("no guidance valid " + period + " (the guidance covers " +
+                     (first ? to_string(*first) + " to " + to_string(*last) : std::string("no dates")) + ")");
+  }
+  throw InputError("no observations " + (config.from || config.to ? period : std::string("for the valid dates")) +
+                   " of the guidance (observations from " + observed.source +
                    (observed.dates.empty()
                         ? ": none"
                         : " cover " + to_string(observed.dates.front()) + " to " + to_string(observed.dates.back())) +
@@ -58,10 +76,12 @@ Cases build_cases(const GuidanceSet& guidance, const ObservedSequence& observed,
   const std::int64_t from = config.from ? day_number(*config.from) : std::numeric_limits<std::int64_t>::min();
   const std::int64_t to = config.to ? day_number(*config.to) : std::numeric_limits<std::int64_t>::max();
   Cases cases;
+  std::size_t valid_in_period = 0;
   for (std::size_t g = 0; g < guidance.issues.size(); ++g)
     for (const DailyGuidance& d : guidance.issues[g].daily) {
       const std::int64_t dn = day_number(d.valid);
       if (dn < from || dn > to) continue;
+      ++valid_in_period;
       auto it = by_day.find(dn);
       if (it == by_day.end()) continue;
       if (d.p.n_elem != n_states)
@@ -70,7 +90,7 @@ Cases build_cases(const GuidanceSet& guidance, const ObservedSequence& observed,
       cases.list.push_back({static_cast<int>(g), d.lead, dn, d.valid.month, d.p, d.most_likely, it->second});
       cases.max_lead = std::max(cases.max_lead, d.lead);
     }
-  if (cases.list.empty()) no_cases(observed, config);
+  if (cases.list.empty()) no_cases(guidance, observed, config, valid_in_period);
   auto [first, last] = std::minmax_element(cases.list.begin(), cases.list.end(),
                                            [](const Case& a, const Case& b) { return a.valid < b.valid; });
   cases.first_valid = first->valid;

@@ -58,7 +58,9 @@ std::vector<std::size_t> cases_where(const Cases& cases, Keep keep) {
 // Pairs every daily entry of the guidance whose valid date lies in
 // [config.from, config.to] (either may be absent) with the observed state of
 // that day; days without an observation are left out. Throws InputError when
-// no pair remains (naming the period the observations cover), InternalError
+// no pair remains, saying which side is empty: "no guidance valid between A
+// and B (the guidance covers C to D)" or "no observations between A and B
+// ... (observations from S cover E to F)"; InternalError
 // for an observed label outside 0..n_states-1 or guidance whose probability
 // vectors are not n_states long.
 Cases build_cases(const GuidanceSet& guidance, const ObservedSequence& observed, std::size_t n_states,
