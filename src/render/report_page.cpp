@@ -291,7 +291,7 @@ std::string bias_row(const std::string& label, const json& bias, const States& s
 // Frequency bias by lead window, then by month.
 std::string frequency_bias_table(const json& rep, const States& states) {
   std::ostringstream o;
-  o << "<h2>Frequency bias (forecast / observed days)</h2><table><tr><th>lead days</th>";
+  o << "<h2>Frequency bias (days forecast as the most likely / observed days)</h2><table><tr><th>lead days</th>";
   for (const auto& s : states) o << "<th>" << esc(s) << "</th>";
   o << "</tr>";
   for (const auto& w : rep["windows"]) {

@@ -103,6 +103,25 @@ for j, s in enumerate(states):
 mcb = np.mean([np.sum((ps[i] - np.eye(k + 1)[os_[i]]) ** 2) for i in range(len(issues))])
 check(abs(lead5["multicategory_brier"] - mcb) < 1e-12, f"lead 5 multi-category Brier {lead5['multicategory_brier']:.6f} = numpy {mcb:.6f}")
 
+# Frequency bias (../shared/METHODS.md §6; Wilks 2011): days forecast as the most likely over days observed,
+# per state and window, beside the probability-sum version (expected_days / observed_days).
+for wd in rep["windows"]:
+    leads = range(wd["first_lead_days"], wd["last_lead_days"] + 1)
+    ml = np.array([np.argmax(rand[dates[i + L]]) for i in issues for L in leads if L <= 10])
+    ob = np.array([obs_state[dates[i + L]] for i in issues for L in leads if L <= 10])
+    pr = np.array([rand[dates[i + L]] for i in issues for L in leads if L <= 10])
+    for j, s in enumerate(states):
+        got = wd["frequency_bias"][s]
+        n_fc, n_ob = int(np.sum(ml == j)), int(np.sum(ob == j))
+        want = n_fc / n_ob if n_ob else None
+        same = (got["bias"] is None) if want is None else abs(got["bias"] - want) < 1e-12
+        check(same and got["most_likely_days"] == n_fc and got["observed_days"] == n_ob
+              and abs(got["expected_days"] - pr[:, j].sum()) < 1e-9,
+              f"window {wd['first_lead_days']}-{wd['last_lead_days']}, {s}: bias {got['bias']} = numpy "
+              f"{n_fc}/{n_ob}, expected days {got['expected_days']:.3f}")
+    if wd["last_lead_days"] >= 10:
+        break
+
 # 3. The demo season: classify every third day, verify against the analysis files.
 arch = os.path.join(tmp, "archive")
 os.makedirs(arch)

@@ -98,15 +98,29 @@ json reliability_json(const Cases& cases, const std::vector<std::size_t>& idx, s
 
 json frequency_bias_json(const Cases& cases, const std::vector<std::size_t>& idx,
                          const std::vector<std::string>& states) {
-  arma::vec fc(states.size(), arma::fill::zeros), ob(states.size(), arma::fill::zeros);
+  const auto K = static_cast<int>(states.size());
+  std::vector<int> most_likely, observed;
+  arma::vec expected(states.size(), arma::fill::zeros);
   for (auto i : idx) {
-    fc += cases.list[i].p;
-    ob(cases.list[i].observed) += 1;
+    most_likely.push_back(cases.list[i].most_likely);
+    observed.push_back(cases.list[i].observed);
+    expected += cases.list[i].p;
   }
   json out = json::object();
-  for (std::size_t s = 0; s < states.size(); ++s)
-    out[states[s]] = {
-        {"forecast_days", fc(s)}, {"observed_days", ob(s)}, {"bias", num(ob(s) > 0 ? fc(s) / ob(s) : NAN)}};
+  if (idx.empty()) return out;
+  // The categorical bias of ../shared/METHODS.md §6, B_k = n_k. / n_.k, from
+  // the table of the most likely state against the observed one.
+  const arma::umat table = contingency(most_likely, observed, K);
+  const arma::vec bias = frequency_bias(table);
+  for (int s = 0; s < K; ++s) {
+    const double fc = static_cast<double>(arma::accu(table.row(s)));
+    const double ob = static_cast<double>(arma::accu(table.col(s)));
+    out[states[s]] = {{"most_likely_days", fc},
+                      {"observed_days", ob},
+                      {"bias", num(bias(s))},
+                      {"expected_days", expected(s)},
+                      {"probability_bias", num(ob > 0 ? expected(s) / ob : NAN)}};
+  }
   return out;
 }
 

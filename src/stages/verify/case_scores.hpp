@@ -41,8 +41,12 @@ nlohmann::json state_scores_json(const Cases& cases, const std::vector<std::size
 // Reliability diagram of every state's probabilities pooled, 10 bins.
 nlohmann::json reliability_json(const Cases& cases, const std::vector<std::size_t>& idx, std::size_t n_states);
 
-// Per state: forecast days (summed probabilities), observed days, and their
-// ratio (null where the state was never observed).
+// Per state: most_likely_days (cases whose most likely state it is),
+// observed_days, bias = most_likely_days / observed_days (the categorical
+// frequency bias of ../shared/METHODS.md §6; null where the state is neither
+// forecast nor observed, inf shown as null where forecast but never
+// observed), and beside it expected_days (summed probabilities) with
+// probability_bias = expected_days / observed_days.
 nlohmann::json frequency_bias_json(const Cases& cases, const std::vector<std::size_t>& idx,
                                    const std::vector<std::string>& states);
 
