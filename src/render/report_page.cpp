@@ -187,6 +187,24 @@ std::string page_head(const json& rep) {
   return o.str();
 }
 
+constexpr const char* kMonth[] = {"Jan", "Feb", "Mar", "Apr", "May", "Jun",
+                                   "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"};
+
+// How many observed days of guidance fell outside the model's season and
+// were left out of the scores (older reports have no count: nothing).
+std::string out_of_season_note(const json& rep) {
+  if (!rep.contains("out_of_season") || rep["out_of_season"]["cases"].get<std::size_t>() == 0) return {};
+  std::ostringstream o;
+  o << "<p>Not scored: " << rep["out_of_season"]["cases"] << " pairs valid outside the regime model's season (";
+  bool first = true;
+  for (const auto& [month, n] : rep["out_of_season"]["by_month"].items()) {
+    o << (first ? "" : ", ") << kMonth[std::stoi(month) - 1] << " " << n;
+    first = false;
+  }
+  o << "); the regimes and their frequencies describe the season only.</p>";
+  return o.str();
+}
+
 // The title, the caution and what was verified against what.
 std::string summary_section(const json& rep) {
   std::ostringstream o;
@@ -197,6 +215,7 @@ std::string summary_section(const json& rep) {
     << " forecast-observation pairs; observations from " << esc(rep["observations"]["source"].get<std::string>())
     << ". Intervals: " << fmt(json(100 * rep["bootstrap"]["confidence"].get<double>()), "%.0f")
     << "% block bootstrap over issue dates.</p>";
+  o << out_of_season_note(rep);
   return o.str();
 }
 
@@ -299,7 +318,6 @@ std::string frequency_bias_table(const json& rep, const States& states) {
     label << w["first_lead_days"] << "&ndash;" << w["last_lead_days"];
     o << bias_row(label.str(), w["frequency_bias"], states);
   }
-  static const char* kMonth[] = {"Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"};
   const json& by_month = rep["frequency_bias_by_month"];
   for (int mo : season_months(by_month)) o << bias_row(kMonth[mo - 1], by_month[std::to_string(mo)], states);
   o << "</table>";
@@ -326,7 +344,10 @@ std::string verification_text(const json& rep) {
   char line[200];
   o << "Verification of " << rep["guidance"]["files"] << " guidance issues, valid "
     << rep["period"]["from"].get<std::string>() << " to " << rep["period"]["to"].get<std::string>() << " ("
-    << rep["cases"] << " pairs)\n\nlead days   cases  hit rate  Heidke  Brier skill vs climatology\n";
+    << rep["cases"] << " pairs";
+  if (rep.contains("out_of_season") && rep["out_of_season"]["cases"].get<std::size_t>() > 0)
+    o << "; " << rep["out_of_season"]["cases"] << " pairs outside the model's season not scored";
+  o << ")\n\nlead days   cases  hit rate  Heidke  Brier skill vs climatology\n";
   for (const auto& w : rep["windows"]) {
     auto e = [](const json& i) { return i["estimate"].is_number() ? i["estimate"].get<double>() : NAN; };
     std::snprintf(line, sizeof line, "%3d-%-3d   %7d  %8.2f  %6.2f  %6.2f\n", w["first_lead_days"].get<int>(),

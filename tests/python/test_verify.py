@@ -142,6 +142,10 @@ print("hit rate by window:", hits)
 check(hits[(1, 3)] > hits[(29, 45)] + 0.2, "skill falls with lead as planted (days 1-3 against 29-45)")
 check(rep["episodes"]["caught"] + rep["episodes"]["missed"] >= 1 and rep["episodes"]["caught"] >= 1,
       f"episodes found: {rep['episodes']['caught']} caught, {rep['episodes']['missed']} missed")
+season = set(rep["out_of_season"]["season_months"])
+months = {int(m) for m in rep["frequency_bias_by_month"]}
+check(months <= season, f"only months of the model's season are scored ({sorted(months)} in {sorted(season)}); "
+      f"{rep['out_of_season']['cases']} pairs outside it counted: {rep['out_of_season']['by_month']}")
 page = open(html).read()
 check("<svg" in page and "http" not in page.replace("http://www.w3.org", "") and "never replaces" in page,
       "the HTML page is self-contained (inline SVG, no links out) and carries the caution")

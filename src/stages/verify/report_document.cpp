@@ -74,6 +74,13 @@ json report_document(const RegimeModel& model, const VerifyConfig& config, const
   rep["guidance"] = guidance_json(guidance);
   rep["observations"] = {{"source", observations_source}, {"files", config.observed}};
   rep["cases"] = cases.list.size();
+  json outside = json::object();
+  std::size_t outside_total = 0;
+  for (const auto& [month, n] : cases.out_of_season) {
+    outside[std::to_string(month)] = n;
+    outside_total += n;
+  }
+  rep["out_of_season"] = {{"season_months", model.months}, {"cases", outside_total}, {"by_month", outside}};
   rep["by_lead"] = found.by_lead;
   rep["windows"] = found.windows;
   rep["frequency_bias_by_month"] = found.by_month;

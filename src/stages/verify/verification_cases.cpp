@@ -1,5 +1,7 @@
 #include "stages/verify/verification_cases.hpp"
 
+#include <nlohmann/json.hpp>
+
 #include <algorithm>
 #include <limits>
 #include <optional>
@@ -10,6 +12,8 @@
 namespace isohypse::verification {
 
 namespace {
+
+using json = nlohmann::json;
 
 ObservedDays observed_by_day(const ObservedSequence& observed, std::size_t n_states) {
   if (observed.labels.size() != observed.dates.size())
@@ -71,7 +75,10 @@ StateClimatology state_climatology(const RegimeModel& model) {
 }
 
 Cases build_cases(const GuidanceSet& guidance, const ObservedSequence& observed, std::size_t n_states,
-                  const VerifyConfig& config) {
+                  const VerifyConfig& config, const std::vector<int>& season_months) {
+  auto in_season = [&](int month) {
+    return season_months.empty() || std::find(season_months.begin(), season_months.end(), month) != season_months.end();
+  };
   const ObservedDays by_day = observed_by_day(observed, n_states);
   const std::int64_t from = config.from ? day_number(*config.from) : std::numeric_limits<std::int64_t>::min();
   const std::int64_t to = config.to ? day_number(*config.to) : std::numeric_limits<std::int64_t>::max();
@@ -84,12 +91,22 @@ Cases build_cases(const GuidanceSet& guidance, const ObservedSequence& observed,
       ++valid_in_period;
       auto it = by_day.find(dn);
       if (it == by_day.end()) continue;
+      if (!in_season(d.valid.month)) {
+        ++cases.out_of_season[d.valid.month];
+        continue;
+      }
       if (d.p.n_elem != n_states)
         throw InternalError("verify: " + std::to_string(d.p.n_elem) + " probabilities for " +
                             std::to_string(n_states) + " states in " + guidance.issues[g].file);
       cases.list.push_back({static_cast<int>(g), d.lead, dn, d.valid.month, d.p, d.most_likely, it->second});
       cases.max_lead = std::max(cases.max_lead, d.lead);
     }
+  if (cases.list.empty() && !cases.out_of_season.empty())
+    throw InputError("every observed day of guidance " +
+                     (config.from || config.to ? "between " + day_text(config.from) + " and " + day_text(config.to)
+                                               : std::string("given")) +
+                     " lies outside the regime model's season (" + json(season_months).dump() +
+                     "): nothing to score");
   if (cases.list.empty()) no_cases(guidance, observed, config, valid_in_period);
   auto [first, last] = std::minmax_element(cases.list.begin(), cases.list.end(),
                                            [](const Case& a, const Case& b) { return a.valid < b.valid; });

@@ -44,6 +44,9 @@ struct Cases {
   std::int64_t first_valid = 0; // day numbers of the first and last valid date of a case
   std::int64_t last_valid = 0;
   ObservedDays observed;        // the observed days from first_valid to last_valid
+  // Days of guidance valid in the period and observed, but outside the
+  // model's season: not scored, counted by month of the valid date.
+  std::map<int, std::size_t> out_of_season;
 };
 
 // Indices into cases.list of the cases for which keep(case) holds, in order.
@@ -56,14 +59,17 @@ std::vector<std::size_t> cases_where(const Cases& cases, Keep keep) {
 }
 
 // Pairs every daily entry of the guidance whose valid date lies in
-// [config.from, config.to] (either may be absent) with the observed state of
-// that day; days without an observation are left out. Throws InputError when
+// [config.from, config.to] (either may be absent) and in one of
+// season_months (empty: any month) with the observed state of that day;
+// days without an observation are left out, observed days outside the
+// season counted in out_of_season. Throws InputError when
 // no pair remains, saying which side is empty: "no guidance valid between A
-// and B (the guidance covers C to D)" or "no observations between A and B
-// ... (observations from S cover E to F)"; InternalError
+// and B (the guidance covers C to D)", "no observations between A and B
+// ... (observations from S cover E to F)" or that every observed day lies
+// outside the season; InternalError
 // for an observed label outside 0..n_states-1 or guidance whose probability
 // vectors are not n_states long.
 Cases build_cases(const GuidanceSet& guidance, const ObservedSequence& observed, std::size_t n_states,
-                  const VerifyConfig& config);
+                  const VerifyConfig& config, const std::vector<int>& season_months = {});
 
 }  // namespace isohypse::verification

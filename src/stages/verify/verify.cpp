@@ -52,7 +52,7 @@ nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& con
   const StateClimatology climatology = state_climatology(model);
   const GuidanceSet guidance = load_guidance(model, climatology.states, config.guidance);
   const ObservedSequence observed = observed_labels(model, config);
-  const Cases cases = build_cases(guidance, observed, climatology.states.size(), config);
+  const Cases cases = build_cases(guidance, observed, climatology.states.size(), config, model.months);
   Findings found;
   found.by_lead = scores_by_lead(cases, climatology, config);
   found.windows = scores_by_window(cases, climatology, config);
