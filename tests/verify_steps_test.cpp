@@ -50,27 +50,91 @@ TEST_CASE("verify steps: observed runs end at a change of state or a missing day
   CHECK((runs[2].state == 1 && runs[2].onset == 14 && runs[2].end == 15 && runs[2].days == 2));
 }
 
-TEST_CASE("verify steps: an episode is caught by the longest lead that had it on the onset day") {
-  // R1 observed on days 100..105 (6 days), then R2 on 106..107 (too short), no regime on 108..113.
+namespace {
+
+CatchRule default_rule() { return {0.10, 0.15, two_regimes().frequency}; }
+
+GuidanceSet issues_before(std::int64_t onset, const std::vector<int>& leads) {
+  GuidanceSet g;
+  for (int lead : leads) g.issues.push_back({"issue.json", from_day_number(onset - lead, kReal), {}});
+  return g;
+}
+
+}  // namespace
+
+TEST_CASE("verify steps: an episode is caught by the issues that commit to it on the onset day") {
+  // No regime on days 98..99, R1 on 100..105 (6 days), R2 on 106..107 (too short), no regime on 108..113.
   Cases cases;
-  for (std::int64_t d = 100; d <= 113; ++d) cases.observed[d] = d <= 105 ? 0 : d <= 107 ? 1 : 2;
+  for (std::int64_t d = 98; d <= 113; ++d) cases.observed[d] = d <= 99 ? 2 : d <= 105 ? 0 : d <= 107 ? 1 : 2;
+  const GuidanceSet guidance = issues_before(100, {4, 2, 0});
   cases.list = {a_case(0, 4, 100, 0, 0),   // issue 0 had R1 most likely 4 days ahead of the onset
                 a_case(1, 2, 100, 1, 0),   // issue 1 had R2, with R1 at 0.2: not caught by it
                 a_case(2, 0, 100, 0, 0)};  // lead 0 never counts
-  const Episodes e = find_episodes(two_regime_model(), two_regimes(), cases, 3, 5);
+  const Episodes e = find_episodes(two_regime_model(), two_regimes(), cases, guidance, 5, default_rule());
   REQUIRE(e.list.size() == 1);  // the no-regime run is never an episode, the R2 run is too short
   CHECK(e.caught == 1);
   CHECK(e.missed == 0);
   CHECK(e.list[0]["regime"] == "R1");
   CHECK(e.list[0]["name"] == "trough");
   CHECK(e.list[0]["days"] == 6);
+  CHECK(e.list[0]["issues"] == 2);
   CHECK(e.list[0]["longest_lead_days"] == 4);
+  CHECK(e.list[0]["caught_at"].size() == 1);
+  CHECK(e.list[0]["caught_at"][0]["lead_days"] == 4);
+  // The issue 2 days ahead dropped it: the guidance never committed for good.
+  CHECK(e.list[0]["committed_lead_days"].is_null());
   CHECK(e.list[0]["onset"] == to_string(from_day_number(100, kReal)));
 
   cases.list = {a_case(0, 3, 100, 1, 0)};
-  const Episodes missed = find_episodes(two_regime_model(), two_regimes(), cases, 1, 5);
+  const Episodes missed =
+      find_episodes(two_regime_model(), two_regimes(), cases, issues_before(100, {3}), 5, default_rule());
   CHECK(missed.missed == 1);
   CHECK(missed.list[0]["longest_lead_days"].is_null());
+}
+
+TEST_CASE("verify steps: committed from the longest lead every later issue held") {
+  Cases cases;
+  for (std::int64_t d = 98; d <= 106; ++d) cases.observed[d] = d <= 99 ? 2 : 0;
+  const GuidanceSet guidance = issues_before(100, {6, 5, 3, 1});
+  // Leads 1 and 3 commit to R1, lead 5 does not, lead 6 does: committed from 3, caught at 6, 3 and 1.
+  cases.list = {a_case(0, 6, 100, 0, 0), a_case(1, 5, 100, 1, 0), a_case(2, 3, 100, 0, 0), a_case(3, 1, 100, 0, 0)};
+  const Episodes e = find_episodes(two_regime_model(), two_regimes(), cases, guidance, 5, default_rule());
+  REQUIRE(e.list.size() == 1);
+  CHECK(e.list[0]["committed_lead_days"] == 3);
+  CHECK(e.list[0]["longest_lead_days"] == 6);
+  CHECK(e.list[0]["caught_at"].size() == 3);
+}
+
+TEST_CASE("verify steps: a barely leading or barely above-climatology regime does not catch") {
+  Cases cases;
+  for (std::int64_t d = 98; d <= 106; ++d) cases.observed[d] = d <= 99 ? 2 : 0;
+  Case close = a_case(0, 3, 100, 0, 0);
+  close.p = arma::vec{0.45, 0.40, 0.15};  // ahead of R2 by 0.05 < 0.10
+  cases.list = {close};
+  const GuidanceSet guidance = issues_before(100, {3});
+  CHECK(find_episodes(two_regime_model(), two_regimes(), cases, guidance, 5, default_rule()).missed == 1);
+  cases.list[0].p = arma::vec{0.50, 0.25, 0.25};  // ahead by 0.25, but only 0.10 above its 0.4 frequency
+  CHECK(find_episodes(two_regime_model(), two_regimes(), cases, guidance, 5, default_rule()).missed == 1);
+  cases.list[0].p = arma::vec{0.56, 0.22, 0.22};  // ahead by 0.34 and 0.16 above: caught
+  CHECK(find_episodes(two_regime_model(), two_regimes(), cases, guidance, 5, default_rule()).caught == 1);
+  CatchRule loose = default_rule();
+  loose.margin = 0.0;
+  loose.excess = 0.0;
+  cases.list[0].p = arma::vec{0.45, 0.40, 0.15};
+  CHECK(find_episodes(two_regime_model(), two_regimes(), cases, guidance, 5, loose).caught == 1);
+}
+
+TEST_CASE("verify steps: an episode under way on the first day or before any issue is not scored") {
+  Cases cases;
+  for (std::int64_t d = 100; d <= 120; ++d) cases.observed[d] = d <= 106 ? 0 : d <= 109 ? 2 : 1;
+  // R1 from day 100, the first observed day: its onset may lie before. R2 from day 110, no issue before it.
+  cases.list = {a_case(0, 1, 101, 0, 0)};
+  const GuidanceSet guidance = issues_before(101, {1});
+  const Episodes e = find_episodes(two_regime_model(), two_regimes(), cases, guidance, 5, default_rule());
+  CHECK(e.list.empty());
+  CHECK(e.caught + e.missed == 0);
+  CHECK(e.under_way == 1);
+  CHECK(e.unseen == 1);
 }
 
 TEST_CASE("verify steps: false alarms are counted in full while the list keeps the first 500") {
@@ -81,7 +145,7 @@ TEST_CASE("verify steps: false alarms are counted in full while the list keeps t
     guidance.issues.push_back({"issue.json", from_day_number(1000 + g, kReal), {}});
     for (int lead = 1; lead <= 5; ++lead) cases.list.push_back(a_case(g, lead, 1000 + g + lead, 1, 0));
   }
-  const FalseAlarms f = find_false_alarms(two_regimes(), guidance, cases, 5);
+  const FalseAlarms f = find_false_alarms(two_regimes(), guidance, cases, 5, default_rule());
   CHECK(f.count == 600);
   CHECK(f.list.size() == FalseAlarms::kListed);
   CHECK(f.by_regime == std::vector<int>{0, 600});
@@ -96,11 +160,14 @@ TEST_CASE("verify steps: a forecast run the observations confirm on half its day
   guidance.issues.push_back({"issue.json", from_day_number(1000, kReal), {}});
   Cases cases;
   for (int lead = 1; lead <= 6; ++lead) cases.list.push_back(a_case(0, lead, 1000 + lead, 0, lead <= 3 ? 0 : 1));
-  CHECK(find_false_alarms(two_regimes(), guidance, cases, 5).count == 0);
+  CHECK(find_false_alarms(two_regimes(), guidance, cases, 5, default_rule()).count == 0);
   cases.list[2].observed = 1;  // now confirmed on 2 of 6 days
-  const FalseAlarms f = find_false_alarms(two_regimes(), guidance, cases, 5);
+  const FalseAlarms f = find_false_alarms(two_regimes(), guidance, cases, 5, default_rule());
   CHECK(f.count == 1);
   CHECK(f.list[0]["observed_fraction"].get<double>() == doctest::Approx(2.0 / 6.0));
+  // By the same rule as a catch: a run the issue does not commit to is no alarm.
+  for (auto& c : cases.list) c.p = arma::vec{0.45, 0.40, 0.15};
+  CHECK(find_false_alarms(two_regimes(), guidance, cases, 5, default_rule()).count == 0);
 }
 
 TEST_CASE("verify steps: cases pair guidance with the observed day inside the period asked") {

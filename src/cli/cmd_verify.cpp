@@ -37,6 +37,12 @@ void add_verify(CLI::App& app) {
   add_variable_option(sub, cfg->variable, "Observed files' height");
   sub->add_option("--bootstrap", cfg->bootstrap_resamples, "Bootstrap resamples for the intervals")
       ->capture_default_str();
+  sub->add_option("--catch-margin", cfg->catch_margin,
+                  "An episode is caught (and a false alarm made) only where its regime leads the second state by this")
+      ->capture_default_str();
+  sub->add_option("--catch-excess", cfg->catch_excess,
+                  "... and exceeds its climatological frequency by this")
+      ->capture_default_str();
   sub->callback([cfg, files] {
     cfg->validate();  // before the model is read: a bad flag fails at once
     const RegimeModel model = read_regime_model(files->model);

@@ -262,20 +262,43 @@ std::string chart_sections(const json& rep, const States& states) {
   return o.str();
 }
 
+// The leads at which an episode was caught, "4, 2, 1" (or a dash).
+std::string caught_leads(const json& e) {
+  std::string out;
+  if (e.contains("caught_at"))
+    for (const auto& c : e["caught_at"]) out += (out.empty() ? "" : ", ") + std::to_string(c["lead_days"].get<int>());
+  return out.empty() ? "&ndash;" : out;
+}
+
+std::string lead_or_dash(const json& e, const char* key) {
+  return !e.contains(key) || e[key].is_null() ? "&ndash;" : std::to_string(e[key].get<int>());
+}
+
 std::string episodes_table(const json& rep, const States& states) {
+  const json& ep = rep["episodes"];
   std::ostringstream o;
-  o << "<h2>Episodes of at least " << rep["episodes"]["min_days"] << " days</h2><p>caught "
-    << rep["episodes"]["caught"] << ", missed " << rep["episodes"]["missed"] << ", false alarms "
-    << rep["episodes"]["false_alarms"]
-    << " (caught: the most likely regime, or a probability of at least 0.5, on the onset day)</p>"
-       "<table><tr><th class=\"l\">regime</th><th class=\"l\">onset</th><th class=\"l\">end</th><th>days</th>"
-       "<th>caught</th><th>longest lead (days)</th></tr>";
-  for (const auto& e : rep["episodes"]["list"])
+  o << "<h2>Episodes of at least " << ep["min_days"] << " days</h2><p>caught " << ep["caught"] << ", missed "
+    << ep["missed"] << ", false alarms " << ep["false_alarms"];
+  if (ep.contains("catch_margin"))
+    o << ". An issue catches an episode when, on the onset day, the regime is the most likely, ahead of the "
+         "second state by at least "
+      << fmt(ep["catch_margin"], "%.2f") << " and above its climatological frequency by at least "
+      << fmt(ep["catch_excess"], "%.2f") << "; a false alarm is a run of as many days committed the same way "
+         "that did not happen. Committed: the longest lead from which every later issue caught it.";
+  if (ep.contains("not_scored"))
+    o << " Not scored: " << ep["not_scored"]["under_way_at_start"]
+      << " under way on the first observed day (onset unknown), " << ep["not_scored"]["no_issue_before_onset"]
+      << " with no issue made before the onset.";
+  o << "</p><table><tr><th class=\"l\">regime</th><th class=\"l\">onset</th><th class=\"l\">end</th><th>days</th>"
+       "<th>issues</th><th>caught</th><th>caught at leads (days)</th><th>longest lead</th><th>committed from lead</th>"
+       "</tr>";
+  for (const auto& e : ep["list"])
     o << "<tr><td class=\"l\" style=\"color:" << state_colour(states, e["regime"]) << "\">"
       << esc(e["regime"].get<std::string>()) << " " << esc(e["name"].get<std::string>()) << "</td><td class=\"l\">"
       << e["onset"].get<std::string>() << "</td><td class=\"l\">" << e["end"].get<std::string>() << "</td><td>"
-      << e["days"] << "</td><td>" << (e["caught"].get<bool>() ? "yes" : "no") << "</td><td>"
-      << (e["longest_lead_days"].is_null() ? "&ndash;" : std::to_string(e["longest_lead_days"].get<int>()))
+      << e["days"] << "</td><td>" << (e.contains("issues") ? e["issues"].dump() : "&ndash;") << "</td><td>"
+      << (e["caught"].get<bool>() ? "yes" : "no") << "</td><td>" << caught_leads(e) << "</td><td>"
+      << lead_or_dash(e, "longest_lead_days") << "</td><td>" << lead_or_dash(e, "committed_lead_days")
       << "</td></tr>";
   o << "</table>";
   return o.str();
@@ -356,8 +379,11 @@ std::string verification_text(const json& rep) {
     o << line;
   }
   o << "\nepisodes of " << rep["episodes"]["min_days"] << "+ days: caught " << rep["episodes"]["caught"] << ", missed "
-    << rep["episodes"]["missed"] << "; false alarms " << rep["episodes"]["false_alarms"] << "\n"
-    << rep["caution"].get<std::string>() << "\n";
+    << rep["episodes"]["missed"] << "; false alarms " << rep["episodes"]["false_alarms"];
+  if (rep["episodes"].contains("not_scored"))
+    o << " (not scored: " << rep["episodes"]["not_scored"]["under_way_at_start"] << " under way at the start, "
+      << rep["episodes"]["not_scored"]["no_issue_before_onset"] << " before the first issue)";
+  o << "\n" << rep["caution"].get<std::string>() << "\n";
   return o.str();
 }
 

@@ -28,12 +28,19 @@ struct VerifyConfig {
   int bootstrap_resamples = 1000;
   double confidence = 0.9;
   int min_episode_days = 5;
+  // An issue commits to a regime on a day when it is the most likely state,
+  // ahead of the second by at least catch_margin and above its
+  // climatological frequency by at least catch_excess: the rule for an
+  // episode caught and for a false alarm.
+  double catch_margin = 0.10;
+  double catch_excess = 0.15;
   std::uint64_t seed = kDefaultSeed;
 
   // Throws InputError naming the setting (and its flag) for no guidance
   // path, from after to, fewer than 10 bootstrap resamples, no windows or a
   // window that is not FIRST-LAST with 0 <= FIRST <= LAST, a confidence
-  // outside (0, 1), or min_episode_days below 1.
+  // outside (0, 1), min_episode_days below 1, or catch_margin or catch_excess
+// outside [0, 1].
   void validate() const;
 };
 

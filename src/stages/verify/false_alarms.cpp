@@ -21,19 +21,21 @@ std::vector<std::vector<const Case*>> cases_by_issue(const Cases& cases, std::si
   return by_issue;
 }
 
-// The end (index into seq) of the forecast run starting at seq[i]: consecutive
-// leads with the same most likely state.
-std::size_t forecast_run_end(const std::vector<const Case*>& seq, std::size_t i) {
+// The end (index into seq) of the forecast run starting at seq[i]:
+// consecutive leads on which the issue commits to seq[i]'s most likely
+// state (i itself when it does not commit there).
+std::size_t forecast_run_end(const std::vector<const Case*>& seq, std::size_t i, const CatchRule& rule) {
+  const int r = seq[i]->most_likely;
+  if (!rule.commits(*seq[i], r)) return i;
   std::size_t j = i;
-  while (j + 1 < seq.size() && seq[j + 1]->lead == seq[j]->lead + 1 && seq[j + 1]->most_likely == seq[i]->most_likely)
-    ++j;
+  while (j + 1 < seq.size() && seq[j + 1]->lead == seq[j]->lead + 1 && rule.commits(*seq[j + 1], r)) ++j;
   return j;
 }
 
 }  // namespace
 
 FalseAlarms find_false_alarms(const StateClimatology& climatology, const GuidanceSet& guidance, const Cases& cases,
-                              int min_days) {
+                              int min_days, const CatchRule& rule) {
   const int k = static_cast<int>(climatology.states.size()) - 1;
   FalseAlarms alarms;
   alarms.by_regime.assign(static_cast<std::size_t>(k), 0);
@@ -41,9 +43,9 @@ FalseAlarms find_false_alarms(const StateClimatology& climatology, const Guidanc
   for (std::size_t g = 0; g < by_issue.size(); ++g) {
     const std::vector<const Case*>& seq = by_issue[g];
     for (std::size_t i = 0, j = 0; i < seq.size(); i = j + 1) {
-      j = forecast_run_end(seq, i);
+      j = forecast_run_end(seq, i, rule);
       const int r = seq[i]->most_likely, len = static_cast<int>(j - i + 1);
-      if (r >= k || len < min_days) continue;
+      if (r >= k || len < min_days || !rule.commits(*seq[i], r)) continue;
       int match = 0;
       for (std::size_t q = i; q <= j; ++q) match += seq[q]->observed == r;
       if (2 * match >= len) continue;

@@ -32,10 +32,14 @@ json guidance_json(const GuidanceSet& guidance) {
           {"last_issue", to_string(*std::max_element(issues.begin(), issues.end()))}};
 }
 
-json episodes_json(const Findings& found, int min_days) {
-  return {{"min_days", min_days},
+json episodes_json(const Findings& found, const VerifyConfig& config) {
+  return {{"min_days", config.min_episode_days},
+          {"catch_margin", config.catch_margin},
+          {"catch_excess", config.catch_excess},
           {"caught", found.episodes.caught},
           {"missed", found.episodes.missed},
+          {"not_scored", {{"under_way_at_start", found.episodes.under_way},
+                          {"no_issue_before_onset", found.episodes.unseen}}},
           {"list", found.episodes.list},
           {"false_alarms", found.false_alarms.count},
           {"false_alarm_list", found.false_alarms.list}};
@@ -84,7 +88,7 @@ json report_document(const RegimeModel& model, const VerifyConfig& config, const
   rep["by_lead"] = found.by_lead;
   rep["windows"] = found.windows;
   rep["frequency_bias_by_month"] = found.by_month;
-  rep["episodes"] = episodes_json(found, config.min_episode_days);
+  rep["episodes"] = episodes_json(found, config);
   rep["sequence"] = sequence_json(climatology, guidance, cases);
   rep["bootstrap"] = {{"resamples", config.bootstrap_resamples}, {"confidence", config.confidence},
                       {"blocks", "initialisation (issue) dates"}, {"seed", config.seed}};

@@ -44,6 +44,10 @@ void VerifyConfig::validate() const {
     bad_setting("confidence " + std::to_string(confidence) + " must lie between 0 and 1 (exclusive)");
   if (min_episode_days < 1)
     bad_setting("min_episode_days " + std::to_string(min_episode_days) + ": an episode lasts at least 1 day");
+  if (!(catch_margin >= 0 && catch_margin <= 1))
+    bad_setting("catch_margin " + std::to_string(catch_margin) + " must lie in 0..1 (--catch-margin)");
+  if (!(catch_excess >= 0 && catch_excess <= 1))
+    bad_setting("catch_excess " + std::to_string(catch_excess) + " must lie in 0..1 (--catch-excess)");
 }
 
 nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& config) {
@@ -57,8 +61,9 @@ nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& con
   found.by_lead = scores_by_lead(cases, climatology, config);
   found.windows = scores_by_window(cases, climatology, config);
   found.by_month = frequency_bias_by_month(cases, climatology.states);
-  found.episodes = find_episodes(model, climatology, cases, guidance.issues.size(), config.min_episode_days);
-  found.false_alarms = find_false_alarms(climatology, guidance, cases, config.min_episode_days);
+  const CatchRule rule{config.catch_margin, config.catch_excess, climatology.frequency};
+  found.episodes = find_episodes(model, climatology, cases, guidance, config.min_episode_days, rule);
+  found.false_alarms = find_false_alarms(climatology, guidance, cases, config.min_episode_days, rule);
   return report_document(model, config, climatology, guidance, observed.source, cases, found);
 }
 
