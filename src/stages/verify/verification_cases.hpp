@@ -35,6 +35,7 @@ struct Case {
   arma::vec p;             // probability of each state
   int most_likely = 0;
   int observed = 0;
+  std::int64_t issue_day = 0;  // day number of the issue date, real calendar (the bootstrap's blocks)
 };
 
 // Every pair, and the period they cover.
@@ -44,6 +45,7 @@ struct Cases {
   std::int64_t first_valid = 0; // day numbers of the first and last valid date of a case
   std::int64_t last_valid = 0;
   ObservedDays observed;        // the observed days from first_valid to last_valid
+  int lag_span_days = 1;        // the longest lag span of the issues (GuidanceIssue::lag_span_days)
 };
 
 // Indices into cases.list of the cases for which keep(case) holds, in order.
