@@ -2,7 +2,7 @@
 //   check the config | load guidance (same regime model) | observed labels
 //   (files or the model's record) | build cases (issue date, lead,
 //   probabilities, observed) | score by lead | score by window, with
-//   bootstrap intervals | frequency bias by month | find episodes (caught,
+//   intervals from moving blocks of consecutive issue dates | frequency bias by month | find episodes (caught,
 //   missed) | find false alarms | report JSON [| HTML: render/report_page.hpp]
 // Scores follow Wilks (2011), Statistical Methods in the Atmospheric
 // Sciences, 3rd ed.; see scores.hpp for each formula's source.
