@@ -75,7 +75,7 @@ BlockInterval moving_block_bootstrap(
   BlockInterval out{{statistic(all), kNaN, kNaN, 0}, block_days, static_cast<std::size_t>(period_days / block_days),
                     ""};
   if (out.blocks < kMinBootstrapBlocks) {
-    out.note = "no interval: the period of " + std::to_string(period_days) + " issue days holds " +
+    out.note = "no interval: the issue dates span " + std::to_string(period_days) + " days, which hold " +
                std::to_string(out.blocks) + " block(s) of " + std::to_string(block_days) + " days, fewer than " +
                std::to_string(kMinBootstrapBlocks);
     return out;

@@ -189,9 +189,15 @@ ages = [i["age_days"] for f in sorted(os.listdir(arch))
 span = max(ages) - min(ages) + 1
 rep = json.load(open(os.path.join(tmp, "season.json")))
 intervals = [wd[s] for wd in rep["windows"] for s in ("hit_rate", "heidke", "multicategory_brier_skill")]
+import datetime
+issued = [datetime.date.fromisoformat(f[:10]) for f in sorted(os.listdir(arch))]
+period = (max(issued) - min(issued)).days + 1
+blocks = period // (span + 7)
 check(rep["bootstrap"]["lag_span_days"] == span and rep["bootstrap"]["block_days"] == "lag+7"
-      and all(i["block_days"] == span + 7 and i["blocks"] >= 3 for i in intervals),
-      f"season: every interval from blocks of the lag span {span} + 7 days ({intervals[0]})")
+      and all(i["block_days"] == span + 7 and i["blocks"] == blocks for i in intervals)
+      and all((i["lower"] is None and "fewer than 3" in i["note"]) == (blocks < 3) for i in intervals),
+      f"season, issue dates spanning {period} days: every interval from {blocks} blocks of the lag span {span} + 7 days, "
+      f"none below 3 ({intervals[0]})")
 check(f"{span + 7}-day blocks" in open(os.path.join(tmp, "season.html")).read(), "the page shows the block length")
 out, html = os.path.join(tmp, "long-blocks.json"), os.path.join(tmp, "long-blocks.html")
 r = run([BIN, "verify", "--model", model, "--guidance", arch, "--observed", f"{world}/analysis/*.nc", "--out", out,
