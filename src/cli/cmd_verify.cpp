@@ -43,6 +43,10 @@ void add_verify(CLI::App& app) {
   sub->add_option("--catch-excess", cfg->catch_excess,
                   "... and exceeds its climatological frequency by this")
       ->capture_default_str();
+  sub->add_option_function<std::string>(
+         "--block-days", [cfg](const std::string& text) { cfg->block_length = BlockLength::parse(text); },
+         "Interval blocks: N consecutive days of issue dates, or 'auto' (Wilks 1997); default the lag span + 7")
+      ->type_name("N|auto");
   sub->callback([cfg, files] {
     cfg->validate();  // before the model is read: a bad flag fails at once
     const RegimeModel model = read_regime_model(files->model);

@@ -9,9 +9,13 @@
 #include <string>
 
 #include "isohypse/base/error.hpp"
+#include "numerics/resampling.hpp"
 
 namespace isohypse {
 namespace {
+
+using resampling::sorted_quantile;
+using resampling::uniform_below;
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
@@ -72,26 +76,6 @@ std::size_t bin_of(double x, const arma::vec& edges) {
   const auto it = std::upper_bound(edges.begin(), edges.end(), x);
   const auto i = static_cast<std::size_t>(it - edges.begin());
   return std::min<std::size_t>(i == 0 ? 0 : i - 1, edges.n_elem - 2);
-}
-
-// Uniform integer in [0, n) by rejection: unbiased, and unlike
-// std::uniform_int_distribution the same on every standard library.
-std::uint64_t uniform_below(std::mt19937_64& rng, std::uint64_t n) {
-  const std::uint64_t limit = std::numeric_limits<std::uint64_t>::max() - std::numeric_limits<std::uint64_t>::max() % n;
-  std::uint64_t u;
-  do {
-    u = rng();
-  } while (u >= limit);
-  return u % n;
-}
-
-// Quantile of sorted values with linear interpolation (Hyndman & Fan 1996
-// type 7, numpy's default).
-double sorted_quantile(const std::vector<double>& sorted, double q) {
-  const double h = q * static_cast<double>(sorted.size() - 1);
-  const auto lo = static_cast<std::size_t>(std::floor(h));
-  const std::size_t hi = std::min(lo + 1, sorted.size() - 1);
-  return sorted[lo] + (h - static_cast<double>(lo)) * (sorted[hi] - sorted[lo]);
 }
 
 }  // namespace

@@ -30,8 +30,36 @@ std::string fmt(const json& v, const char* f = "%.2f") {
   return b;
 }
 
+// The estimate, its interval and the block length it rests on; the reason
+// when no interval could be given (fewer than 3 blocks in the period).
 std::string interval_text(const json& i) {
-  return fmt(i["estimate"]) + " <small>(" + fmt(i["lower"]) + " to " + fmt(i["upper"]) + ")</small>";
+  const std::string blocks = i.contains("block_days") ? std::to_string(i["block_days"].get<int>()) + "-day blocks" : "";
+  if (i.contains("note") && !i["lower"].is_number())
+    return fmt(i["estimate"]) + " <small title=\"" + esc(i["note"].get<std::string>()) +
+           "\">(no interval: fewer than 3 " + blocks + " in the period)</small>";
+  return fmt(i["estimate"]) + " <small>(" + fmt(i["lower"]) + " to " + fmt(i["upper"]) +
+         (blocks.empty() ? "" : "; " + blocks) + ")</small>";
+}
+
+// How the intervals were made, with the block lengths of the window
+// intervals (one length, or the range when "auto" chose one per interval).
+std::string block_summary(const json& rep) {
+  const json& b = rep["bootstrap"];
+  int shortest = 0, longest = 0;
+  for (const auto& w : rep["windows"])
+    for (const char* score : {"hit_rate", "heidke", "multicategory_brier_skill"}) {
+      const int days = w[score].value("block_days", 0);
+      shortest = shortest == 0 ? days : std::min(shortest, days);
+      longest = std::max(longest, days);
+    }
+  const std::string rule = b.value("block_days", std::string());
+  std::string text = "moving-block bootstrap over consecutive issue dates (Kuensch 1989)";
+  if (longest > 0)
+    text += ", blocks of " + std::to_string(shortest) + (longest > shortest ? "-" + std::to_string(longest) : "") +
+            " days";
+  if (rule == "lag+7") text += " (lag span " + std::to_string(b.value("lag_span_days", 0)) + " days + 7)";
+  if (rule == "auto") text += " (Wilks 1997, from the lag-1 autocorrelation of the per-issue hit rate)";
+  return text + "; no interval with fewer than " + std::to_string(b.value("min_blocks", 3)) + " blocks in the period";
 }
 
 // A line chart of series y(x); y may be null.
@@ -214,7 +242,7 @@ std::string summary_section(const json& rep) {
     << " to " << rep["guidance"]["last_issue"].get<std::string>() << "); " << rep["cases"]
     << " forecast-observation pairs; observations from " << esc(rep["observations"]["source"].get<std::string>())
     << ". Intervals: " << fmt(json(100 * rep["bootstrap"]["confidence"].get<double>()), "%.0f")
-    << "% block bootstrap over issue dates.</p>";
+    << "% " << esc(block_summary(rep)) << ".</p>";
   o << out_of_season_note(rep);
   return o.str();
 }
@@ -378,6 +406,8 @@ std::string verification_text(const json& rep) {
                   e(w["multicategory_brier_skill"]));
     o << line;
   }
+  o << "intervals (" << 100 * rep["bootstrap"]["confidence"].get<double>() << " %) in the report: " << block_summary(rep)
+    << "\n";
   o << "\nepisodes of " << rep["episodes"]["min_days"] << "+ days: caught " << rep["episodes"]["caught"] << ", missed "
     << rep["episodes"]["missed"] << "; false alarms " << rep["episodes"]["false_alarms"];
   if (rep["episodes"].contains("not_scored"))

@@ -209,4 +209,42 @@ string_p = os.path.join(bad, "string-probability.json")
 json.dump(doc, open(string_p, "w"))
 refused_with(["--guidance", string_p], 3, [string_p, "daily[2]", f"probability of '{states[0]}' is a string"],
              "a probability that is a string")
+
+# 7. Intervals from moving blocks of consecutive issue dates (Kuensch 1989): blocks of the lag span + 7 days by
+#    default, the block length and count beside every interval and on the page; no interval below 3 blocks.
+ages = [i["age_days"] for f in sorted(os.listdir(arch))
+        for i in json.load(open(os.path.join(arch, f)))["ensemble"]["initialisations"]]
+span = max(ages) - min(ages) + 1
+rep = json.load(open(os.path.join(tmp, "season.json")))
+intervals = [wd[s] for wd in rep["windows"] for s in ("hit_rate", "heidke", "multicategory_brier_skill")]
+import datetime
+issued = [datetime.date.fromisoformat(f[:10]) for f in sorted(os.listdir(arch))]
+period = (max(issued) - min(issued)).days + 1
+blocks = period // (span + 7)
+check(rep["bootstrap"]["lag_span_days"] == span and rep["bootstrap"]["block_days"] == "lag+7"
+      and all(i["block_days"] == span + 7 and i["blocks"] == blocks for i in intervals)
+      and all((i["lower"] is None and "fewer than 3" in i["note"]) == (blocks < 3) for i in intervals),
+      f"season, issue dates spanning {period} days: every interval from {blocks} blocks of the lag span {span} + 7 days, "
+      f"none below 3 ({intervals[0]})")
+check(f"{span + 7}-day blocks" in open(os.path.join(tmp, "season.html")).read(), "the page shows the block length")
+out, html = os.path.join(tmp, "long-blocks.json"), os.path.join(tmp, "long-blocks.html")
+r = run([BIN, "verify", "--model", model, "--guidance", arch, "--observed", f"{world}/analysis/*.nc", "--out", out,
+         "--html", html, "--bootstrap", "50", "--block-days", "400"])
+rep = json.load(open(out))
+w = rep["windows"][0]["hit_rate"]
+check(r.returncode == 0 and w["lower"] is None and w["upper"] is None and "fewer than 3" in w["note"]
+      and "no interval" in open(html).read(), f"blocks of 400 days: no interval, and the report says why ({w})")
+r = run([BIN, "verify", "--model", model, "--guidance", arch, "--observed", f"{world}/analysis/*.nc", "--out", out,
+         "--bootstrap", "50", "--block-days", "auto"])
+rep = json.load(open(out))
+check(r.returncode == 0 and rep["bootstrap"]["block_days"] == "auto"
+      and all(wd["hit_rate"]["block_days"] >= 1 for wd in rep["windows"]),
+      f"--block-days auto: a Wilks length per interval ({[wd['hit_rate']['block_days'] for wd in rep['windows']]})")
+refused_with(["--guidance", arch, "--block-days", "0"], 2, ["--block-days", "'0'"], "a block length of 0 days")
+doc = json.loads(good_text)
+doc["ensemble"]["initialisations"][0]["age_days"] = "two"
+bad_age = os.path.join(bad, "string-age.json")
+json.dump(doc, open(bad_age, "w"))
+refused_with(["--guidance", bad_age], 3, [bad_age, "ensemble.initialisations[0]: age_days is a string"],
+             "an initialisation age that is a string")
 finish()

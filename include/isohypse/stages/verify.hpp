@@ -2,7 +2,7 @@
 //   check the config | load guidance (same regime model) | observed labels
 //   (files or the model's record) | build cases (issue date, lead,
 //   probabilities, observed) | score by lead | score by window, with
-//   bootstrap intervals | frequency bias by month | find episodes (caught,
+//   intervals from moving blocks of consecutive issue dates | frequency bias by month | find episodes (caught,
 //   missed) | find false alarms | report JSON [| HTML: render/report_page.hpp]
 // Scores follow Wilks (2011), Statistical Methods in the Atmospheric
 // Sciences, 3rd ed.; see scores.hpp for each formula's source.
@@ -19,6 +19,18 @@
 
 namespace isohypse {
 
+// Block length of the moving-block bootstrap over consecutive issue dates
+// behind every interval (numerics/block_bootstrap.hpp, Kuensch 1989).
+struct BlockLength {
+  bool automatic = false;  // Wilks (1997) from the lag-1 autocorrelation of each interval's per-issue hit rate
+  int days = 0;            // > 0: blocks of this many days; 0 (not automatic): the guidance's lag span + 7 days
+  // "N" (a whole number of days >= 1) or "auto". Throws InputError naming
+  // --block-days for anything else.
+  static BlockLength parse(const std::string& text);
+  // "N", "auto" or "lag+7".
+  std::string to_string() const;
+};
+
 struct VerifyConfig {
   std::vector<std::string> guidance;   // JSON files, folders (every *.json inside) or globs
   std::vector<std::string> observed;   // analysis/reanalysis files; empty: the model's own record
@@ -27,6 +39,7 @@ struct VerifyConfig {
   std::vector<LeadWindow> windows = default_windows();
   int bootstrap_resamples = 1000;
   double confidence = 0.9;
+  BlockLength block_length;            // default: lag span + 7 days
   int min_episode_days = 5;
   // An issue commits to a regime on a day when it is the most likely state,
   // ahead of the second by at least catch_margin and above its
@@ -37,7 +50,8 @@ struct VerifyConfig {
   std::uint64_t seed = kDefaultSeed;
 
   // Throws InputError naming the setting (and its flag) for no guidance
-  // path, from after to, fewer than 10 bootstrap resamples, no windows or a
+  // path, from after to, fewer than 10 bootstrap resamples, a negative block
+  // length, no windows or a
   // window that is not FIRST-LAST with 0 <= FIRST <= LAST, a confidence
   // outside (0, 1), min_episode_days below 1, or catch_margin or catch_excess
 // outside [0, 1].

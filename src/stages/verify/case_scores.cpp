@@ -1,7 +1,10 @@
 #include "stages/verify/case_scores.hpp"
 
+#include <map>
+
 #include "isohypse/base/error.hpp"
 #include "isohypse/base/vocabulary.hpp"
+#include "isohypse/numerics/block_bootstrap.hpp"
 #include "isohypse/numerics/scores.hpp"
 
 namespace isohypse::verification {
@@ -12,11 +15,32 @@ using json = nlohmann::json;
 
 json num(double x) { return number_or_null(x); }
 
-// The issue of each case: the bootstrap's blocks (leads of one issue are correlated).
-std::vector<int> issue_blocks(const Cases& cases, const std::vector<std::size_t>& idx) {
-  std::vector<int> blocks;
-  for (auto i : idx) blocks.push_back(cases.list[i].issue);
-  return blocks;
+// The issue day of each case: its cases travel together in the bootstrap's blocks.
+std::vector<std::int64_t> issue_days(const Cases& cases, const std::vector<std::size_t>& idx) {
+  std::vector<std::int64_t> days;
+  for (auto i : idx) days.push_back(cases.list[i].issue_day);
+  return days;
+}
+
+// Block length in days for the cases idx: as configured, the lag span + 7
+// by default (overlapping issues share initialisations for the span, and a
+// week more keeps the flow's own persistence), or Wilks (1997) from the
+// per-issue hit rate, which is defined for every issue with a case.
+int block_days_for(const Cases& cases, const std::vector<std::size_t>& idx, const BlockLength& rule) {
+  if (!rule.automatic) return rule.days > 0 ? rule.days : cases.lag_span_days + 7;
+  std::map<std::int64_t, std::pair<double, double>> hits_of_day;  // hits, cases
+  for (auto i : idx) {
+    auto& [hits, n] = hits_of_day[cases.list[i].issue_day];
+    hits += cases.list[i].most_likely == cases.list[i].observed;
+    n += 1;
+  }
+  std::vector<std::int64_t> days;
+  std::vector<double> rate;
+  for (const auto& [day, hn] : hits_of_day) {
+    days.push_back(day);
+    rate.push_back(hn.first / hn.second);
+  }
+  return wilks_block_days(days, rate);
 }
 
 }  // namespace
@@ -55,9 +79,12 @@ json headline_interval(const Cases& cases, const std::vector<std::size_t>& idx, 
     HeadlineScores b = headline_scores(cases, sub, climatology);
     return which == Headline::HitRate ? b.hit_rate : which == Headline::Heidke ? b.heidke : b.brier_skill;
   };
-  Interval ci = block_bootstrap(issue_blocks(cases, idx), statistic, config.bootstrap_resamples, config.confidence,
-                                config.seed);
-  return json{{"estimate", num(ci.estimate)}, {"lower", num(ci.lower)}, {"upper", num(ci.upper)}};
+  const BlockInterval ci = moving_block_bootstrap(issue_days(cases, idx), block_days_for(cases, idx, config.block_length),
+                                                  statistic, config.bootstrap_resamples, config.confidence, config.seed);
+  json out{{"estimate", num(ci.interval.estimate)}, {"lower", num(ci.interval.lower)},
+           {"upper", num(ci.interval.upper)}, {"block_days", ci.block_days}, {"blocks", ci.blocks}};
+  if (!ci.note.empty()) out["note"] = ci.note;
+  return out;
 }
 
 json state_scores_json(const Cases& cases, const std::vector<std::size_t>& idx, const StateClimatology& climatology) {

@@ -102,6 +102,27 @@ DailyGuidance parse_daily(const json& e, std::size_t index, const std::string& f
   return d;
 }
 
+// Days spanned by ensemble.initialisations[].age_days (the moving-block
+// bootstrap's default block is this span + 7); 1 when no ensemble is listed.
+int lag_span_value(const json& g, const std::string& file) {
+  const json::json_pointer at("/ensemble/initialisations");
+  if (!g.contains(at)) return 1;
+  const json& inits = g.at(at);
+  if (!inits.is_array()) bad_guidance(file, "ensemble.initialisations is " + type_of(inits) + ", not a list");
+  int oldest = 0, newest = 0;
+  for (std::size_t i = 0; i < inits.size(); ++i) {
+    const std::string owner = "ensemble.initialisations[" + std::to_string(i) + "]";
+    if (!inits[i].is_object()) bad_guidance(file, owner + " is " + type_of(inits[i]) + ", not an object");
+    const json& age = member(inits[i], "age_days", file, owner);
+    if (!age.is_number() || std::floor(age.get<double>()) != age.get<double>() || std::abs(age.get<double>()) > 1e6)
+      bad_guidance(file, owner + ": age_days is " + (age.is_number() ? age.dump() : type_of(age)) +
+                             ", not a whole number");
+    oldest = i == 0 ? age.get<int>() : std::max(oldest, age.get<int>());
+    newest = i == 0 ? age.get<int>() : std::min(newest, age.get<int>());
+  }
+  return inits.empty() ? 1 : oldest - newest + 1;
+}
+
 GuidanceIssue parse_issue(const json& g, const std::string& file, const std::vector<std::string>& states) {
   GuidanceIssue issue;
   issue.file = file;
@@ -109,6 +130,7 @@ GuidanceIssue parse_issue(const json& g, const std::string& file, const std::vec
   auto daily = g.find("daily");
   if (daily == g.end() || !daily->is_array()) bad_guidance(file, "guidance has no 'daily' list");
   for (std::size_t i = 0; i < daily->size(); ++i) issue.daily.push_back(parse_daily((*daily)[i], i, file, states));
+  issue.lag_span_days = lag_span_value(g, file);
   return issue;
 }
 

@@ -25,6 +25,10 @@ struct GuidanceIssue {
   std::string file;
   Date issue;                        // issue date, real calendar
   std::vector<DailyGuidance> daily;  // in the file's order
+  // Days spanned by the lagged ensemble's initialisations (oldest to newest,
+  // both counted: lag 3 of daily runs spans 3 days); 1 when the file does not
+  // list its ensemble.
+  int lag_span_days = 1;
 };
 
 // The archive verified: one issue per file, in the order the files were named
@@ -43,7 +47,8 @@ std::vector<std::string> guidance_files(const std::vector<std::string>& paths);
 // states; DataError naming the file for a file that is not valid JSON ("not
 // valid JSON at byte N"), not isohypse guidance, or lacks a required key or
 // holds a value of the wrong type ("guidance has no 'daily' list", "daily[3]:
-// probability of 'R1' is a string, not a number").
+// probability of 'R1' is a string, not a number", "ensemble.initialisations[1]:
+// age_days is a string, not a whole number").
 GuidanceSet load_guidance(const RegimeModel& model, const std::vector<std::string>& states,
                           const std::vector<std::string>& paths);
 

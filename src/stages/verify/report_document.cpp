@@ -5,6 +5,7 @@
 #include "isohypse/base/calendar.hpp"
 #include "isohypse/base/error.hpp"
 #include "isohypse/base/vocabulary.hpp"
+#include "isohypse/numerics/block_bootstrap.hpp"
 
 namespace isohypse::verification {
 
@@ -59,6 +60,17 @@ json sequence_json(const StateClimatology& climatology, const GuidanceSet& guida
   return {{"observed", observed}, {"guidance", most_likely}};
 }
 
+// How the intervals were made; each interval carries its own block_days and blocks.
+json bootstrap_json(const VerifyConfig& config, const Cases& cases) {
+  return {{"resamples", config.bootstrap_resamples},
+          {"confidence", config.confidence},
+          {"blocks", "moving blocks of consecutive issue dates (Kuensch 1989)"},
+          {"block_days", config.block_length.to_string()},
+          {"lag_span_days", cases.lag_span_days},
+          {"min_blocks", kMinBootstrapBlocks},
+          {"seed", config.seed}};
+}
+
 }  // namespace
 
 json report_document(const RegimeModel& model, const VerifyConfig& config, const StateClimatology& climatology,
@@ -90,8 +102,7 @@ json report_document(const RegimeModel& model, const VerifyConfig& config, const
   rep["frequency_bias_by_month"] = found.by_month;
   rep["episodes"] = episodes_json(found, config);
   rep["sequence"] = sequence_json(climatology, guidance, cases);
-  rep["bootstrap"] = {{"resamples", config.bootstrap_resamples}, {"confidence", config.confidence},
-                      {"blocks", "initialisation (issue) dates"}, {"seed", config.seed}};
+  rep["bootstrap"] = bootstrap_json(config, cases);
   rep["provenance"] = {{"tool", "isohypse"}, {"version", ISOHYPSE_VERSION}, {"created", utc_timestamp_now()},
                        {"model", {{"path", model.path}, {"sha256", model.sha256}}}};
   return rep;

@@ -35,6 +35,7 @@ struct Case {
   arma::vec p;             // probability of each state
   int most_likely = 0;
   int observed = 0;
+  std::int64_t issue_day = 0;  // day number of the issue date, real calendar (the bootstrap's blocks)
 };
 
 // Every pair, and the period they cover.
@@ -47,6 +48,7 @@ struct Cases {
   // Days of guidance valid in the period and observed, but outside the
   // model's season: not scored, counted by month of the valid date.
   std::map<int, std::size_t> out_of_season;
+  int lag_span_days = 1;        // the longest lag span of the issues (GuidanceIssue::lag_span_days)
 };
 
 // Indices into cases.list of the cases for which keep(case) holds, in order.

@@ -28,6 +28,18 @@ ObservedSequence observed_labels(const RegimeModel& model, const VerifyConfig& c
 
 }  // namespace
 
+BlockLength BlockLength::parse(const std::string& text) {
+  if (text == "auto") return {true, 0};
+  const bool whole = !text.empty() && text.size() <= 6 && text.find_first_not_of("0123456789") == std::string::npos;
+  if (!whole || std::stoi(text) < 1)
+    bad_setting("block length '" + text + "' (--block-days) must be a whole number of days >= 1 or 'auto'");
+  return {false, std::stoi(text)};
+}
+
+std::string BlockLength::to_string() const {
+  return automatic ? "auto" : days > 0 ? std::to_string(days) : "lag+7";
+}
+
 void VerifyConfig::validate() const {
   if (guidance.empty()) bad_setting("guidance: no guidance files, folders or globs given (--guidance)");
   if (from && to && days_between(*from, *to) < 0)
@@ -35,6 +47,8 @@ void VerifyConfig::validate() const {
   if (bootstrap_resamples < 10)
     bad_setting("bootstrap_resamples " + std::to_string(bootstrap_resamples) +
                 ": at least 10 are needed (--bootstrap)");
+  if (block_length.days < 0)
+    bad_setting("block length " + std::to_string(block_length.days) + " days: at least 1 (--block-days)");
   if (windows.empty()) bad_setting("windows: no lead windows (--windows)");
   for (const auto& [first, last] : windows)
     if (first < 0 || last < first)
