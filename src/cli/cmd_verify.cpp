@@ -37,6 +37,9 @@ void add_verify(CLI::App& app) {
   add_variable_option(sub, cfg->variable, "Observed files' height");
   sub->add_option("--bootstrap", cfg->bootstrap_resamples, "Bootstrap resamples for the intervals")
       ->capture_default_str();
+  sub->add_option("--bins", cfg->reliability_bins,
+                  "Fixed-width probability bins for the Brier decomposition and the reliability diagram (at least 2)")
+      ->capture_default_str();
   sub->callback([cfg, files] {
     cfg->validate();  // before the model is read: a bad flag fails at once
     const RegimeModel model = read_regime_model(files->model);

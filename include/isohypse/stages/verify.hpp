@@ -28,12 +28,17 @@ struct VerifyConfig {
   int bootstrap_resamples = 1000;
   double confidence = 0.9;
   int min_episode_days = 5;
+  // Bins of fixed width 1 / reliability_bins over [0, 1] for the Brier
+  // decomposition (five terms, Stephenson et al. 2008) and the reliability
+  // diagram with its consistency bars (Broecker & Smith 2007).
+  int reliability_bins = 10;
   std::uint64_t seed = kDefaultSeed;
 
   // Throws InputError naming the setting (and its flag) for no guidance
   // path, from after to, fewer than 10 bootstrap resamples, no windows or a
   // window that is not FIRST-LAST with 0 <= FIRST <= LAST, a confidence
-  // outside (0, 1), or min_episode_days below 1.
+  // outside (0, 1), min_episode_days below 1, or reliability_bins below 2
+  // (--bins).
   void validate() const;
 };
 

@@ -5,6 +5,7 @@
 #include "isohypse/base/calendar.hpp"
 #include "isohypse/base/error.hpp"
 #include "isohypse/base/vocabulary.hpp"
+#include "stages/verify/case_scores.hpp"
 
 namespace isohypse::verification {
 
@@ -79,6 +80,10 @@ json report_document(const RegimeModel& model, const VerifyConfig& config, const
   rep["frequency_bias_by_month"] = found.by_month;
   rep["episodes"] = episodes_json(found, config.min_episode_days);
   rep["sequence"] = sequence_json(climatology, guidance, cases);
+  rep["reliability"] = {{"bins", config.reliability_bins},
+                        {"decomposition", "BS = REL - RES + UNC + WBV - WBC (Stephenson, Coelho & Jolliffe 2008)"},
+                        {"consistency_bars", {{"resamples", kConsistencyResamples}, {"level", config.confidence},
+                                              {"source", "Broecker & Smith 2007"}}}};
   rep["bootstrap"] = {{"resamples", config.bootstrap_resamples}, {"confidence", config.confidence},
                       {"blocks", "initialisation (issue) dates"}, {"seed", config.seed}};
   rep["provenance"] = {{"tool", "isohypse"}, {"version", ISOHYPSE_VERSION}, {"created", utc_timestamp_now()},

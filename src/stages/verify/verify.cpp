@@ -44,6 +44,9 @@ void VerifyConfig::validate() const {
     bad_setting("confidence " + std::to_string(confidence) + " must lie between 0 and 1 (exclusive)");
   if (min_episode_days < 1)
     bad_setting("min_episode_days " + std::to_string(min_episode_days) + ": an episode lasts at least 1 day");
+  if (reliability_bins < 2)
+    bad_setting("reliability_bins " + std::to_string(reliability_bins) +
+                ": the Brier decomposition and reliability diagram need at least 2 bins (--bins)");
 }
 
 nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& config) {
