@@ -118,8 +118,8 @@ std::string reliability_panel(const json& w, int wi) {
     if (b["consistency_lower"].is_number())
       o << "<line class=\"bar\" x1=\"" << x << "\" x2=\"" << x << "\" y1=\"" << Q(b["consistency_lower"].get<double>())
         << "\" y2=\"" << Q(b["consistency_upper"].get<double>()) << "\" stroke=\"#999\" stroke-width=\"5\"/>";
-    o << "<circle cx=\"" << x << "\" cy=\"" << Q(b["observed_frequency"].get<double>()) << "\" r=\"3.5\" fill=\""
-      << col << "\"/>";
+    o << "<circle cx=\"" << x << "\" cy=\"" << Q(b["observed_frequency"].get<double>())
+      << "\" r=\"4\" stroke=\"#fff\" fill=\"" << col << "\"/>";
   }
   o << "</svg>";
   return o.str();
@@ -157,8 +157,8 @@ std::string decomposition_table(const json& rep, const std::vector<std::string>&
   for (const auto& w : rep["windows"])
     for (const auto& s : states) {
       const json& r = w["regimes"][s];
-      o << "<tr><td>" << w["first_lead_days"] << "&ndash;" << w["last_lead_days"] << "</td><td class=\"l\" style=\"color:"
-        << state_colour(states, s) << "\">" << esc(s) << "</td>";
+      o << "<tr><td>" << w["first_lead_days"] << "&ndash;" << w["last_lead_days"]
+        << "</td><td class=\"l\" style=\"color:" << state_colour(states, s) << "\">" << esc(s) << "</td>";
       for (const char* key : {"brier", "reliability", "resolution", "uncertainty", "within_bin_variance",
                               "within_bin_covariance"})
         o << "<td>" << fmt(r[key], "%.4f") << "</td>";
