@@ -55,12 +55,116 @@ TEST_CASE("scores: Brier decomposition with bins") {
   CHECK(coarse.reliability == doctest::Approx(0.0136).epsilon(1e-12));
   CHECK(coarse.resolution == doctest::Approx(0.04).epsilon(1e-12));
   CHECK(coarse.uncertainty == doctest::Approx(0.24).epsilon(1e-12));
-  // The ignored within-bin terms leave a documented gap (0.2136 vs 0.18).
-  CHECK(coarse.reliability - coarse.resolution + coarse.uncertainty != doctest::Approx(coarse.brier));
+  // Stephenson, Coelho & Jolliffe (2008): the within-bin terms close the gap
+  // (0.2136 vs 0.18). By hand: both bins have sum (p - pbar)^2 = 0.112, so
+  // WBV = 0.0224; sum (o - obar)(p - pbar) is 0.16 low and 0.12 high, so
+  // WBC = 2 * 0.28 / 10 = 0.056.
+  CHECK(coarse.within_bin_variance == doctest::Approx(0.0224).epsilon(1e-12));
+  CHECK(coarse.within_bin_covariance == doctest::Approx(0.056).epsilon(1e-12));
+  CHECK(std::abs(coarse.reliability - coarse.resolution + coarse.uncertainty + coarse.within_bin_variance -
+                 coarse.within_bin_covariance - coarse.brier) < 1e-12);
+  // Grouping by distinct value has no within-group spread.
+  CHECK(brier_decomposition(kP, kO).within_bin_variance == 0.0);
+  CHECK(brier_decomposition(kP, kO).within_bin_covariance == 0.0);
 
   CHECK_THROWS_AS(brier_decomposition(kP, kO, arma::vec{0.0, 0.5, 0.5, 1.0}), InputError);
   CHECK_THROWS_AS(brier_decomposition(kP, kO, arma::vec{0.1, 1.0}), InputError);  // misses p = 0
   CHECK_THROWS_AS(brier_decomposition(kP, kO, arma::vec{0.5}), InputError);
+}
+
+// The five-term identity BS = REL - RES + UNC + WBV - WBC, to 1e-12.
+static double identity_gap(const BrierParts& b) {
+  return b.reliability - b.resolution + b.uncertainty + b.within_bin_variance - b.within_bin_covariance - b.brier;
+}
+
+TEST_CASE("scores: binned decomposition of the twelve-case example in five bins") {
+  // METHODS §6 (numpy), after Stephenson, Coelho & Jolliffe (2008), Wea.
+  // Forecasting 23, 752-757: bins [0,.2) [.2,.4) [.4,.6) [.6,.8) [.8,1].
+  const arma::vec p = {.05, .12, .18, .33, .36, .41, .58, .62, .77, .93, .08, .27};
+  const arma::vec o = {0, 0, 1, 0, 1, 0, 1, 1, 1, 1, 0, 0};
+  const BrierParts b = binned_brier_decomposition(p, o, 5);
+  CHECK(std::abs(b.brier - 0.152817) < 5e-7);
+  CHECK(std::abs(b.reliability - 0.022730) < 5e-7);
+  CHECK(std::abs(b.resolution - 0.090278) < 5e-7);
+  CHECK(b.uncertainty == doctest::Approx(0.25).epsilon(1e-12));
+  CHECK(std::abs(b.within_bin_variance - 0.003281) < 5e-7);
+  CHECK(std::abs(b.within_bin_covariance - 0.032917) < 5e-7);
+  CHECK(std::abs(identity_gap(b)) < 1e-12);
+  // The same numbers as explicit edges.
+  const BrierParts e = brier_decomposition(p, o, arma::vec{0.0, 0.2, 0.4, 0.6, 0.8, 1.0});
+  CHECK(e.reliability == b.reliability);
+  CHECK(e.within_bin_covariance == b.within_bin_covariance);
+}
+
+TEST_CASE("scores: binned decomposition of the ten-case example") {
+  // METHODS §6: with ten bins of width 0.1 every distinct value (0, .2, .4,
+  // .6, .8, 1) has a bin of its own, so the terms are Murphy's (1973):
+  // BS 0.18, REL 0.03, RES 0.09, UNC 0.24, and no within-bin term.
+  const BrierParts b = binned_brier_decomposition(kP, kO);
+  CHECK(b.brier == doctest::Approx(0.18).epsilon(1e-12));
+  CHECK(b.reliability == doctest::Approx(0.03).epsilon(1e-12));
+  CHECK(b.resolution == doctest::Approx(0.09).epsilon(1e-12));
+  CHECK(b.uncertainty == doctest::Approx(0.24).epsilon(1e-12));
+  CHECK(std::abs(b.within_bin_variance) < 1e-15);
+  CHECK(std::abs(b.within_bin_covariance) < 1e-15);
+  CHECK(skill_score(b.brier, b.uncertainty) == doctest::Approx(0.25).epsilon(1e-12));
+  CHECK_THROWS_AS(binned_brier_decomposition(kP, kO, 1), InputError);
+  CHECK_THROWS_AS(binned_brier_decomposition(kP, kO, 0), InputError);
+}
+
+TEST_CASE("scores: the five-term identity holds on random forecasts") {
+  arma::arma_rng::set_seed(20081);
+  for (int trial = 0; trial < 50; ++trial) {
+    const arma::uword n = 1 + static_cast<arma::uword>(trial) * 37;
+    const arma::vec p = arma::randu<arma::vec>(n);
+    const arma::vec o = arma::conv_to<arma::vec>::from(arma::randu<arma::vec>(n) < p);
+    for (int bins : {2, 3, 10, 17}) {
+      CAPTURE(trial);
+      CAPTURE(bins);
+      const BrierParts b = binned_brier_decomposition(p, o, bins);
+      CHECK(std::abs(identity_gap(b)) < 1e-12);
+      CHECK(b.reliability >= 0.0);
+      CHECK(b.resolution >= 0.0);
+      CHECK(b.within_bin_variance >= 0.0);
+    }
+  }
+}
+
+TEST_CASE("scores: consistency bars of a reliability diagram") {
+  // Broecker & Smith (2007), Wea. Forecasting 22, 651-661: the bar is where a
+  // reliable forecast's observed frequency falls. A bin of 200 cases all at
+  // p = 0.3: the frequency is Binomial(200, 0.3) / 200, sd 0.0324, so the
+  // 5-95 % range is about 0.3 -+ 1.645 sd = 0.247 .. 0.353.
+  arma::vec p(200, arma::fill::value(0.3));
+  arma::vec o(200, arma::fill::zeros);
+  o.head(60).ones();
+  const auto bins = reliability_diagram_with_bars(p, o, 10, 2000, 0.9, 7);
+  REQUIRE(bins.size() == 10);
+  CHECK(bins[3].count == 200);
+  CHECK(std::abs(bins[3].bar_lower - 0.247) < 0.012);
+  CHECK(std::abs(bins[3].bar_upper - 0.353) < 0.012);
+  CHECK(bins[3].bar_lower <= bins[3].observed_frequency);
+  CHECK(bins[3].observed_frequency <= bins[3].bar_upper);
+  CHECK(std::isnan(bins[0].bar_lower));  // empty bin: no bar
+  CHECK(std::isnan(bins[0].bar_upper));
+  // The counts and frequencies are reliability_diagram's; bars are seeded.
+  const auto plain = reliability_diagram(kP, kO, 5);
+  const auto a = reliability_diagram_with_bars(kP, kO, 5, 500, 0.9, 11);
+  const auto b = reliability_diagram_with_bars(kP, kO, 5, 500, 0.9, 11);
+  for (std::size_t k = 0; k < 5; ++k) {
+    CAPTURE(k);
+    CHECK(a[k].count == plain[k].count);
+    CHECK(a[k].observed_frequency == plain[k].observed_frequency);
+    CHECK(std::isnan(plain[k].bar_lower));
+    CHECK(a[k].bar_lower == b[k].bar_lower);
+    CHECK(a[k].bar_upper == b[k].bar_upper);
+    CHECK(a[k].bar_lower <= a[k].bar_upper);
+  }
+  // p = 0 and p = 1 can only give 0 and 1: a bar of zero width.
+  CHECK(a[0].bar_lower == 0.0);
+  CHECK(a[0].bar_upper == 0.0);
+  CHECK_THROWS_AS(reliability_diagram_with_bars(kP, kO, 5, 0, 0.9, 1), InputError);
+  CHECK_THROWS_AS(reliability_diagram_with_bars(kP, kO, 5, 100, 1.0, 1), InputError);
 }
 
 TEST_CASE("scores: perfect and climatological forecasts") {

@@ -93,6 +93,19 @@ TEST_CASE("verify config: min_episode_days below 1 is refused naming it") {
   CHECK(names(refusal(c), "min_episode_days 0"));
 }
 
+TEST_CASE("verify config: fewer than 2 reliability bins are refused naming --bins") {
+  VerifyConfig c = usable();
+  c.reliability_bins = 2;
+  CHECK(refusal(c).empty());
+  for (int bins : {1, 0, -3}) {
+    CAPTURE(bins);
+    c.reliability_bins = bins;
+    const std::string m = refusal(c);
+    CHECK(names(m, "reliability_bins " + std::to_string(bins)));
+    CHECK(names(m, "--bins"));
+  }
+}
+
 TEST_CASE("verify_guidance validates its config before anything else") {
   // An empty model and a missing archive: only the config check can speak first.
   RegimeModel model;

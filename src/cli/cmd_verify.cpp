@@ -47,6 +47,9 @@ void add_verify(CLI::App& app) {
          "--block-days", [cfg](const std::string& text) { cfg->block_length = BlockLength::parse(text); },
          "Interval blocks: N consecutive days of issue dates, or 'auto' (Wilks 1997); default the lag span + 7")
       ->type_name("N|auto");
+  sub->add_option("--bins", cfg->reliability_bins,
+                  "Fixed-width probability bins for the Brier decomposition and the reliability diagram (at least 2)")
+      ->capture_default_str();
   sub->callback([cfg, files] {
     cfg->validate();  // before the model is read: a bad flag fails at once
     const RegimeModel model = read_regime_model(files->model);

@@ -48,27 +48,75 @@ void check_table(const char* who, const arma::umat& table) {
   }
 }
 
-// Murphy's parts from per-group sums (count, sum of p, sum of o).
-struct Group {
-  double n = 0.0, sum_p = 0.0, sum_o = 0.0;
-};
-
-BrierParts parts_from_groups(const std::vector<Group>& groups, const arma::vec& p, const arma::vec& o) {
+// The five terms from a grouping of the cases (group_of[i] in 0 .. n_groups-1;
+// empty groups are skipped). Two passes: the group means first, then the
+// within-group sums about them, so WBV and WBC are sums of squares and
+// products of small deviations, not differences of large sums, and the
+// identity BS = REL - RES + UNC + WBV - WBC holds to rounding.
+BrierParts parts_from_groups(const std::vector<std::size_t>& group_of, std::size_t n_groups, const arma::vec& p,
+                             const arma::vec& o) {
+  std::vector<double> n(n_groups, 0.0), pbar(n_groups, 0.0), obar(n_groups, 0.0);
+  for (arma::uword i = 0; i < p.n_elem; ++i) {
+    n[group_of[i]] += 1.0;
+    pbar[group_of[i]] += p[i];
+    obar[group_of[i]] += o[i];
+  }
   BrierParts parts{};
   const double total = static_cast<double>(p.n_elem);
   parts.brier = brier_score(p, o);
   parts.base_rate = arma::mean(o);
   parts.uncertainty = parts.base_rate * (1.0 - parts.base_rate);
   double rel = 0.0, res = 0.0;
-  for (const Group& g : groups) {
-    if (g.n == 0.0) continue;
-    const double pbar = g.sum_p / g.n, obar = g.sum_o / g.n;
-    rel += g.n * (pbar - obar) * (pbar - obar);
-    res += g.n * (obar - parts.base_rate) * (obar - parts.base_rate);
+  for (std::size_t g = 0; g < n_groups; ++g) {
+    if (n[g] == 0.0) continue;
+    pbar[g] /= n[g];
+    obar[g] /= n[g];
+    rel += n[g] * (pbar[g] - obar[g]) * (pbar[g] - obar[g]);
+    res += n[g] * (obar[g] - parts.base_rate) * (obar[g] - parts.base_rate);
+  }
+  double wbv = 0.0, wbc = 0.0;
+  for (arma::uword i = 0; i < p.n_elem; ++i) {
+    const double dp = p[i] - pbar[group_of[i]];
+    wbv += dp * dp;
+    wbc += 2.0 * (o[i] - obar[group_of[i]]) * dp;
   }
   parts.reliability = rel / total;
   parts.resolution = res / total;
+  parts.within_bin_variance = wbv / total;
+  parts.within_bin_covariance = wbc / total;
   return parts;
+}
+
+// Per-bin sums of a reliability diagram.
+struct Group {
+  double n = 0.0, sum_p = 0.0, sum_o = 0.0;
+};
+
+// Edges i / n_bins, correctly rounded, so a probability written as the same
+// fraction (0.6 for 3/5) falls in the bin it starts; linspace's accumulated
+// 3 * 0.2 = 0.6000000000000001 would put it one bin lower.
+arma::vec fixed_width_edges(int n_bins) {
+  arma::vec edges(static_cast<arma::uword>(n_bins) + 1);
+  for (arma::uword b = 0; b < edges.n_elem; ++b) edges[b] = static_cast<double>(b) / n_bins;
+  return edges;
+}
+
+void check_edges(const arma::vec& p, const arma::vec& bin_edges) {
+  if (bin_edges.n_elem < 2 || !bin_edges.is_finite()) {
+    throw InputError("brier_decomposition: bin_edges must hold at least 2 finite edges; found " +
+                     std::to_string(bin_edges.n_elem));
+  }
+  for (arma::uword i = 1; i < bin_edges.n_elem; ++i) {
+    if (!(bin_edges[i] > bin_edges[i - 1])) {
+      throw InputError("brier_decomposition: bin_edges must be strictly increasing; edge " + std::to_string(i) +
+                       " is " + std::to_string(bin_edges[i]) + " after " + std::to_string(bin_edges[i - 1]));
+    }
+  }
+  if (p.min() < bin_edges.front() || p.max() > bin_edges.back()) {
+    throw InputError("brier_decomposition: bin_edges [" + std::to_string(bin_edges.front()) + ", " +
+                     std::to_string(bin_edges.back()) + "] must cover every probability; found range [" +
+                     std::to_string(p.min()) + ", " + std::to_string(p.max()) + "]");
+  }
 }
 
 // Index of the bin [e_i, e_i+1) holding x, the last bin closed; edges sorted.
@@ -77,6 +125,10 @@ std::size_t bin_of(double x, const arma::vec& edges) {
   const auto i = static_cast<std::size_t>(it - edges.begin());
   return std::min<std::size_t>(i == 0 ? 0 : i - 1, edges.n_elem - 2);
 }
+
+// Uniform double in [0, 1) from the top 53 bits: the same on every standard
+// library, unlike std::uniform_real_distribution.
+double unit_uniform(std::mt19937_64& rng) { return static_cast<double>(rng() >> 11) * 0x1.0p-53; }
 
 }  // namespace
 
@@ -87,41 +139,24 @@ double brier_score(const arma::vec& p, const arma::vec& o) {
 
 BrierParts brier_decomposition(const arma::vec& p, const arma::vec& o, const arma::vec& bin_edges) {
   check_binary("brier_decomposition", p, o);
-  std::vector<Group> groups;
+  std::vector<std::size_t> group_of(p.n_elem);
   if (bin_edges.is_empty()) {
-    std::map<double, Group> by_value;
-    for (arma::uword i = 0; i < p.n_elem; ++i) {
-      Group& g = by_value[p[i]];
-      g.n += 1.0;
-      g.sum_p += p[i];
-      g.sum_o += o[i];
-    }
-    for (const auto& [value, g] : by_value) groups.push_back(g);
-  } else {
-    if (bin_edges.n_elem < 2 || !bin_edges.is_finite()) {
-      throw InputError("brier_decomposition: bin_edges must hold at least 2 finite edges; found " +
-                       std::to_string(bin_edges.n_elem));
-    }
-    for (arma::uword i = 1; i < bin_edges.n_elem; ++i) {
-      if (!(bin_edges[i] > bin_edges[i - 1])) {
-        throw InputError("brier_decomposition: bin_edges must be strictly increasing; edge " + std::to_string(i) +
-                         " is " + std::to_string(bin_edges[i]) + " after " + std::to_string(bin_edges[i - 1]));
-      }
-    }
-    if (p.min() < bin_edges.front() || p.max() > bin_edges.back()) {
-      throw InputError("brier_decomposition: bin_edges [" + std::to_string(bin_edges.front()) + ", " +
-                       std::to_string(bin_edges.back()) + "] must cover every probability; found range [" +
-                       std::to_string(p.min()) + ", " + std::to_string(p.max()) + "]");
-    }
-    groups.resize(bin_edges.n_elem - 1);
-    for (arma::uword i = 0; i < p.n_elem; ++i) {
-      Group& g = groups[bin_of(p[i], bin_edges)];
-      g.n += 1.0;
-      g.sum_p += p[i];
-      g.sum_o += o[i];
-    }
+    std::map<double, std::size_t> by_value;
+    for (arma::uword i = 0; i < p.n_elem; ++i) by_value.emplace(p[i], 0);
+    std::size_t g = 0;
+    for (auto& [value, index] : by_value) index = g++;
+    for (arma::uword i = 0; i < p.n_elem; ++i) group_of[i] = by_value.at(p[i]);
+    return parts_from_groups(group_of, by_value.size(), p, o);
   }
-  return parts_from_groups(groups, p, o);
+  check_edges(p, bin_edges);
+  for (arma::uword i = 0; i < p.n_elem; ++i) group_of[i] = bin_of(p[i], bin_edges);
+  return parts_from_groups(group_of, bin_edges.n_elem - 1, p, o);
+}
+
+BrierParts binned_brier_decomposition(const arma::vec& p, const arma::vec& o, int n_bins) {
+  if (n_bins < 2)
+    throw InputError("binned_brier_decomposition: n_bins must be at least 2; found " + std::to_string(n_bins));
+  return brier_decomposition(p, o, fixed_width_edges(n_bins));
 }
 
 double skill_score(double score, double reference) {
@@ -182,11 +217,7 @@ double roc_area(const arma::vec& p, const arma::vec& o) {
 std::vector<ReliabilityBin> reliability_diagram(const arma::vec& p, const arma::vec& o, int n_bins) {
   check_binary("reliability_diagram", p, o);
   if (n_bins < 1) throw InputError("reliability_diagram: n_bins must be at least 1; found " + std::to_string(n_bins));
-  // Edges as i / n_bins, correctly rounded, so a probability written as the
-  // same fraction (0.6 for 3/5) falls in the bin it starts; linspace's
-  // accumulated 3 * 0.2 = 0.6000000000000001 would put it one bin lower.
-  arma::vec edges(static_cast<arma::uword>(n_bins) + 1);
-  for (arma::uword b = 0; b < edges.n_elem; ++b) edges[b] = static_cast<double>(b) / n_bins;
+  const arma::vec edges = fixed_width_edges(n_bins);
   std::vector<Group> groups(static_cast<std::size_t>(n_bins));
   for (arma::uword i = 0; i < p.n_elem; ++i) {
     Group& g = groups[bin_of(p[i], edges)];
@@ -199,7 +230,35 @@ std::vector<ReliabilityBin> reliability_diagram(const arma::vec& p, const arma::
   for (std::size_t b = 0; b < groups.size(); ++b) {
     const Group& g = groups[b];
     bins.push_back({edges[b], edges[b + 1], g.n > 0 ? g.sum_p / g.n : kNaN, g.n > 0 ? g.sum_o / g.n : kNaN,
-                    static_cast<std::size_t>(g.n)});
+                    static_cast<std::size_t>(g.n), kNaN, kNaN});
+  }
+  return bins;
+}
+
+std::vector<ReliabilityBin> reliability_diagram_with_bars(const arma::vec& p, const arma::vec& o, int n_bins,
+                                                          int resamples, double level, std::uint64_t seed) {
+  std::vector<ReliabilityBin> bins = reliability_diagram(p, o, n_bins);
+  if (resamples < 1)
+    throw InputError("reliability_diagram_with_bars: resamples must be at least 1; found " + std::to_string(resamples));
+  if (!(level > 0.0 && level < 1.0))
+    throw InputError("reliability_diagram_with_bars: level must be in (0, 1); found " + std::to_string(level));
+  const arma::vec edges = fixed_width_edges(n_bins);
+  std::vector<std::vector<double>> p_in_bin(bins.size());
+  for (arma::uword i = 0; i < p.n_elem; ++i) p_in_bin[bin_of(p[i], edges)].push_back(p[i]);
+  std::mt19937_64 rng(seed);
+  std::vector<double> freq(static_cast<std::size_t>(resamples));
+  for (std::size_t b = 0; b < bins.size(); ++b) {
+    const std::vector<double>& pb = p_in_bin[b];
+    if (pb.empty()) continue;
+    for (double& f : freq) {
+      // A reliable forecast: each case happens with its own probability.
+      std::size_t events = 0;
+      for (double pj : pb) events += unit_uniform(rng) < pj;
+      f = static_cast<double>(events) / static_cast<double>(pb.size());
+    }
+    std::sort(freq.begin(), freq.end());
+    bins[b].bar_lower = sorted_quantile(freq, (1.0 - level) / 2.0);
+    bins[b].bar_upper = sorted_quantile(freq, (1.0 + level) / 2.0);
   }
   return bins;
 }

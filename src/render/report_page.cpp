@@ -106,34 +106,93 @@ std::string line_chart(const std::string& title,
   return o.str();
 }
 
-std::string reliability_chart(const json& windows) {
-  const double S = 300, M = 40;
+// One window's reliability diagram: forecast probability against observed
+// frequency with ticks every 0.2, the diagonal of perfect reliability, each
+// non-empty bin as a dot at (mean forecast, observed frequency) on its
+// consistency bar (the range a reliable forecast would give, Broecker & Smith
+// 2007), and each bin's count along the top.
+std::string reliability_panel(const json& w, int wi) {
+  const double S = 300, L = 46, T = 44, B = 40, R = 14;
+  const double side = S - T - B;
+  auto P = [&](double v) { return L + side * v; };
+  auto Q = [&](double v) { return T + side * (1 - v); };
+  const std::string col = series_colour(wi);
   std::ostringstream o;
-  o << "<svg class=\"chart\" viewBox=\"0 0 " << S + 150 << " " << S + 20 << "\" width=\"" << S + 150 << "\" height=\""
-    << S + 20 << "\" role=\"img\" aria-label=\"reliability diagram\">";
-  auto P = [&](double v) { return M + (S - 2 * M) * v; };
-  auto Q = [&](double v) { return S - M - (S - 2 * M) * v; };
-  o << "<text x=\"" << M << "\" y=\"18\" font-weight=\"bold\">Reliability (all states pooled)</text>";
-  o << "<line x1=\"" << P(0) << "\" y1=\"" << Q(0) << "\" x2=\"" << P(1) << "\" y2=\"" << Q(1)
-    << "\" stroke=\"#888\" stroke-dasharray=\"4 3\"/>";
-  o << "<rect x=\"" << P(0) << "\" y=\"" << Q(1) << "\" width=\"" << P(1) - P(0) << "\" height=\"" << Q(0) - Q(1)
-    << "\" fill=\"none\" stroke=\"#444\"/>";
-  o << "<text x=\"" << (P(0) + P(1)) / 2 << "\" y=\"" << S - 8
-    << "\" text-anchor=\"middle\">forecast probability</text>";
-  o << "<text x=\"12\" y=\"" << (Q(0) + Q(1)) / 2 << "\" transform=\"rotate(-90 12 " << (Q(0) + Q(1)) / 2
+  o << "<svg class=\"chart reliability\" viewBox=\"0 0 " << L + side + R << " " << S << "\" width=\"" << L + side + R
+    << "\" height=\"" << S << "\" role=\"img\" aria-label=\"reliability diagram, days " << w["first_lead_days"] << "-"
+    << w["last_lead_days"] << "\">";
+  o << "<text x=\"" << L << "\" y=\"16\" font-weight=\"bold\">Days " << w["first_lead_days"] << "&ndash;"
+    << w["last_lead_days"] << "</text><text x=\"" << L - 6 << "\" y=\"" << T - 8
+    << "\" text-anchor=\"end\" font-size=\"10\">n</text>";
+  for (int i = 0; i <= 5; ++i) {
+    const double v = i / 5.0;
+    o << "<line x1=\"" << P(v) << "\" x2=\"" << P(v) << "\" y1=\"" << Q(0) << "\" y2=\"" << Q(0) + 4
+      << "\" stroke=\"#444\"/><text x=\"" << P(v) << "\" y=\"" << Q(0) + 16 << "\" text-anchor=\"middle\">"
+      << fmt(json(v), "%.1f") << "</text><line x1=\"" << P(0) - 4 << "\" x2=\"" << P(0) << "\" y1=\"" << Q(v)
+      << "\" y2=\"" << Q(v) << "\" stroke=\"#444\"/><text x=\"" << P(0) - 6 << "\" y=\"" << Q(v) + 4
+      << "\" text-anchor=\"end\">" << fmt(json(v), "%.1f") << "</text>";
+  }
+  o << "<rect x=\"" << P(0) << "\" y=\"" << Q(1) << "\" width=\"" << side << "\" height=\"" << side
+    << "\" fill=\"none\" stroke=\"#444\"/><line x1=\"" << P(0) << "\" y1=\"" << Q(0) << "\" x2=\"" << P(1)
+    << "\" y2=\"" << Q(1) << "\" stroke=\"#888\" stroke-dasharray=\"4 3\"/>";
+  o << "<text x=\"" << P(0.5) << "\" y=\"" << S - 6 << "\" text-anchor=\"middle\">forecast probability</text>"
+    << "<text x=\"12\" y=\"" << Q(0.5) << "\" transform=\"rotate(-90 12 " << Q(0.5)
     << ")\" text-anchor=\"middle\">observed frequency</text>";
-  int wi = 0;
-  for (const auto& w : windows) {
-    std::string col = series_colour(wi);
-    o << "<polyline class=\"series\" fill=\"none\" stroke=\"" << col << "\" stroke-width=\"2\" points=\"";
-    for (const auto& b : w["reliability"])
-      if (b["count"].get<int>() >= 5 && b["mean_forecast"].is_number())
-        o << P(b["mean_forecast"].get<double>()) << "," << Q(b["observed_frequency"].get<double>()) << " ";
-    o << "\"/><text x=\"" << S + 4 << "\" y=\"" << 40 + 16 * wi << "\" fill=\"" << col << "\">days "
-      << w["first_lead_days"] << "-" << w["last_lead_days"] << "</text>";
-    ++wi;
+  for (const auto& b : w["reliability"]) {
+    o << "<text class=\"count\" x=\"" << P((b["lower"].get<double>() + b["upper"].get<double>()) / 2) << "\" y=\""
+      << T - 8 << "\" text-anchor=\"middle\" font-size=\"10\" fill=\"#666\">" << b["count"] << "</text>";
+    if (!b["mean_forecast"].is_number()) continue;
+    const double x = P(b["mean_forecast"].get<double>());
+    if (b["consistency_lower"].is_number())
+      o << "<line class=\"bar\" x1=\"" << x << "\" x2=\"" << x << "\" y1=\"" << Q(b["consistency_lower"].get<double>())
+        << "\" y2=\"" << Q(b["consistency_upper"].get<double>()) << "\" stroke=\"#999\" stroke-width=\"5\"/>";
+    o << "<circle cx=\"" << x << "\" cy=\"" << Q(b["observed_frequency"].get<double>())
+      << "\" r=\"4\" stroke=\"#fff\" fill=\"" << col << "\"/>";
   }
   o << "</svg>";
+  return o.str();
+}
+
+// A reliability diagram per window, all states pooled.
+std::string reliability_chart(const json& windows) {
+  std::ostringstream o;
+  int wi = 0;
+  for (const auto& w : windows) o << reliability_panel(w, wi++);
+  return o.str();
+}
+
+// What the decomposition and the bars are, with their sources.
+std::string reliability_intro(const json& rep) {
+  const json& rel = rep["reliability"];
+  std::ostringstream o;
+  o << "<p>Brier score per regime in " << rel["bins"]
+    << " probability bins of fixed width: BS = reliability &minus; resolution + uncertainty + within-bin variance "
+       "&minus; within-bin covariance (Stephenson, Coelho &amp; Jolliffe 2008). Diagrams: every regime pooled; "
+       "grey bars show the "
+    << fmt(json(100 * rel["consistency_bars"]["level"].get<double>()), "%.0f")
+    << "% range of observed frequency a reliable forecast would give (Br&ouml;cker &amp; Smith 2007, "
+    << rel["consistency_bars"]["resamples"] << " resamples); the numbers along the top are the cases per bin.</p>";
+  return o.str();
+}
+
+// The five terms of the binned Brier decomposition (Stephenson, Coelho &
+// Jolliffe 2008) per window and regime: BS = REL - RES + UNC + WBV - WBC.
+std::string decomposition_table(const json& rep, const std::vector<std::string>& states) {
+  std::ostringstream o;
+  o << "<table><tr><th>lead days</th><th class=\"l\">regime</th><th>Brier score</th><th>reliability</th>"
+       "<th>resolution</th><th>uncertainty</th><th>within-bin variance</th><th>within-bin covariance</th>"
+       "<th>Brier skill vs climatology</th></tr>";
+  for (const auto& w : rep["windows"])
+    for (const auto& s : states) {
+      const json& r = w["regimes"][s];
+      o << "<tr><td>" << w["first_lead_days"] << "&ndash;" << w["last_lead_days"]
+        << "</td><td class=\"l\" style=\"color:" << state_colour(states, s) << "\">" << esc(s) << "</td>";
+      for (const char* key : {"brier", "reliability", "resolution", "uncertainty", "within_bin_variance",
+                              "within_bin_covariance"})
+        o << "<td>" << fmt(r[key], "%.4f") << "</td>";
+      o << "<td>" << fmt(r["brier_skill"]) << "</td></tr>";
+    }
+  o << "</table>";
   return o.str();
 }
 
@@ -285,7 +344,8 @@ std::string chart_sections(const json& rep, const States& states) {
   o << "<h2>Skill against lead</h2>"
     << line_chart("Skill against lead", {{"hit rate", hit}, {"Heidke", hss}, {"Brier skill", mcbss}}, -0.2, 1.0,
                   "lead (days)");
-  o << "<h2>Reliability</h2>" << reliability_chart(rep["windows"]);
+  o << "<h2>Reliability</h2>" << reliability_intro(rep) << decomposition_table(rep, states)
+    << reliability_chart(rep["windows"]);
   o << "<h2>Observed sequence and the guidance issued before it</h2>" << sequence_chart(rep, states);
   return o.str();
 }

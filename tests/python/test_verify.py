@@ -100,6 +100,24 @@ for j, s in enumerate(states):
         check(ok, f"lead 5, {s}: Brier {got['brier']:.6f} = sklearn {bs:.6f}, ROC {got['roc_area']:.6f} = sklearn {auc:.6f}")
     else:
         check(ok, f"lead 5, {s}: Brier {got['brier']:.6f} = sklearn {bs:.6f}")
+# The five-term binned decomposition (Stephenson, Coelho and Jolliffe 2008) of each regime, 10 bins, with numpy.
+edges = np.arange(11) / 10
+for j, s in enumerate(states):
+    p, y = ps[:, j], (os_ == j).astype(float)
+    b = np.minimum(np.searchsorted(edges, p, side="right") - 1, 9)
+    want = dict.fromkeys(["reliability", "resolution", "within_bin_variance", "within_bin_covariance"], 0.0)
+    for m in (b == i for i in range(10) if (b == i).any()):
+        pk, ok = p[m].mean(), y[m].mean()
+        want["reliability"] += m.sum() * (pk - ok) ** 2 / len(p)
+        want["resolution"] += m.sum() * (ok - y.mean()) ** 2 / len(p)
+        want["within_bin_variance"] += ((p[m] - pk) ** 2).sum() / len(p)
+        want["within_bin_covariance"] += 2 * ((y[m] - ok) * (p[m] - pk)).sum() / len(p)
+    got = lead5["regimes"][s]
+    diff = max(abs(got[key] - v) for key, v in want.items())
+    ident = got["reliability"] - got["resolution"] + got["uncertainty"] + got["within_bin_variance"] \
+        - got["within_bin_covariance"] - got["brier"]
+    check(diff < 1e-12 and abs(ident) < 1e-12,
+          f"lead 5, {s}: five Brier terms equal numpy to 1e-12 ({diff:.1e}), identity gap {ident:.1e}")
 mcb = np.mean([np.sum((ps[i] - np.eye(k + 1)[os_[i]]) ** 2) for i in range(len(issues))])
 check(abs(lead5["multicategory_brier"] - mcb) < 1e-12, f"lead 5 multi-category Brier {lead5['multicategory_brier']:.6f} = numpy {mcb:.6f}")
 
@@ -149,6 +167,20 @@ check(months <= season, f"only months of the model's season are scored ({sorted(
 page = open(html).read()
 check("<svg" in page and "http" not in page.replace("http://www.w3.org", "") and "never replaces" in page,
       "the HTML page is self-contained (inline SVG, no links out) and carries the caution")
+check(all(w in page for w in ["within-bin variance", "within-bin covariance", 'class="bar"', 'class="count"'])
+      and page.count('class="chart reliability"') == len(rep["windows"]),
+      "the HTML page shows the five Brier terms and a reliability diagram per window with counts and bars")
+print("window     state       BS      REL      RES      UNC      WBV      WBC")
+for wd in rep["windows"]:
+    rel = wd["reliability"]
+    bars = all((b["count"] == 0) == (b["consistency_lower"] is None) for b in rel)
+    check(len(rel) == 10 and sum(b["count"] for b in rel) == wd["cases"] * len(states) and bars,
+          f"days {wd['first_lead_days']}-{wd['last_lead_days']}: 10 reliability bins holding every case, "
+          "a consistency bar on each non-empty one")
+    for s, t in wd["regimes"].items():
+        print(f"{wd['first_lead_days']:>3}-{wd['last_lead_days']:<3}  {s:10s}" + "".join(
+            f" {t[key]:8.5f}" for key in ["brier", "reliability", "resolution", "uncertainty", "within_bin_variance",
+                                          "within_bin_covariance"]))
 
 # 4. Bad input: one clear message, non-zero exit, no report.
 def refused(args, words, what):
@@ -190,6 +222,8 @@ refused_with(["--guidance", arch, "--windows", "3-1"], 2, ["--windows", "3-1"], 
 refused_with(["--guidance", arch, "--bootstrap", "5"], 2, ["--bootstrap", "5"], "too few bootstrap resamples")
 refused_with(["--guidance", arch, "--from", "2026-02-01", "--to", "2026-01-01"], 2, ["--from", "after"],
              "--from after --to")
+refused_with(["--guidance", arch, "--bins", "1"], 2, ["--bins", "reliability_bins 1", "at least 2"],
+             "fewer than 2 reliability bins")
 
 # 6. A malformed guidance file is bad data: exit 3, the message names the file and what is wrong.
 bad = os.path.join(tmp, "malformed")

@@ -20,6 +20,9 @@
 //   numerics_tool regime-table PCS FLAGS [--k-min --k-max --runs --surrogates --level --stop-early yes/no --threads]
 //   numerics_tool holm ROWS.json [--level L]  (rows: k, index, spread, p_index, p_ratio; the verdicts and the choice of k)
 //       prints the table and the wall time (seconds).
+//   numerics_tool brier-bins P O [--bins N] [--resamples R] [--level L] [--seed S]
+//       P, O one value per line; prints the five-term binned Brier
+//       decomposition and the reliability bins with their consistency bars.
 #include <chrono>
 #include <cstdio>
 #include <cstdlib>
@@ -37,6 +40,8 @@
 #include "isohypse/numerics/eof.hpp"
 #include "isohypse/base/error.hpp"
 #include "isohypse/numerics/kmeans.hpp"
+#include "isohypse/numerics/scores.hpp"
+#include "isohypse/base/vocabulary.hpp"
 
 namespace {
 
@@ -117,6 +122,28 @@ json kmeans_json(const isohypse::KMeansResult& r) {
           {"inertia", r.inertia},
           {"iterations", r.iterations},
           {"best_restart", r.best_restart}};
+}
+
+// The five-term binned Brier decomposition and the reliability diagram with
+// consistency bars of the cases in two text files (one value per line).
+json brier_bins_json(const Args& a) {
+  need(a, 2, "brier-bins P O [--bins N] [--resamples R] [--level L] [--seed S]");
+  const arma::vec p = arma::vectorise(read_matrix(a.positional[0]));
+  const arma::vec o = arma::vectorise(read_matrix(a.positional[1]));
+  const int bins = std::stoi(a.get("bins", "10"));
+  const isohypse::BrierParts b = isohypse::binned_brier_decomposition(p, o, bins);
+  json diagram = json::array();
+  for (const auto& r : isohypse::reliability_diagram_with_bars(p, o, bins, std::stoi(a.get("resamples", "1000")),
+                                                              std::stod(a.get("level", "0.9")),
+                                                              std::stoull(a.get("seed", "20261202"))))
+    diagram.push_back({{"lower", r.lower}, {"upper", r.upper}, {"count", r.count},
+                       {"mean_forecast", isohypse::number_or_null(r.mean_forecast)},
+                       {"observed_frequency", isohypse::number_or_null(r.observed_frequency)},
+                       {"consistency_lower", isohypse::number_or_null(r.bar_lower)},
+                       {"consistency_upper", isohypse::number_or_null(r.bar_upper)}});
+  return {{"brier", b.brier}, {"reliability", b.reliability}, {"resolution", b.resolution},
+          {"uncertainty", b.uncertainty}, {"within_bin_variance", b.within_bin_variance},
+          {"within_bin_covariance", b.within_bin_covariance}, {"bins", diagram}};
 }
 
 json run(const std::string& command, const Args& a) {
@@ -216,8 +243,9 @@ json run(const std::string& command, const Args& a) {
     const auto choice = isohypse::choose_regime_count(table);
     return {{"rows", out}, {"k", choice.k}, {"reason", choice.reason}};
   }
+  if (command == "brier-bins") return brier_bins_json(a);
   throw InputError("numerics_tool: unknown command '" + command +
-                   "' (eof, kmeans, kmeans-from, surrogate, ari, regime-table, holm)");
+                   "' (eof, kmeans, kmeans-from, surrogate, ari, regime-table, holm, brier-bins)");
 }
 
 }  // namespace

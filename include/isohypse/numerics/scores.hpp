@@ -25,25 +25,36 @@ namespace isohypse {
 // worst. Throws InputError naming both sizes when they differ or are 0.
 double brier_score(const arma::vec& p, const arma::vec& o);
 
-// Murphy (1973) decomposition of the Brier score:
-//   reliability = (1/N) sum_k n_k (pbar_k - obar_k)^2
-//   resolution  = (1/N) sum_k n_k (obar_k - obar)^2
-//   uncertainty = obar (1 - obar),   obar = base_rate = mean(o)
-// brier is always the Brier score of the cases themselves.
+// Decomposition of the Brier score over groups k of n_k cases, with pbar_k
+// the group's mean forecast, obar_k its observed frequency, N all cases:
+//   reliability           REL = (1/N) sum_k n_k (pbar_k - obar_k)^2
+//   resolution            RES = (1/N) sum_k n_k (obar_k - obar)^2
+//   uncertainty           UNC = obar (1 - obar),   obar = base_rate = mean(o)
+//   within_bin_variance   WBV = (1/N) sum_k sum_(j in k) (p_j - pbar_k)^2
+//   within_bin_covariance WBC = (2/N) sum_k sum_(j in k) (o_j - obar_k)(p_j - pbar_k)
+// and brier = REL - RES + UNC + WBV - WBC exactly (to rounding, ~1e-15):
+// Murphy (1973), J. Appl. Meteor. 12, 595-600, for the first three;
+// Stephenson, Coelho & Jolliffe (2008), Wea. Forecasting 23, 752-757, for
+// the two within-bin terms that binning adds. brier is always the Brier
+// score of the cases themselves. All terms are >= 0 except WBC (either sign).
 struct BrierParts {
   double brier, reliability, resolution, uncertainty;
   double base_rate;
+  double within_bin_variance = 0.0, within_bin_covariance = 0.0;
 };
 // With empty bin_edges, the cases are grouped by distinct forecast value
-// (pbar_k is that value) and brier = reliability - resolution + uncertainty
-// holds exactly (to rounding). With bin_edges (strictly increasing, covering
-// every p; bins [e_i, e_i+1), the last one closed), pbar_k is the bin's mean
-// forecast and empty bins are skipped; the within-bin variance and covariance
-// terms are IGNORED, so reliability - resolution + uncertainty then differs
-// from brier by them: the parts are reported as computed, not adjusted.
-// Throws InputError as brier_score does, and for unusable bin edges.
+// (pbar_k is that value), so WBV = WBC = 0 and brier = REL - RES + UNC; the
+// terms are then meaningless for continuous probabilities (one case per
+// group: REL ~ BS, RES ~ UNC). With bin_edges (strictly increasing, covering
+// every p; bins [e_i, e_i+1), the last one closed) the cases are grouped by
+// bin, empty bins are skipped, and all five terms are computed. Throws
+// InputError as brier_score does, and for unusable bin edges.
 BrierParts brier_decomposition(const arma::vec& p, const arma::vec& o,
                                const arma::vec& bin_edges = {});
+// The decomposition over n_bins bins of fixed width 1 / n_bins over [0, 1]
+// (edges i / n_bins, correctly rounded; the same bins as reliability_diagram).
+// Throws InputError as brier_score does, and for n_bins < 2.
+BrierParts binned_brier_decomposition(const arma::vec& p, const arma::vec& o, int n_bins = 10);
 
 // Skill score 1 - score / reference for a negatively oriented score (Brier,
 // multi-category Brier): 1 is perfect, 0 no better than the reference,
@@ -76,12 +87,29 @@ struct ReliabilityBin {
   double mean_forecast;       // mean p of the bin's cases; NaN if count == 0
   double observed_frequency;  // mean o of the bin's cases; NaN if count == 0
   std::size_t count;          // number of cases in the bin
+  // Consistency bar: the range of observed frequency a reliable forecast
+  // would give in this bin (see reliability_diagram_with_bars); NaN when not
+  // computed or count == 0.
+  double bar_lower, bar_upper;
 };
-// n_bins equal-width bins over [0, 1], all reported (empty ones with count 0).
-// Consistency bars (Broecker & Smith 2007) are left to the caller, which has
-// the counts. Throws InputError as brier_score does and for n_bins < 1.
+// n_bins equal-width bins over [0, 1] (edges i / n_bins, correctly rounded),
+// all reported (empty ones with count 0); bar_lower and bar_upper are NaN.
+// Throws InputError as brier_score does and for n_bins < 1.
 std::vector<ReliabilityBin> reliability_diagram(const arma::vec& p, const arma::vec& o,
                                                 int n_bins = 10);
+// The same bins with consistency bars (Broecker & Smith 2007, Wea.
+// Forecasting 22, 651-661): for each non-empty bin, `resamples` times, every
+// case of the bin is redrawn as o_j ~ Bernoulli(p_j) (what a RELIABLE
+// forecast would produce) and the bin's observed frequency recomputed;
+// bar_lower and bar_upper are the (1 - level)/2 and (1 + level)/2 quantiles
+// of those frequencies (linear interpolation, numpy's default). An observed
+// frequency outside the bar is unlikely under reliability. Deterministic for
+// a seed (own mapping of std::mt19937_64 to [0, 1), the same on every
+// standard library; bins drawn in order from one generator). Throws
+// InputError as reliability_diagram does, for resamples < 1, and for level
+// outside (0, 1).
+std::vector<ReliabilityBin> reliability_diagram_with_bars(const arma::vec& p, const arma::vec& o, int n_bins,
+                                                          int resamples, double level, std::uint64_t seed);
 
 // K x K contingency table of categorical forecasts against observations:
 // ROWS are forecast categories, COLUMNS observed categories; entry (i, j)

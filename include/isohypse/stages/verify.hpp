@@ -47,14 +47,18 @@ struct VerifyConfig {
   // episode caught and for a false alarm.
   double catch_margin = 0.10;
   double catch_excess = 0.15;
+  // Bins of fixed width 1 / reliability_bins over [0, 1] for the Brier
+  // decomposition (five terms, Stephenson et al. 2008) and the reliability
+  // diagram with its consistency bars (Broecker & Smith 2007).
+  int reliability_bins = 10;
   std::uint64_t seed = kDefaultSeed;
 
   // Throws InputError naming the setting (and its flag) for no guidance
   // path, from after to, fewer than 10 bootstrap resamples, a negative block
   // length, no windows or a
   // window that is not FIRST-LAST with 0 <= FIRST <= LAST, a confidence
-  // outside (0, 1), min_episode_days below 1, or catch_margin or catch_excess
-// outside [0, 1].
+  // outside (0, 1), min_episode_days below 1, catch_margin or catch_excess
+  // outside [0, 1], or reliability_bins below 2 (--bins).
   void validate() const;
 };
 

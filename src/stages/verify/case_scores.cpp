@@ -87,7 +87,8 @@ json headline_interval(const Cases& cases, const std::vector<std::size_t>& idx, 
   return out;
 }
 
-json state_scores_json(const Cases& cases, const std::vector<std::size_t>& idx, const StateClimatology& climatology) {
+json state_scores_json(const Cases& cases, const std::vector<std::size_t>& idx, const StateClimatology& climatology,
+                       int bins) {
   const std::vector<std::string>& states = climatology.states;
   json out = json::object();
   for (std::size_t s = 0; s < states.size(); ++s) {
@@ -96,19 +97,22 @@ json state_scores_json(const Cases& cases, const std::vector<std::size_t>& idx, 
       p(j) = cases.list[idx[j]].p(s);
       o(j) = cases.list[idx[j]].observed == static_cast<int>(s) ? 1.0 : 0.0;
     }
-    BrierParts parts = brier_decomposition(p, o);
+    BrierParts parts = binned_brier_decomposition(p, o, bins);
     arma::vec pc(idx.size());
     pc.fill(climatology.frequency(s));
     double bs_clim = brier_score(pc, o);
     out[states[s]] = {{"brier", parts.brier},           {"reliability", parts.reliability},
                       {"resolution", parts.resolution}, {"uncertainty", parts.uncertainty},
+                      {"within_bin_variance", parts.within_bin_variance},
+                      {"within_bin_covariance", parts.within_bin_covariance},
                       {"base_rate", parts.base_rate},   {"brier_skill", num(skill_score(parts.brier, bs_clim))},
                       {"roc_area", num(roc_area(p, o))}};
   }
   return out;
 }
 
-json reliability_json(const Cases& cases, const std::vector<std::size_t>& idx, std::size_t n_states) {
+json reliability_json(const Cases& cases, const std::vector<std::size_t>& idx, std::size_t n_states,
+                      const VerifyConfig& config) {
   arma::vec p(idx.size() * n_states), o(idx.size() * n_states);
   std::size_t j = 0;
   for (auto i : idx)
@@ -117,9 +121,11 @@ json reliability_json(const Cases& cases, const std::vector<std::size_t>& idx, s
       o(j) = cases.list[i].observed == static_cast<int>(s);
     }
   json bins = json::array();
-  for (const auto& b : reliability_diagram(p, o, 10))
+  for (const auto& b : reliability_diagram_with_bars(p, o, config.reliability_bins, kConsistencyResamples,
+                                                     config.confidence, config.seed))
     bins.push_back({{"lower", b.lower}, {"upper", b.upper}, {"mean_forecast", num(b.mean_forecast)},
-                    {"observed_frequency", num(b.observed_frequency)}, {"count", b.count}});
+                    {"observed_frequency", num(b.observed_frequency)}, {"count", b.count},
+                    {"consistency_lower", num(b.bar_lower)}, {"consistency_upper", num(b.bar_upper)}});
   return bins;
 }
 

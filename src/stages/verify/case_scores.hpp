@@ -36,13 +36,24 @@ HeadlineScores headline_scores(const Cases& cases, const std::vector<std::size_t
 nlohmann::json headline_interval(const Cases& cases, const std::vector<std::size_t>& idx,
                                  const StateClimatology& climatology, Headline which, const VerifyConfig& config);
 
-// Per state: Brier score and its decomposition, base rate, Brier skill
-// against climatology and ROC area.
+// Per state: Brier score and its five-term decomposition over `bins` bins of
+// fixed width (reliability, resolution, uncertainty, within_bin_variance,
+// within_bin_covariance: brier = REL - RES + UNC + WBV - WBC; Stephenson et
+// al. 2008), base rate, Brier skill against climatology and ROC area.
 nlohmann::json state_scores_json(const Cases& cases, const std::vector<std::size_t>& idx,
-                                 const StateClimatology& climatology);
+                                 const StateClimatology& climatology, int bins);
 
-// Reliability diagram of every state's probabilities pooled, 10 bins.
-nlohmann::json reliability_json(const Cases& cases, const std::vector<std::size_t>& idx, std::size_t n_states);
+// Resamples behind each consistency bar of the reliability diagram.
+inline constexpr int kConsistencyResamples = 1000;
+
+// Reliability diagram of every state's probabilities pooled, in
+// config.reliability_bins bins: per bin its edges, mean forecast, observed
+// frequency, count, and the consistency bar (consistency_lower,
+// consistency_upper: the central config.confidence range of a reliable
+// forecast's frequency, kConsistencyResamples resamples, config.seed;
+// Broecker & Smith 2007). Nulls for an empty bin.
+nlohmann::json reliability_json(const Cases& cases, const std::vector<std::size_t>& idx, std::size_t n_states,
+                                const VerifyConfig& config);
 
 // Per state: most_likely_days (cases whose most likely state it is),
 // observed_days, bias = most_likely_days / observed_days (the categorical

@@ -6,6 +6,7 @@
 #include "isohypse/base/error.hpp"
 #include "isohypse/base/vocabulary.hpp"
 #include "isohypse/numerics/block_bootstrap.hpp"
+#include "stages/verify/case_scores.hpp"
 
 namespace isohypse::verification {
 
@@ -102,6 +103,10 @@ json report_document(const RegimeModel& model, const VerifyConfig& config, const
   rep["frequency_bias_by_month"] = found.by_month;
   rep["episodes"] = episodes_json(found, config);
   rep["sequence"] = sequence_json(climatology, guidance, cases);
+  rep["reliability"] = {{"bins", config.reliability_bins},
+                        {"decomposition", "BS = REL - RES + UNC + WBV - WBC (Stephenson, Coelho & Jolliffe 2008)"},
+                        {"consistency_bars", {{"resamples", kConsistencyResamples}, {"level", config.confidence},
+                                              {"source", "Broecker & Smith 2007"}}}};
   rep["bootstrap"] = bootstrap_json(config, cases);
   rep["provenance"] = {{"tool", "isohypse"}, {"version", ISOHYPSE_VERSION}, {"created", utc_timestamp_now()},
                        {"model", {{"path", model.path}, {"sha256", model.sha256}}}};

@@ -62,6 +62,9 @@ void VerifyConfig::validate() const {
     bad_setting("catch_margin " + std::to_string(catch_margin) + " must lie in 0..1 (--catch-margin)");
   if (!(catch_excess >= 0 && catch_excess <= 1))
     bad_setting("catch_excess " + std::to_string(catch_excess) + " must lie in 0..1 (--catch-excess)");
+  if (reliability_bins < 2)
+    bad_setting("reliability_bins " + std::to_string(reliability_bins) +
+                ": the Brier decomposition and reliability diagram need at least 2 bins (--bins)");
 }
 
 nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& config) {
