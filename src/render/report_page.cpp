@@ -27,7 +27,11 @@ std::string fmt(const json& v, const char* f = "%.2f") {
   if (!v.is_number()) return "&ndash;";
   char b[32];
   std::snprintf(b, sizeof b, f, v.get<double>());
-  return b;
+  // A value that rounds to zero prints without a sign ("-0.0000" reads as a
+  // negative term).
+  const std::string text = b;
+  const bool zero = text.size() > 1 && text[0] == '-' && text.find_first_not_of("-0.") == std::string::npos;
+  return zero ? std::string(b + 1) : text;
 }
 
 // The estimate, its interval and the block length it rests on; the reason
@@ -54,9 +58,11 @@ std::string block_summary(const json& rep) {
     }
   const std::string rule = b.value("block_days", std::string());
   std::string text = "moving-block bootstrap over consecutive issue dates (Kuensch 1989)";
-  if (longest > 0)
-    text += ", blocks of " + std::to_string(shortest) + (longest > shortest ? "-" + std::to_string(longest) : "") +
-            " days";
+  if (longest > 0) {
+    text += ", blocks of " + std::to_string(shortest);
+    if (longest > shortest) text.append("-").append(std::to_string(longest));
+    text += " days";
+  }
   if (rule == "lag+7") text += " (lag span " + std::to_string(b.value("lag_span_days", 0)) + " days + 7)";
   if (rule == "auto") text += " (Wilks 1997, from the lag-1 autocorrelation of the per-issue hit rate)";
   return text + "; no interval with fewer than " + std::to_string(b.value("min_blocks", 3)) + " blocks in the period";
