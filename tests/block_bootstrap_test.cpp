@@ -1,16 +1,20 @@
 // Moving-block bootstrap over consecutive issue dates (Kuensch 1989, Ann.
 // Statist. 17, 1217-1241) and the block length of Wilks (1997, J. Climate
-// 10, 65-82): the blocks, the resampler's contract, and the coverage of its
-// nominal 90 % interval on simulated autocorrelated scores.
+// 10, 65-82): the blocks, the resampler's contract, its Student-t interval
+// (batch means: Schmeiser 1982, Oper. Res. 30, 556-568), and the coverage
+// of its nominal 90 % interval on simulated autocorrelated scores.
 #include <doctest/doctest.h>
 
 #include <cmath>
 #include <cstdio>
 #include <numeric>
+#include <numbers>
 #include <random>
+#include <tuple>
 
 #include "isohypse/base/error.hpp"
 #include "isohypse/numerics/block_bootstrap.hpp"
+#include "isohypse/numerics/student_t.hpp"
 
 using namespace isohypse;
 
@@ -170,6 +174,75 @@ TEST_CASE("block bootstrap: fewer than three blocks in the period give no interv
   CHECK_THROWS_AS(moving_block_bootstrap(days, 3, count, 100, 1.0, 1), InputError);
 }
 
+TEST_CASE("block bootstrap: Student t quantiles where they have a closed form") {
+  // df = 1 is the Cauchy distribution: P(|T| <= t) = (2 / pi) atan(t), so t = tan(pi level / 2);
+  // df = 2: P(|T| <= t) = t / sqrt(2 + t^2), so t = sqrt(2 level^2 / (1 - level^2)) (Abramowitz & Stegun 1964,
+  // 26.7.3-4 with one term). Other df are checked against scipy.stats.t.ppf in tests/python/test_block_bootstrap.py.
+  for (double level : {0.5, 0.8, 0.9, 0.95, 0.99}) {
+    const double cauchy = std::tan(std::numbers::pi * level / 2);
+    CHECK(student_t_central_quantile(level, 1) == doctest::Approx(cauchy).epsilon(1e-11));
+    CHECK(student_t_central_quantile(level, 2) ==
+          doctest::Approx(std::sqrt(2 * level * level / (1 - level * level))).epsilon(1e-11));
+    for (int df : {3, 8, 30, 89})
+      CHECK(student_t_central_probability(student_t_central_quantile(level, df), df) == doctest::Approx(level));
+  }
+  // Large df approach the normal quantile 1.6448536 (level 0.9).
+  CHECK(student_t_central_quantile(0.9, 2000) == doctest::Approx(1.6448536).epsilon(1e-3));
+  CHECK(student_t_central_probability(0.0, 5) == 0.0);
+  CHECK_THROWS_AS(student_t_central_quantile(0.9, 0), InputError);
+  CHECK_THROWS_AS(student_t_central_quantile(1.0, 5), InputError);
+  CHECK_THROWS_AS(student_t_central_probability(NAN, 5), InputError);
+}
+
+TEST_CASE("block bootstrap: the interval is estimate +- t times the resampled spread widened by D over D - L") {
+  std::mt19937_64 rng(5);
+  const std::vector<double> x = ar1_series(rng, 90, 0.0, 0.6);
+  const std::vector<std::int64_t> days = days_from(0, 89);
+  std::vector<double> seen;
+  const auto mean = [&x, &seen](const std::vector<std::size_t>& cases) {
+    seen.push_back(mean_of(x, cases));
+    return seen.back();
+  };
+  const BlockInterval ci = moving_block_bootstrap(days, 10, mean, 400, 0.9, 3);  // 9 blocks: t with 8 df
+  REQUIRE(seen.size() == 401);  // the estimate, then the resamples
+  double m = 0, ss = 0;
+  for (std::size_t r = 1; r < seen.size(); ++r) m += seen[r] / 400;
+  for (std::size_t r = 1; r < seen.size(); ++r) ss += (seen[r] - m) * (seen[r] - m);
+  // t_(8) 0.95 quantile 1.859548 (Student's t table, from memory; scipy in the Python test).
+  const double half = 1.859548 * std::sqrt(ss / 399) * std::sqrt(90.0 / 80.0);
+  CHECK(ci.interval.estimate == seen[0]);
+  CHECK(ci.interval.upper - ci.interval.estimate == doctest::Approx(half).epsilon(1e-6));
+  CHECK(ci.interval.estimate - ci.interval.lower == doctest::Approx(half).epsilon(1e-6));
+}
+
+TEST_CASE("block bootstrap: the interval stays inside the statistic's range and is NaN without a finite spread") {
+  // 30 daily issues, hit on all but two: a hit rate of 28/30 whose symmetric interval would pass 1.
+  std::vector<double> hit(30, 1.0);
+  hit[4] = hit[17] = 0.0;
+  const std::vector<std::int64_t> days = days_from(0, 29);
+  const auto rate = [&hit](const std::vector<std::size_t>& cases) { return mean_of(hit, cases); };
+  const BlockInterval open = moving_block_bootstrap(days, 5, rate, 300, 0.9, 9);
+  const BlockInterval clamped = moving_block_bootstrap(days, 5, rate, 300, 0.9, 9, StatisticRange{0.0, 1.0});
+  CHECK(open.interval.upper > 1.0);
+  CHECK(clamped.interval.upper == 1.0);
+  CHECK(clamped.interval.lower == open.interval.lower);
+  const BlockInterval skill = moving_block_bootstrap(days, 5, rate, 300, 0.9, 9, StatisticRange{.highest = 1.0});
+  CHECK(skill.interval.upper == 1.0);
+  CHECK_THROWS_AS(moving_block_bootstrap(days, 5, rate, 300, 0.9, 9, StatisticRange{1.0, 1.0}), InputError);
+  // A statistic that is finite on one resample at most, or not on all cases: no interval, no note.
+  int calls = 0;
+  const auto rare = [&calls](const std::vector<std::size_t>&) { return calls++ < 2 ? 0.5 : NAN; };
+  const BlockInterval few = moving_block_bootstrap(days, 5, rare, 50, 0.9, 9);
+  CHECK(few.interval.finite_resamples == 1);
+  CHECK(std::isnan(few.interval.lower));
+  CHECK(few.note.empty());
+  int first = 0;
+  const auto undefined = [&first](const std::vector<std::size_t>&) { return first++ == 0 ? NAN : 0.5; };
+  const BlockInterval none = moving_block_bootstrap(days, 5, undefined, 50, 0.9, 9);
+  CHECK(none.interval.finite_resamples == 50);
+  CHECK(std::isnan(none.interval.upper));
+}
+
 TEST_CASE("block bootstrap: Wilks block length from the lag-1 autocorrelation") {
   // Fixed point of L = (n - L + 1)^((2/3)(1 - n'/n)), n' = n (1 - r1)/(1 + r1):
   // n = 90, r1 = 0.7 -> L = 11.08 (11); r1 = 0.8 -> 13.20 (13); no autocorrelation -> 1.
@@ -191,26 +264,37 @@ TEST_CASE("block bootstrap: Wilks block length from the lag-1 autocorrelation") 
   CHECK_THROWS_AS(wilks_block_days(every_day, {1.0}), InputError);
 }
 
-// Coverage of the nominal 90 % interval of a mean score, 400 simulations of
-// n = 90 daily issues each (seeds fixed). What is asserted is what the
-// percentile moving-block bootstrap delivers at n = 90, measured here:
-// - issues overlapping as in a lagged ensemble (lag 3 and 4, r1 0.64-0.72):
-//   single-issue blocks (the old resampling) cover 0.57-0.61; blocks of
-//   lag + 7 days cover 0.78-0.79;
-// - AR(1) scores, r1 = 0.7 and 0.8: single issues 0.39-0.50 (the issue
-//   measured 48-71 %), blocks of lag 3 + 7 = 10 days and Wilks blocks
-//   0.70-0.76.
-// The 85-95 % the issue asks for is NOT reached: with n = 90 and 10-day
-// blocks the resample is built from about 9 independent blocks, whose
-// spread understates the sampling spread (like a normal quantile used where
-// Student's t with 8 degrees of freedom applies, 1.64 against 1.86), and for
-// AR(1) the blocks cut off the correlation beyond their length (the
-// bootstrap variance of the mean weights lag k by 1 - k/L: 73 % of the true
-// variance for r1 = 0.7, L = 10). The checks keep what holds: moving blocks
-// widen the interval to cover far more often than single issues, without
-// exceeding the nominal level.
+// Coverage of the nominal 90 % interval of a mean score, 1000 simulations
+// of n = 90 daily issues each (seeds fixed, 500 resamples per interval).
+// The percentile interval of the resamples, used before, covered 0.78-0.80
+// for lagged-ensemble overlaps (lag 3 and 4, blocks of lag + 7 days) and
+// 0.70-0.76 for AR(1) r1 = 0.7 and 0.8 (400 simulations; numpy measured the
+// same, 0.78 and 0.80 for the overlaps, 0.76 and 0.70 for AR(1), with 1000).
+// Of the published corrections, measured with numpy on 1000 simulations:
+// the circular block bootstrap (Politis & Romano 1992) alone 0.80-0.82
+// (overlaps), 0.73-0.79 (AR(1)); Student's t_(blocks - 1) on the bootstrap
+// standard error 0.85-0.88 and 0.78-0.84; the same with the batch-means
+// factor sqrt(D / (D - L)) (chosen: Schmeiser 1982, Oper. Res. 30, 556-568;
+// Meketon & Schmeiser 1984, Proc. Winter Simulation Conf., 226-230)
+// 0.87-0.91 and 0.80-0.86; a studentized moving-block bootstrap (Goetze &
+// Kuensch 1996, Ann. Statist. 24, 1914-1933) 0.88-0.90 and 0.84-0.85, but
+// it needs a standard error inside every resample (a nested resampling for
+// hit rate, Heidke or Brier skill); the bias-corrected variance
+// 2 v(L) - v(L/2) (a flat-top lag window, Politis & Romano 1995, J. Time
+// Ser. Anal. 16, 67-103) 0.91-0.92 and 0.87, but it takes a second
+// bootstrap and can turn negative. (Sources from memory.) What is
+// asserted is what the chosen interval delivers here (measured: 0.869 and
+// 0.891 for lag 3 and 4, single issues 0.63 and 0.60; AR(1) r1 = 0.7 0.843
+// with 10-day blocks, 0.841 with Wilks blocks; r1 = 0.8 0.814 and 0.836):
+// - overlapping issues (lag 3 and 4, r1 0.64-0.72), blocks of lag + 7
+//   days: 0.85-0.95, the issue's requirement; single issues stay far below;
+// - AR(1) scores r1 = 0.7: at least 0.82 with blocks of 10 days and Wilks
+//   blocks; r1 = 0.8: at least 0.78. The blocks cut off the correlation
+//   beyond their length (the bootstrap variance of a mean weights lag k by
+//   1 - k/L), which the t quantile does not make up for when r1^L is not
+//   small; nominal coverage there needs longer blocks, i.e. a longer season.
 TEST_CASE("block bootstrap: coverage of the nominal 90 percent interval on overlapping and AR(1) scores") {
-  const int simulations = 400;
+  const int simulations = 1000;
   for (int lag : {3, 4}) {
     const auto series = [lag](std::mt19937_64& rng, double mean) { return overlapping_series(rng, 90, mean, lag); };
     const double single = coverage(series, 1, simulations, 2030 + static_cast<std::uint64_t>(lag));
@@ -219,11 +303,11 @@ TEST_CASE("block bootstrap: coverage of the nominal 90 percent interval on overl
                 "single issues %.3f, blocks of %d days (lag + 7) %.3f\n",
                 lag, simulations, single, lag + 7, blocks);
     CHECK(single < 0.7);
-    CHECK(blocks >= 0.74);
+    CHECK(blocks >= 0.85);
     CHECK(blocks <= 0.95);
-    CHECK(blocks - single >= 0.15);
   }
-  for (const auto& [r1, seed] : {std::pair{0.7, std::uint64_t{2024}}, std::pair{0.8, std::uint64_t{2025}}}) {
+  for (const auto& [r1, floor, seed] :
+       {std::tuple{0.7, 0.82, std::uint64_t{2024}}, std::tuple{0.8, 0.78, std::uint64_t{2025}}}) {
     const auto series = [r1 = r1](std::mt19937_64& rng, double mean) { return ar1_series(rng, 90, mean, r1); };
     const double single = coverage(series, 1, simulations, seed);
     const double lag_plus_7 = coverage(series, 3 + 7, simulations, seed);
@@ -233,9 +317,8 @@ TEST_CASE("block bootstrap: coverage of the nominal 90 percent interval on overl
                 r1, simulations, single, lag_plus_7, wilks);
     CHECK(single < 0.6);
     for (double c : {lag_plus_7, wilks}) {
-      CHECK(c >= 0.65);
+      CHECK(c >= floor);
       CHECK(c <= 0.95);
-      CHECK(c - single >= 0.2);
     }
   }
 }

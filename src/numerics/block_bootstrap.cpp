@@ -8,6 +8,7 @@
 #include <random>
 
 #include "isohypse/base/error.hpp"
+#include "isohypse/numerics/student_t.hpp"
 #include "numerics/resampling.hpp"
 
 namespace isohypse {
@@ -31,6 +32,32 @@ IssueDays issues_of(const std::vector<std::int64_t>& issue_day_of_case) {
     issues.cases.push_back(std::move(cases));
   }
   return issues;
+}
+
+// estimate +- t_(blocks - 1) * sqrt(D / (D - L)) * the standard deviation of
+// the finite resampled values, clamped into range. The percentile interval
+// of the resamples covered a 90 % truth only 70-80 % of the time at n = 90
+// (tests/block_bootstrap_test.cpp): the spread of L-day block means about
+// their own mean understates the variance of the mean by the factor
+// (1 - L / D), and with some ten blocks that variance is itself uncertain.
+// sqrt(D / (D - L)) makes the bootstrap variance of a mean the overlapping
+// batch means estimator (Meketon & Schmeiser 1984, Overlapping batch means:
+// something for nothing?, Proc. Winter Simulation Conf., 226-230; from
+// memory), and Student's t with blocks - 1 degrees of freedom is the
+// batch-means interval (Schmeiser 1982, Batch size effects in the analysis
+// of simulation output, Oper. Res. 30, 556-568; from memory).
+void widen_to_t_interval(Interval& interval, const std::vector<double>& values, std::size_t blocks,
+                         std::int64_t period_days, int block_days, double level, const StatisticRange& range) {
+  if (values.size() < 2 || !std::isfinite(interval.estimate)) return;
+  const double n = static_cast<double>(values.size());
+  const double mean = std::accumulate(values.begin(), values.end(), 0.0) / n;
+  double squares = 0.0;
+  for (double v : values) squares += (v - mean) * (v - mean);
+  const double spread = std::sqrt(squares / (n - 1)) *
+                        std::sqrt(static_cast<double>(period_days) / static_cast<double>(period_days - block_days));
+  const double half = student_t_central_quantile(level, static_cast<int>(blocks) - 1) * spread;
+  interval.lower = std::max(interval.estimate - half, range.lowest);
+  interval.upper = std::min(interval.estimate + half, range.highest);
 }
 
 }  // namespace
@@ -58,7 +85,7 @@ std::vector<IssueRange> moving_blocks(const std::vector<std::int64_t>& issue_day
 BlockInterval moving_block_bootstrap(
     const std::vector<std::int64_t>& issue_day_of_case, int block_days,
     const std::function<double(const std::vector<std::size_t>& case_indices)>& statistic, int resamples,
-    double level, std::uint64_t seed) {
+    double level, std::uint64_t seed, StatisticRange range) {
   if (issue_day_of_case.empty()) throw InputError("moving_block_bootstrap: no case to resample");
   if (block_days < 1)
     throw InputError("moving_block_bootstrap: block length must be at least 1 day; found " +
@@ -67,6 +94,8 @@ BlockInterval moving_block_bootstrap(
     throw InputError("moving_block_bootstrap: resamples must be at least 1; found " + std::to_string(resamples));
   if (!(level > 0.0 && level < 1.0))
     throw InputError("moving_block_bootstrap: level must be in (0, 1); found " + std::to_string(level));
+  if (!(range.lowest < range.highest))
+    throw InputError("moving_block_bootstrap: the statistic's range must have lowest < highest");
 
   const IssueDays issues = issues_of(issue_day_of_case);
   const std::int64_t period_days = issues.day.back() - issues.day.front() + 1;
@@ -96,11 +125,7 @@ BlockInterval moving_block_bootstrap(
     if (std::isfinite(value)) values.push_back(value);
   }
   out.interval.finite_resamples = values.size();
-  if (!values.empty()) {
-    std::sort(values.begin(), values.end());
-    out.interval.lower = resampling::sorted_quantile(values, (1.0 - level) / 2.0);
-    out.interval.upper = resampling::sorted_quantile(values, (1.0 + level) / 2.0);
-  }
+  widen_to_t_interval(out.interval, values, out.blocks, period_days, block_days, level, range);
   return out;
 }
 

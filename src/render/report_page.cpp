@@ -57,7 +57,8 @@ std::string block_summary(const json& rep) {
       longest = std::max(longest, days);
     }
   const std::string rule = b.value("block_days", std::string());
-  std::string text = "moving-block bootstrap over consecutive issue dates (Kuensch 1989)";
+  std::string text = "Student-t on a moving-block bootstrap over consecutive issue dates (Kuensch 1989; t with "
+                     "blocks - 1 degrees of freedom, Schmeiser 1982)";
   if (longest > 0) {
     text += ", blocks of " + std::to_string(shortest);
     if (longest > shortest) text.append("-").append(std::to_string(longest));

@@ -31,7 +31,8 @@ HeadlineScores headline_scores(const Cases& cases, const std::vector<std::size_t
 // {"estimate", "lower", "upper", "block_days", "blocks"[, "note"]} of one
 // headline score: a moving-block bootstrap over consecutive issue dates
 // (numerics/block_bootstrap.hpp) with config's block length, resamples,
-// confidence and seed. lower and upper are null, and "note" says why, when
+// confidence and seed, clamped to [0, 1] for the hit rate and to at most 1
+// for the skill scores. lower and upper are null, and "note" says why, when
 // the period holds fewer than 3 blocks. idx not empty.
 nlohmann::json headline_interval(const Cases& cases, const std::vector<std::size_t>& idx,
                                  const StateClimatology& climatology, Headline which, const VerifyConfig& config);
