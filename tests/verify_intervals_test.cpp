@@ -99,3 +99,21 @@ TEST_CASE("verify intervals: blocks of the lag span plus 7 days by default and t
   config.block_length = BlockLength::parse("auto");
   CHECK(headline_interval(cases, idx, climatology, Headline::HitRate, config)["block_days"] == wilks);
 }
+
+TEST_CASE("verify intervals: a hit rate near 1 gets an interval that ends at 1") {
+  // 40 daily issues, the most likely state right on all but 2: hit rate 0.95, and with 4 blocks (t with 3
+  // degrees of freedom) the symmetric interval would pass 1.
+  Cases cases = daily_issues(40, 3);
+  for (Case& c : cases.list) c.observed = c.issue == 5 || c.issue == 23 ? 1 : 0;
+  const StateClimatology climatology{{"R1", "R2", "no_regime"}, arma::vec{0.4, 0.4, 0.2}};
+  std::vector<std::size_t> idx(cases.list.size());
+  for (std::size_t i = 0; i < idx.size(); ++i) idx[i] = i;
+  VerifyConfig config;
+  config.bootstrap_resamples = 300;
+  const auto hit = headline_interval(cases, idx, climatology, Headline::HitRate, config);
+  CHECK(hit["blocks"] == 4);
+  CHECK(hit["estimate"].get<double>() == doctest::Approx(0.95));
+  CHECK(hit["upper"].get<double>() == 1.0);
+  CHECK(hit["lower"].get<double>() < 0.95);
+  CHECK(hit["lower"].get<double>() >= 0.0);
+}
