@@ -52,7 +52,7 @@ TEST_CASE("verify steps: observed runs end at a change of state or a missing day
 
 namespace {
 
-CatchRule default_rule() { return {0.10, 0.15, two_regimes().frequency}; }
+CatchRule default_rule() { return {0.10, 0.15, two_regimes()}; }
 
 GuidanceSet issues_before(std::int64_t onset, const std::vector<int>& leads) {
   GuidanceSet g;

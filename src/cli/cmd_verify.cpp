@@ -50,6 +50,9 @@ void add_verify(CLI::App& app) {
   sub->add_option("--bins", cfg->reliability_bins,
                   "Fixed-width probability bins for the Brier decomposition and the reliability diagram (at least 2)")
       ->capture_default_str();
+  sub->add_flag("--all-months", cfg->all_months,
+                "Keep out-of-season valid dates, scored against monthly climatological frequencies from the model's "
+                "record");
   sub->callback([cfg, files] {
     cfg->validate();  // before the model is read: a bad flag fails at once
     const RegimeModel model = read_regime_model(files->model);

@@ -284,18 +284,60 @@ std::string page_head(const json& rep) {
 constexpr const char* kMonth[] = {"Jan", "Feb", "Mar", "Apr", "May", "Jun",
                                    "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"};
 
-// How many observed days of guidance fell outside the model's season and
-// were left out of the scores (older reports have no count: nothing).
-std::string out_of_season_note(const json& rep) {
-  if (!rep.contains("out_of_season") || rep["out_of_season"]["cases"].get<std::size_t>() == 0) return {};
+std::vector<int> season_months(const json& by_month);
+
+// True when the report scored every month against monthly climatology (--all-months).
+bool all_months(const json& rep) { return rep.value("season_filter", "") == "all months, monthly climatology"; }
+
+// "Apr 17, May 3": the pairs outside the model's season by month.
+std::string out_of_season_months(const json& rep) {
+  std::string text;
+  for (const auto& [month, n] : rep["out_of_season"]["by_month"].items())
+    text += (text.empty() ? "" : ", ") + std::string(kMonth[std::stoi(month) - 1]) + " " + n.dump();
+  return text;
+}
+
+// With --all-months: the reference frequencies of each valid month scored.
+std::string monthly_reference_table(const json& rep) {
+  const auto states = rep["states"].get<std::vector<std::string>>();
+  const json& months = rep["monthly_climatology"]["months"];
   std::ostringstream o;
-  o << "<p>Not scored: " << rep["out_of_season"]["cases"] << " pairs valid outside the regime model's season (";
-  bool first = true;
-  for (const auto& [month, n] : rep["out_of_season"]["by_month"].items()) {
-    o << (first ? "" : ", ") << kMonth[std::stoi(month) - 1] << " " << n;
-    first = false;
+  o << "<table><tr><th class=\"l\">valid month</th><th>record days</th>";
+  for (const auto& s : states) o << "<th style=\"color:" << state_colour(states, s) << "\">" << esc(s) << "</th>";
+  o << "</tr>";
+  for (int mo : season_months(months)) {
+    const json& m = months[std::to_string(mo)];
+    o << "<tr><td class=\"l\">" << kMonth[mo - 1] << "</td><td>" << m["record_days"] << "</td>";
+    for (const auto& f : m["frequency"]) o << "<td>" << fmt(f, "%.3f") << "</td>";
+    o << "</tr>";
   }
-  o << "); the regimes and their frequencies describe the season only.</p>";
+  o << "</table>";
+  return o.str();
+}
+
+// The note about the season: how many observed days of guidance fell outside
+// the model's season, and whether they were left out of the scores (the
+// default; older reports have no count: nothing) or scored with every pair
+// against the climatology of its valid month (--all-months).
+std::string out_of_season_note(const json& rep) {
+  if (!rep.contains("out_of_season")) return {};
+  const auto outside = rep["out_of_season"]["cases"].get<std::size_t>();
+  std::ostringstream o;
+  if (all_months(rep)) {
+    o << "<p>Season filter: all months, monthly climatology (--all-months). Every pair is scored, "
+      << (outside == 0 ? std::string("none of them outside the regime model's season")
+                       : std::to_string(outside) + " of them valid outside the regime model's season (" +
+                             out_of_season_months(rep) + ")")
+      << "; the reference forecast of every skill score and of the catch rule is the climatological frequency of "
+         "the pair's valid month, counted over every day of that month in the model's record. The regimes were "
+         "derived from the season only.</p>"
+      << monthly_reference_table(rep);
+    return o.str();
+  }
+  if (outside == 0) return {};
+  o << "<p>Not scored (season filter: model season): " << outside
+    << " pairs valid outside the regime model's season (" << out_of_season_months(rep)
+    << "); the regimes and their frequencies describe the season only.</p>";
   return o.str();
 }
 
@@ -463,7 +505,10 @@ std::string verification_text(const json& rep) {
   o << "Verification of " << rep["guidance"]["files"] << " guidance issues, valid "
     << rep["period"]["from"].get<std::string>() << " to " << rep["period"]["to"].get<std::string>() << " ("
     << rep["cases"] << " pairs";
-  if (rep.contains("out_of_season") && rep["out_of_season"]["cases"].get<std::size_t>() > 0)
+  if (all_months(rep))
+    o << "; all months scored against monthly climatology, " << rep["out_of_season"]["cases"]
+      << " pairs outside the model's season";
+  else if (rep.contains("out_of_season") && rep["out_of_season"]["cases"].get<std::size_t>() > 0)
     o << "; " << rep["out_of_season"]["cases"] << " pairs outside the model's season not scored";
   o << ")\n\nlead days   cases  hit rate  Heidke  Brier skill vs climatology\n";
   for (const auto& w : rep["windows"]) {

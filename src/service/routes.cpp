@@ -69,6 +69,15 @@ std::string date_param(const Request& req, const char* name) {
   return v;
 }
 
+// A yes/no query parameter: "true" or "false", false when absent.
+bool flag_param(const Request& req, const char* name) {
+  if (!req.has_param(name)) return false;
+  const std::string v = req.get_param_value(name);
+  if (v != "true" && v != "false")
+    throw HttpError(400, std::string(name) + " must be true or false, got '" + loggable(v) + "'");
+  return v == "true";
+}
+
 // ?FROM=&TO= as a range of dates ("" open).
 std::pair<std::string, std::string> date_range(const Request& req, const char* from_name = "from",
                                                const char* to_name = "to") {
@@ -187,11 +196,12 @@ void guidance_list(const ServiceParts& p, const Request& req, Response& res) {
 }
 
 // from/to: valid dates, as verify's --from/--to; issued_from/issued_to:
-// issue dates.
+// issue dates; all_months=true: verify's --all-months.
 void verification(const ServiceParts& p, const Request& req, Response& res) {
   const auto [from, to] = date_range(req);
   const auto [issued_from, issued_to] = date_range(req, "issued_from", "issued_to");
-  send(res, p.verification.answer({from, to, issued_from, issued_to}, p.worker.generation()));
+  const bool all_months = flag_param(req, "all_months");
+  send(res, p.verification.answer({from, to, issued_from, issued_to, all_months}, p.worker.generation()));
 }
 
 void post_run(const ServiceParts& p, const Request& req, Response& res) {

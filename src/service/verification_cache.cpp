@@ -25,7 +25,7 @@ HttpAnswer VerificationCache::answer(const VerificationRange& range, unsigned ge
     throw HttpError(404, "no guidance issued between " + (range.issued_from.empty() ? "(start)" : range.issued_from) +
                              " and " + (last_issue.empty() ? "(end)" : last_issue));
   const std::string key = range.from + "|" + range.to + "|" + range.issued_from + "|" + range.issued_to + "|" +
-                          std::to_string(generation);
+                          (range.all_months ? "all" : "season") + "|" + std::to_string(generation);
   {
     std::lock_guard lock(mutex_);
     if (auto it = answers_.find(key); it != answers_.end()) return it->second;
@@ -42,6 +42,7 @@ HttpAnswer VerificationCache::verify(const std::vector<std::string>& dates, cons
   for (const auto& d : dates) vc.guidance.push_back(archive_.path_of(d));
   if (!range.from.empty()) vc.from = parse_date(range.from, Calendar::ProlepticGregorian, "from");
   if (!range.to.empty()) vc.to = parse_date(range.to, Calendar::ProlepticGregorian, "to");
+  vc.all_months = range.all_months;
   try {
     std::lock_guard lock(netcdf_);
     return {200, verify_guidance(model_, vc).dump()};

@@ -20,9 +20,11 @@
 namespace isohypse {
 
 // The dates asked for, YYYY-MM-DD or "" (open): valid dates (from, to) and
-// issue dates (issued_from, issued_to).
+// issue dates (issued_from, issued_to); all_months: verify's --all-months
+// (VerifyConfig::all_months).
 struct VerificationRange {
   std::string from, to, issued_from, issued_to;
+  bool all_months = false;
 };
 
 class VerificationCache {
@@ -48,7 +50,7 @@ private:
   const GuidanceArchive& archive_;
   std::mutex& netcdf_;
   std::mutex mutex_;
-  std::map<std::string, HttpAnswer> answers_;  // "from|to|issued_from|issued_to|generation" -> answer
+  std::map<std::string, HttpAnswer> answers_;  // "from|to|issued_from|issued_to|all_months|generation" -> answer
 };
 
 }  // namespace isohypse

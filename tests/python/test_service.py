@@ -166,6 +166,18 @@ try:
           f"an issue range with no guidance: 404 ({status}: {rep})")
     status, rep = server.get_json("/api/v1/verification?from=2025-13-01")
     check(status == 400, f"verification with a bad date: 400 ({status})")
+    # all_months=true: verify's --all-months, every valid month against its monthly climatology.
+    status, rep = server.get_json("/api/v1/verification?issued_from=2025-12-01&issued_to=2025-12-03&all_months=true")
+    filt = rep.get("season_filter") if isinstance(rep, dict) else None
+    months = rep.get("monthly_climatology", {}).get("months", {}) if isinstance(rep, dict) else {}
+    check(status == 200 and filt == "all months, monthly climatology" and "12" in months,
+          f"all_months=true scores against monthly climatology ({status}: {filt}, months {sorted(months)})")
+    status, rep = server.get_json("/api/v1/verification?issued_from=2025-12-01&issued_to=2025-12-03")
+    check(status == 200 and rep.get("season_filter") == "model season" and "monthly_climatology" not in rep,
+          f"without it the cached default answer keeps the model season ({status}: {rep.get('season_filter')})")
+    status, rep = server.get_json("/api/v1/verification?all_months=yes")
+    check(status == 400 and "all_months must be true or false" in rep.get("error", ""),
+          f"all_months=yes: 400 ({status}: {rep})")
 
     # --- a truncated file goes to quarantine, the service carries on
     src = os.path.join(world, "forecasts", "fc_20251204.nc")

@@ -51,6 +51,13 @@ struct VerifyConfig {
   // decomposition (five terms, Stephenson et al. 2008) and the reliability
   // diagram with its consistency bars (Broecker & Smith 2007).
   int reliability_bins = 10;
+  // false: valid dates outside the model's season (RegimeModel::months) are
+  // counted, not scored, and every skill score and the catch rule take the
+  // season's climatological frequencies as reference. true (--all-months):
+  // they are scored too, and every case's reference is the climatological
+  // frequency of its valid date's calendar month over the model's whole
+  // record; a case in a month the record never covers is an InputError.
+  bool all_months = false;
   std::uint64_t seed = kDefaultSeed;
 
   // Throws InputError naming the setting (and its flag) for no guidance
@@ -64,7 +71,8 @@ struct VerifyConfig {
 
 // Validates the config first (VerifyConfig::validate). Throws InputError for
 // an empty archive, guidance from another regime model (naming the file and
-// both model hashes) or a period without observations; DataError naming the
+// both model hashes), a period without observations or, with all_months, a
+// valid month without a day in the model's record (naming month and file); DataError naming the
 // file for guidance that is not valid JSON, not isohypse guidance, or lacks
 // a required key or holds a value of the wrong type; InternalError for a
 // broken precondition between its own steps (a bug).

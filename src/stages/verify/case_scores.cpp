@@ -47,7 +47,7 @@ int block_days_for(const Cases& cases, const std::vector<std::size_t>& idx, cons
 
 HeadlineScores headline_scores(const Cases& cases, const std::vector<std::size_t>& idx,
                                const StateClimatology& climatology) {
-  const arma::vec& clim = climatology.frequency;
+  const std::size_t n_states = climatology.states.size();
   HeadlineScores b;
   b.n = idx.size();
   if (idx.empty()) return b;
@@ -55,17 +55,17 @@ HeadlineScores headline_scores(const Cases& cases, const std::vector<std::size_t
   double hits = 0, mcbs = 0, mcbs_clim = 0;
   for (auto i : idx) {
     const Case& c = cases.list[i];
-    if (c.p.n_elem != clim.n_elem)
+    if (c.p.n_elem != n_states)
       throw InternalError("verify: a case with " + std::to_string(c.p.n_elem) + " probabilities for " +
-                          std::to_string(clim.n_elem) + " states");
+                          std::to_string(n_states) + " states");
     fc.push_back(c.most_likely);
     ob.push_back(c.observed);
     hits += c.most_likely == c.observed;
     mcbs += multicategory_brier(c.p.t(), c.observed);
-    mcbs_clim += multicategory_brier(clim.t(), c.observed);
+    mcbs_clim += multicategory_brier(climatology.reference(c.month).t(), c.observed);
   }
   b.hit_rate = hits / double(idx.size());
-  b.heidke = heidke_skill(contingency(fc, ob, static_cast<int>(clim.n_elem)));
+  b.heidke = heidke_skill(contingency(fc, ob, static_cast<int>(n_states)));
   b.brier = mcbs / double(idx.size());
   b.brier_skill = skill_score(b.brier, mcbs_clim / double(idx.size()));
   return b;
@@ -96,14 +96,14 @@ json state_scores_json(const Cases& cases, const std::vector<std::size_t>& idx, 
   const std::vector<std::string>& states = climatology.states;
   json out = json::object();
   for (std::size_t s = 0; s < states.size(); ++s) {
-    arma::vec p(idx.size()), o(idx.size());
+    arma::vec p(idx.size()), o(idx.size()), pc(idx.size());
     for (std::size_t j = 0; j < idx.size(); ++j) {
-      p(j) = cases.list[idx[j]].p(s);
-      o(j) = cases.list[idx[j]].observed == static_cast<int>(s) ? 1.0 : 0.0;
+      const Case& c = cases.list[idx[j]];
+      p(j) = c.p(s);
+      o(j) = c.observed == static_cast<int>(s) ? 1.0 : 0.0;
+      pc(j) = climatology.reference(c.month)(s);  // the season's frequency, or the valid month's (--all-months)
     }
     BrierParts parts = binned_brier_decomposition(p, o, bins);
-    arma::vec pc(idx.size());
-    pc.fill(climatology.frequency(s));
     double bs_clim = brier_score(pc, o);
     out[states[s]] = {{"brier", parts.brier},           {"reliability", parts.reliability},
                       {"resolution", parts.resolution}, {"uncertainty", parts.uncertainty},

@@ -1,7 +1,9 @@
 // The scores of one set of verification cases (a lead, a window, a month),
 // shared by the steps "score by lead" and "score by window" (private to the
 // verify stage). `idx` are indices into cases.list; the climatological
-// forecast (StateClimatology) is the reference of every skill score.
+// forecast of each case (StateClimatology::reference of its valid month: the
+// season's frequencies, or the month's with --all-months) is the reference of
+// every skill score.
 // Formulas and sources: numerics/scores.hpp (Wilks 2011).
 #pragma once
 

@@ -57,7 +57,7 @@ bool CatchRule::commits(const Case& c, int state) const {
   double second = 0.0;
   for (arma::uword s = 0; s < c.p.n_elem; ++s)
     if (static_cast<int>(s) != state) second = std::max(second, c.p(s));
-  return c.p(state) - second >= margin - 1e-12 && c.p(state) - climatology(state) >= excess - 1e-12;
+  return c.p(state) - second >= margin - 1e-12 && c.p(state) - climatology.reference(c.month)(state) >= excess - 1e-12;
 }
 
 namespace {
@@ -90,7 +90,8 @@ json scored_episode(const ObservedRun& run, const std::vector<const Case*>& seen
 Episodes find_episodes(const RegimeModel& model, const StateClimatology& climatology, const Cases& cases,
                        const GuidanceSet& guidance, int min_days, const CatchRule& rule) {
   const int k = model.k();
-  if (climatology.states.size() != static_cast<std::size_t>(k) + 1 || rule.climatology.n_elem != climatology.states.size())
+  if (climatology.states.size() != static_cast<std::size_t>(k) + 1 ||
+      rule.climatology.frequency.n_elem != climatology.states.size())
     throw InternalError("verify: " + std::to_string(climatology.states.size()) + " states for " +
                         std::to_string(k) + " regimes");
   const CaseAt at = case_at(cases);

@@ -29,7 +29,7 @@ std::vector<ObservedRun> observed_runs(const ObservedDays& observed);
 // catch_excess). The rule of a caught episode and of a false alarm.
 struct CatchRule {
   double margin = 0.10, excess = 0.15;
-  arma::vec climatology;  // per state
+  StateClimatology climatology;  // the frequency of the case's valid month: StateClimatology::reference
   bool commits(const Case& c, int state) const;
 };
 

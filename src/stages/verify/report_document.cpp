@@ -1,6 +1,7 @@
 #include "stages/verify/report_document.hpp"
 
 #include <algorithm>
+#include <map>
 
 #include "isohypse/base/calendar.hpp"
 #include "isohypse/base/error.hpp"
@@ -72,6 +73,22 @@ json bootstrap_json(const VerifyConfig& config, const Cases& cases) {
           {"seed", config.seed}};
 }
 
+// The monthly references of --all-months, for the months of the cases
+// scored: {"source", "months": {"4": {"record_days", "frequency": per state}}}.
+json monthly_climatology_json(const StateClimatology& climatology, const Cases& cases) {
+  std::map<int, json> months;
+  for (const Case& c : cases.list)
+    if (!months.count(c.month)) {
+      const arma::vec& f = climatology.reference(c.month);
+      months[c.month] = {{"record_days", climatology.monthly_days.at(static_cast<std::size_t>(c.month - 1))},
+                         {"frequency", std::vector<double>(f.begin(), f.end())}};
+    }
+  json by_month = json::object();
+  for (const auto& [month, entry] : months) by_month[std::to_string(month)] = entry;
+  return {{"source", "every day of the calendar month in the regime model's record, in season or not"},
+          {"months", by_month}};
+}
+
 }  // namespace
 
 json report_document(const RegimeModel& model, const VerifyConfig& config, const StateClimatology& climatology,
@@ -98,6 +115,9 @@ json report_document(const RegimeModel& model, const VerifyConfig& config, const
     outside_total += n;
   }
   rep["out_of_season"] = {{"season_months", model.months}, {"cases", outside_total}, {"by_month", outside}};
+  // What the out-of-season count means: left out (the default) or scored (--all-months).
+  rep["season_filter"] = climatology.by_month() ? "all months, monthly climatology" : "model season";
+  if (climatology.by_month()) rep["monthly_climatology"] = monthly_climatology_json(climatology, cases);
   rep["by_lead"] = found.by_lead;
   rep["windows"] = found.windows;
   rep["frequency_bias_by_month"] = found.by_month;

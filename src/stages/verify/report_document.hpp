@@ -22,8 +22,11 @@ struct Findings {
   FalseAlarms false_alarms;
 };
 
-// The report: period, states and regimes, climatology, guidance and
-// observations used, the scores, episodes, the observed sequence against the
+// The report: period, states and regimes, climatology (the season's),
+// guidance and observations used, the pairs outside the model's season and
+// season_filter ("model season": not scored; "all months, monthly
+// climatology": scored, with monthly_climatology, the reference of each
+// valid month used), the scores, episodes, the observed sequence against the
 // guidance's most likely states, the bootstrap settings and provenance
 // (created now, UTC). observations_source: ObservedSequence::source.
 nlohmann::json report_document(const RegimeModel& model, const VerifyConfig& config,

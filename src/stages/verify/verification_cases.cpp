@@ -63,17 +63,6 @@ ObservedDays observed_in_period(const ObservedDays& by_day, std::int64_t first, 
 
 }  // namespace
 
-StateClimatology state_climatology(const RegimeModel& model) {
-  const int k = model.k();
-  StateClimatology c;
-  c.states = model_states(model);
-  c.frequency.set_size(k + 1);
-  double regime_sum = 0;
-  for (int r = 0; r < k; ++r) regime_sum += (c.frequency(r) = model.regimes[r].frequency);
-  c.frequency(k) = std::max(0.0, 1.0 - regime_sum);
-  return c;
-}
-
 Cases build_cases(const GuidanceSet& guidance, const ObservedSequence& observed, std::size_t n_states,
                   const VerifyConfig& config, const std::vector<int>& season_months) {
   auto in_season = [&](int month) {
@@ -93,7 +82,7 @@ Cases build_cases(const GuidanceSet& guidance, const ObservedSequence& observed,
       if (it == by_day.end()) continue;
       if (!in_season(d.valid.month)) {
         ++cases.out_of_season[d.valid.month];
-        continue;
+        if (!config.all_months) continue;  // scored only against monthly climatology (state_climatology.hpp)
       }
       if (d.p.n_elem != n_states)
         throw InternalError("verify: " + std::to_string(d.p.n_elem) + " probabilities for " +

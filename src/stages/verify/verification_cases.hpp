@@ -12,16 +12,9 @@
 #include "isohypse/stages/observed.hpp"
 #include "isohypse/stages/verify.hpp"
 #include "stages/verify/guidance_archive.hpp"
+#include "stages/verify/state_climatology.hpp"
 
 namespace isohypse::verification {
-
-// The states verified and their climatological frequencies, the reference
-// forecast of every skill score.
-struct StateClimatology {
-  std::vector<std::string> states;  // the model's regime ids, then the no-regime state
-  arma::vec frequency;              // per state; the no-regime share is what the regimes leave (at least 0)
-};
-StateClimatology state_climatology(const RegimeModel& model);
 
 // Observed state (0..k, k = no regime) by valid day number (real calendar).
 using ObservedDays = std::map<std::int64_t, int>;
@@ -46,7 +39,8 @@ struct Cases {
   std::int64_t last_valid = 0;
   ObservedDays observed;        // the observed days from first_valid to last_valid
   // Days of guidance valid in the period and observed, but outside the
-  // model's season: not scored, counted by month of the valid date.
+  // model's season, counted by month of the valid date: not scored, or with
+  // --all-months (VerifyConfig::all_months) scored and in `list`.
   std::map<int, std::size_t> out_of_season;
   int lag_span_days = 1;        // the longest lag span of the issues (GuidanceIssue::lag_span_days)
 };
@@ -62,9 +56,10 @@ std::vector<std::size_t> cases_where(const Cases& cases, Keep keep) {
 
 // Pairs every daily entry of the guidance whose valid date lies in
 // [config.from, config.to] (either may be absent) and in one of
-// season_months (empty: any month) with the observed state of that day;
-// days without an observation are left out, observed days outside the
-// season counted in out_of_season. Throws InputError when
+// season_months (empty: any month; with config.all_months every month is
+// kept) with the observed state of that day; days without an observation are
+// left out, observed days outside the season counted in out_of_season.
+// Throws InputError when
 // no pair remains, saying which side is empty: "no guidance valid between A
 // and B (the guidance covers C to D)", "no observations between A and B
 // ... (observations from S cover E to F)" or that every observed day lies

@@ -70,15 +70,16 @@ void VerifyConfig::validate() const {
 nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& config) {
   using namespace verification;
   config.validate();
-  const StateClimatology climatology = state_climatology(model);
+  const StateClimatology climatology = state_climatology(model, config.all_months);
   const GuidanceSet guidance = load_guidance(model, climatology.states, config.guidance);
   const ObservedSequence observed = observed_labels(model, config);
   const Cases cases = build_cases(guidance, observed, climatology.states.size(), config, model.months);
+  require_reference_months(climatology, cases, model.path);
   Findings found;
   found.by_lead = scores_by_lead(cases, climatology, config);
   found.windows = scores_by_window(cases, climatology, config);
   found.by_month = frequency_bias_by_month(cases, climatology.states);
-  const CatchRule rule{config.catch_margin, config.catch_excess, climatology.frequency};
+  const CatchRule rule{config.catch_margin, config.catch_excess, climatology};
   found.episodes = find_episodes(model, climatology, cases, guidance, config.min_episode_days, rule);
   found.false_alarms = find_false_alarms(climatology, guidance, cases, config.min_episode_days, rule);
   return report_document(model, config, climatology, guidance, observed.source, cases, found);
