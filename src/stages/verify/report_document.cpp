@@ -100,6 +100,7 @@ json report_document(const RegimeModel& model, const VerifyConfig& config, const
   rep["out_of_season"] = {{"season_months", model.months}, {"cases", outside_total}, {"by_month", outside}};
   rep["by_lead"] = found.by_lead;
   rep["windows"] = found.windows;
+  rep["window_products"] = found.window_products;
   rep["frequency_bias_by_month"] = found.by_month;
   rep["episodes"] = episodes_json(found, config);
   rep["sequence"] = sequence_json(climatology, guidance, cases);
