@@ -225,6 +225,23 @@ for x in prep["window_products"]["windows"]:
     check(r.returncode == 0 and ok, f"observed window products score perfectly, days {x['first_lead_days']}-"
           f"{x['last_lead_days']}: Brier {dom['multicategory_brier']}, MAE {ed['mae']}, skill {ed['skill']['estimate']}")
 
+# A window no member covers whole (its dominance null for every state, as classify writes it) is not scored and
+# is counted; so is one whose dominance is null altogether.
+nulls = os.path.join(tmp, "nulls")
+shutil.copytree(archive, nulls)
+files = sorted(glob.glob(os.path.join(nulls, "*.json")))
+for f, value in ((files[0], "each"), (files[1], None)):
+    g = json.load(open(f))
+    g["windows"][0]["dominance"] = {s: None for s in states} if value == "each" else None
+    json.dump(g, open(f, "w"))
+r, out, _ = verify(nulls, "nulls")
+first_window = json.load(open(out))["window_products"]["windows"][0]
+base = got[(first_window["first_lead_days"], first_window["last_lead_days"])]
+check(r.returncode == 0 and first_window["left_out"]["no_member_covers"] == 2
+      and first_window["cases"] == base["cases"] - 2,
+      f"null dominance: the window is counted as no member covering it and not scored ({first_window['left_out']})")
+
+
 # --from/--to: only windows wholly inside the period are scored; those that straddle it are counted.
 first_issue = datetime.date.fromisoformat(min(g["issue_date"] for g in guidance))
 p_from, p_to = (first_issue + datetime.timedelta(days=n) for n in (28, 58))
@@ -273,6 +290,9 @@ refused(doc, ["windows[0]", "spans", "lead days 1-3"], "a window whose dates do 
 doc = json.loads(first)
 del doc["windows"][2]["expected_days"]
 refused(doc, ["windows[2] has no 'expected_days'"], "a window without expected days")
+doc = json.loads(first)
+doc["windows"][0]["dominance"][states[0]] = None
+refused(doc, ["windows[0]", "dominance is null for some states"], "a dominance null for one state only")
 doc = json.loads(first)
 doc["windows"] = {"a": 1}
 refused(doc, ["windows is an object, not a list"], "windows that are not a list")
