@@ -173,7 +173,8 @@ for key, grp in sorted(groups.items()):
         check(abs(x["dominance"]["multicategory_brier"] - mcb) < 1e-9 and abs(skill["estimate"] - (1 - mcb / mcb_clim))
               < 1e-9 and skill["block_days"] >= 1,
               f"days {key[0]}-{key[1]}: multi-category dominance Brier {mcb:.5f}, skill {1 - mcb / mcb_clim:.4f} "
-              f"({skill.get('lower')} to {skill.get('upper')}, {skill['block_days']}-day blocks, {skill['blocks']} blocks)")
+              f"({skill.get('lower')} to {skill.get('upper')}, {skill['block_days']}-day blocks, "
+              f"{skill['blocks']} blocks)")
     cdays = D * clim_freq
     mae_s, mae_clim_s = np.mean(np.abs(E - O), axis=0), np.mean(np.abs(cdays - O), axis=0)
     ed = x["expected_days"]
@@ -222,10 +223,12 @@ for x in prep["window_products"]["windows"]:
     dom, ed = x["dominance"], x["expected_days"]
     ok = abs(ed["mae"]) < 1e-12 and abs(ed["skill"]["estimate"] - 1) < 1e-12
     if dom["cases"]:
-        ok = ok and abs(dom["multicategory_brier"]) < 1e-12 and abs(dom["multicategory_brier_skill"]["estimate"] - 1) < 1e-12
+        ok = ok and abs(dom["multicategory_brier"]) < 1e-12
+        ok = ok and abs(dom["multicategory_brier_skill"]["estimate"] - 1) < 1e-12
         ok = ok and all(abs(v["brier"]) < 1e-12 for v in dom["regimes"].values())
     check(r.returncode == 0 and ok, f"observed window products score perfectly, days {x['first_lead_days']}-"
-          f"{x['last_lead_days']}: Brier {dom['multicategory_brier']}, MAE {ed['mae']}, skill {ed['skill']['estimate']}")
+          f"{x['last_lead_days']}: Brier {dom['multicategory_brier']}, MAE {ed['mae']}, "
+          f"skill {ed['skill']['estimate']}")
 
 # A window no member covers whole (its dominance null for every state, as classify writes it) is not scored and
 # is counted; so is one whose dominance is null altogether.
