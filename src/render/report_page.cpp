@@ -116,17 +116,19 @@ std::string line_chart(const std::string& title,
 // frequency with ticks every 0.2, the diagonal of perfect reliability, each
 // non-empty bin as a dot at (mean forecast, observed frequency) on its
 // consistency bar (the range a reliable forecast would give, Broecker & Smith
-// 2007), and each bin's count along the top.
-std::string reliability_panel(const json& w, int wi) {
+// 2007), and each bin's count along the top. `kind` is the chart's class:
+// "reliability" for the daily probabilities, "dominance" for the window
+// products' dominance probabilities.
+std::string reliability_panel(const json& w, int wi, const std::string& kind = "reliability") {
   const double S = 300, L = 46, T = 44, B = 40, R = 14;
   const double side = S - T - B;
   auto P = [&](double v) { return L + side * v; };
   auto Q = [&](double v) { return T + side * (1 - v); };
   const std::string col = series_colour(wi);
   std::ostringstream o;
-  o << "<svg class=\"chart reliability\" viewBox=\"0 0 " << L + side + R << " " << S << "\" width=\"" << L + side + R
-    << "\" height=\"" << S << "\" role=\"img\" aria-label=\"reliability diagram, days " << w["first_lead_days"] << "-"
-    << w["last_lead_days"] << "\">";
+  o << "<svg class=\"chart " << kind << "\" viewBox=\"0 0 " << L + side + R << " " << S << "\" width=\"" << L + side + R
+    << "\" height=\"" << S << "\" role=\"img\" aria-label=\"" << (kind == "dominance" ? "dominance " : "")
+    << "reliability diagram, days " << w["first_lead_days"] << "-" << w["last_lead_days"] << "\">";
   o << "<text x=\"" << L << "\" y=\"16\" font-weight=\"bold\">Days " << w["first_lead_days"] << "&ndash;"
     << w["last_lead_days"] << "</text><text x=\"" << L - 6 << "\" y=\"" << T - 8
     << "\" text-anchor=\"end\" font-size=\"10\">n</text>";
@@ -396,6 +398,16 @@ std::string window_products_section(const json& rep, const States& states) {
        "(window length &times; climatological frequency). A window is scored when every valid day lies in the "
        "period and the season and was observed.</p>";
   for (const auto& g : rep["window_products"]["windows"]) o << window_product_table(g, states);
+  o << "<p>Reliability of the dominance probabilities, every regime pooled (grey bars: the range a reliable "
+       "forecast would give; the numbers along the top are the cases per bin):</p>";
+  int wi = 0;
+  for (const auto& g : rep["window_products"]["windows"]) {
+    if (!g["dominance"]["reliability"].empty())
+      o << reliability_panel({{"first_lead_days", g["first_lead_days"]}, {"last_lead_days", g["last_lead_days"]},
+                              {"reliability", g["dominance"]["reliability"]}},
+                             wi, "dominance");
+    ++wi;
+  }
   return o.str();
 }
 

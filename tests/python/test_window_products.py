@@ -194,9 +194,15 @@ for key, grp in sorted(groups.items()):
           f"{1 - mae / mae_clim:9.3f}")
 
 page = open(html).read()
+with_diagram = [x for x in got.values() if x["dominance"]["cases"] > 0]
 check("<h2>Window products</h2>" in page and page.count("<h3>Days ") == len(got)
-      and "ROC area" in page and "MAE skill vs climatology" in page,
-      "the HTML page shows a window-products table per lead window")
+      and "ROC area" in page and "MAE skill vs climatology" in page
+      and page.count('class="chart dominance"') == len(with_diagram),
+      "the HTML page shows a window-products table and a dominance reliability diagram per lead window")
+# The dominance reliability diagram pools every state: each scored, untied window once per state, in 10 bins.
+check(all(len(x["dominance"]["reliability"]) == 10 and sum(b["count"] for b in x["dominance"]["reliability"])
+          == x["dominance"]["cases"] * K for x in with_diagram),
+      "dominance reliability diagrams: 10 bins holding every state of every window scored")
 check("window products" in r.stdout and all(f"{a:3d}-{b:<3d}" in r.stdout for a, b in got),
       "the terminal summary prints a line per lead window")
 
