@@ -46,7 +46,8 @@ struct WindowGroup {
 
 using Statistic = std::function<double(const std::vector<std::size_t>&)>;
 
-// Why a window cannot be scored: nullptr when it can.
+// The counter in left_out of the first reason the window cannot be scored
+// (the checks in the order of the header), or nullptr when it can.
 std::size_t* reason_left_out(const WindowGuidance& w, const std::map<std::int64_t, int>& observed,
                              const std::vector<int>& season_months, LeftOut& left_out, std::int64_t from,
                              std::int64_t to) {
