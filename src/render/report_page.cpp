@@ -117,17 +117,19 @@ std::string line_chart(const std::string& title,
 // frequency with ticks every 0.2, the diagonal of perfect reliability, each
 // non-empty bin as a dot at (mean forecast, observed frequency) on its
 // consistency bar (the range a reliable forecast would give, Broecker & Smith
-// 2007), and each bin's count along the top.
-std::string reliability_panel(const json& w, int wi) {
+// 2007), and each bin's count along the top. `kind` is the chart's class:
+// "reliability" for the daily probabilities, "dominance" for the window
+// products' dominance probabilities.
+std::string reliability_panel(const json& w, int wi, const std::string& kind = "reliability") {
   const double S = 300, L = 46, T = 44, B = 40, R = 14;
   const double side = S - T - B;
   auto P = [&](double v) { return L + side * v; };
   auto Q = [&](double v) { return T + side * (1 - v); };
   const std::string col = series_colour(wi);
   std::ostringstream o;
-  o << "<svg class=\"chart reliability\" viewBox=\"0 0 " << L + side + R << " " << S << "\" width=\"" << L + side + R
-    << "\" height=\"" << S << "\" role=\"img\" aria-label=\"reliability diagram, days " << w["first_lead_days"] << "-"
-    << w["last_lead_days"] << "\">";
+  o << "<svg class=\"chart " << kind << "\" viewBox=\"0 0 " << L + side + R << " " << S << "\" width=\"" << L + side + R
+    << "\" height=\"" << S << "\" role=\"img\" aria-label=\"" << (kind == "dominance" ? "dominance " : "")
+    << "reliability diagram, days " << w["first_lead_days"] << "-" << w["last_lead_days"] << "\">";
   o << "<text x=\"" << L << "\" y=\"16\" font-weight=\"bold\">Days " << w["first_lead_days"] << "&ndash;"
     << w["last_lead_days"] << "</text><text x=\"" << L - 6 << "\" y=\"" << T - 8
     << "\" text-anchor=\"end\" font-size=\"10\">n</text>";
@@ -379,6 +381,79 @@ std::string window_scores_table(const json& rep) {
   return o.str();
 }
 
+// Why windows of one lead range were not scored, "2 not observed, 1 outside
+// the season" (empty when none was left out).
+std::string left_out_text(const json& g) {
+  std::string text;
+  using Reason = std::pair<const char*, const char*>;
+  for (const auto& [key, words] : {Reason{"partly_outside_period", "partly outside the period"},
+                                   Reason{"outside_season", "outside the model's season"},
+                                   Reason{"not_observed", "not observed on every day"},
+                                   Reason{"no_member_covers", "no member covering the whole window"}}) {
+    const std::size_t n = g["left_out"].value(key, std::size_t{0});
+    if (n > 0) text += (text.empty() ? "" : ", ") + std::to_string(n) + " " + words;
+  }
+  return text;
+}
+
+// One lead range's window products: the dominance scores and the expected
+// days per state, with the headline skills and their intervals.
+std::string window_product_table(const json& g, const States& states) {
+  const json& dom = g["dominance"];
+  const json& days = g["expected_days"];
+  std::ostringstream o;
+  o << "<h3>Days " << g["first_lead_days"] << "&ndash;" << g["last_lead_days"] << " (" << g["days"]
+    << " days)</h3><p>" << g["cases"] << " of " << g["windows"] << " windows scored";
+  const std::string left = left_out_text(g);
+  if (!left.empty()) o << " (left out: " << left << ")";
+  o << "; " << g["tied"] << " with a tie for the most observed days, left out of the dominance scores. "
+    << "Dominance: multi-category Brier skill vs climatology " << interval_text(dom["multicategory_brier_skill"])
+    << ". Expected days: mean absolute error " << fmt(days["mae"]) << " days (climatology "
+    << fmt(days["mae_climatology"]) << "), skill " << interval_text(days["skill"]) << ".</p>";
+  o << "<table><tr><th class=\"l\">regime</th><th>climatological dominance</th><th>dominance Brier score</th>"
+       "<th>reliability</th><th>resolution</th><th>Brier skill vs climatology</th><th>ROC area</th>"
+       "<th>mean expected days</th><th>mean observed days</th><th>climatological days</th><th>MAE days</th>"
+       "<th>MAE skill vs climatology</th></tr>";
+  for (const auto& s : states) {
+    const json& r = dom["regimes"].contains(s) ? dom["regimes"][s] : json::object();
+    const json& e = days["regimes"][s];
+    auto value = [](const json& obj, const char* key) { return obj.contains(key) ? obj[key] : json(); };
+    o << "<tr><td class=\"l\" style=\"color:" << state_colour(states, s) << "\">" << esc(s) << "</td><td>"
+      << fmt(g["climatology"]["dominance"][s]) << "</td><td>" << fmt(value(r, "brier"), "%.4f") << "</td><td>"
+      << fmt(value(r, "reliability"), "%.4f") << "</td><td>" << fmt(value(r, "resolution"), "%.4f") << "</td><td>"
+      << fmt(value(r, "brier_skill")) << "</td><td>" << fmt(value(r, "roc_area")) << "</td><td>"
+      << fmt(e["mean_expected_days"]) << "</td><td>" << fmt(e["mean_observed_days"]) << "</td><td>"
+      << fmt(e["climatological_days"]) << "</td><td>" << fmt(e["mae"]) << "</td><td>" << fmt(e["skill"])
+      << "</td></tr>";
+  }
+  o << "</table>";
+  return o.str();
+}
+
+// The window products the desk reads, scored (reports without them: nothing).
+std::string window_products_section(const json& rep, const States& states) {
+  if (!rep.contains("window_products") || rep["window_products"]["windows"].empty()) return {};
+  std::ostringstream o;
+  o << "<h2>Window products</h2><p>The probability that a regime dominates a window (is the most frequent state "
+       "over its valid days) scored with the Brier score, its skill against the climatological dominance probability "
+       "of the model's record and the ROC area; the expected days per regime (the summed daily probabilities) "
+       "against the observed days, with the skill of their mean absolute error against the climatological days "
+       "(window length &times; climatological frequency). A window is scored when every valid day lies in the "
+       "period and the season and was observed.</p>";
+  for (const auto& g : rep["window_products"]["windows"]) o << window_product_table(g, states);
+  o << "<p>Reliability of the dominance probabilities, every regime pooled (grey bars: the range a reliable "
+       "forecast would give; the numbers along the top are the cases per bin):</p>";
+  int wi = 0;
+  for (const auto& g : rep["window_products"]["windows"]) {
+    if (!g["dominance"]["reliability"].empty())
+      o << reliability_panel({{"first_lead_days", g["first_lead_days"]}, {"last_lead_days", g["last_lead_days"]},
+                              {"reliability", g["dominance"]["reliability"]}},
+                             wi, "dominance");
+    ++wi;
+  }
+  return o.str();
+}
+
 // The charts: skill against lead, reliability, and the observed sequence
 // against the guidance issued before it.
 std::string chart_sections(const json& rep, const States& states) {
@@ -490,13 +565,30 @@ std::string page_footer(const json& rep) {
          rep["provenance"]["created"].get<std::string>() + "</small></p></body></html>\n";
 }
 
+// One line per lead range of the window products.
+std::string window_products_text(const json& rep) {
+  if (!rep.contains("window_products") || rep["window_products"]["windows"].empty()) return {};
+  std::ostringstream o;
+  o << "\nwindow products   scored  tied  dominance Brier skill  expected-days MAE  its skill\n";
+  char line[200];
+  auto e = [](const json& v) { return v.is_number() ? v.get<double>() : NAN; };
+  for (const auto& g : rep["window_products"]["windows"]) {
+    std::snprintf(line, sizeof line, "%3d-%-3d          %7d  %4d  %21.2f  %12.2f days  %9.2f\n",
+                  g["first_lead_days"].get<int>(), g["last_lead_days"].get<int>(), g["cases"].get<int>(),
+                  g["tied"].get<int>(), e(g["dominance"]["multicategory_brier_skill"]["estimate"]),
+                  e(g["expected_days"]["mae"]), e(g["expected_days"]["skill"]["estimate"]));
+    o << line;
+  }
+  return o.str();
+}
+
 }  // namespace
 
 std::string verification_html(const json& rep) {
   const States states = rep["states"].get<States>();
   return page_head(rep) + summary_section(rep) + regimes_table(rep, states) + window_scores_table(rep) +
-         chart_sections(rep, states) + episodes_table(rep, states) + frequency_bias_table(rep, states) +
-         page_footer(rep);
+         window_products_section(rep, states) + chart_sections(rep, states) + episodes_table(rep, states) +
+         frequency_bias_table(rep, states) + page_footer(rep);
 }
 
 std::string verification_text(const json& rep) {
@@ -520,6 +612,7 @@ std::string verification_text(const json& rep) {
   }
   o << "intervals (" << 100 * rep["bootstrap"]["confidence"].get<double>() << " %) in the report: " << block_summary(rep)
     << "\n";
+  o << window_products_text(rep);
   o << "\nepisodes of " << rep["episodes"]["min_days"] << "+ days: caught " << rep["episodes"]["caught"] << ", missed "
     << rep["episodes"]["missed"] << "; false alarms " << rep["episodes"]["false_alarms"];
   if (rep["episodes"].contains("not_scored"))

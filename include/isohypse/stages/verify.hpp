@@ -2,8 +2,9 @@
 //   check the config | load guidance (same regime model) | observed labels
 //   (files or the model's record) | build cases (issue date, lead,
 //   probabilities, observed) | score by lead | score by window, with
-//   intervals from moving blocks of consecutive issue dates | frequency bias by month | find episodes (caught,
-//   missed) | find false alarms | report JSON [| HTML: render/report_page.hpp]
+//   intervals from moving blocks of consecutive issue dates | frequency bias by month | score the window
+//   products (dominance probability, expected days) | find episodes (caught, missed) | find false alarms |
+//   report JSON [| HTML: render/report_page.hpp]
 // Scores follow Wilks (2011), Statistical Methods in the Atmospheric
 // Sciences, 3rd ed.; see scores.hpp for each formula's source.
 #pragma once

@@ -70,9 +70,9 @@ void check_same_model(const json& g, const std::string& file, const RegimeModel&
     throw InputError(file + ": its regime states " + listed.dump() + " differ from the model's");
 }
 
-int lead_value(const json& v, const std::string& file, const std::string& owner) {
+int lead_value(const json& v, const std::string& file, const std::string& owner, const std::string& key = "lead_days") {
   if (!v.is_number() || std::floor(v.get<double>()) != v.get<double>() || std::abs(v.get<double>()) > 1e6)
-    bad_guidance(file, owner + ": lead_days is " + (v.is_number() ? v.dump() : type_of(v)) + ", not a whole number");
+    bad_guidance(file, owner + ": " + key + " is " + (v.is_number() ? v.dump() : type_of(v)) + ", not a whole number");
   return v.get<int>();
 }
 
@@ -100,6 +100,56 @@ DailyGuidance parse_daily(const json& e, std::size_t index, const std::string& f
     bad_guidance(file, owner + ": most_likely " + most_likely.dump() + " is not one of the states");
   d.most_likely = static_cast<int>(it - states.begin());
   return d;
+}
+
+// A by-state object of a window ("dominance" or "expected_days"): one value
+// per state, a number or null (NaN here). `probability`: each in [0, 1]
+// (a rounding excess of 1e-9 is clipped), else >= 0.
+arma::vec by_state_values(const json& object, const std::string& key, bool probability, const std::string& file,
+                          const std::string& owner, const std::vector<std::string>& states) {
+  if (!object.is_object()) bad_guidance(file, owner + ": " + key + " is " + type_of(object) + ", not an object");
+  arma::vec v(states.size());
+  for (std::size_t s = 0; s < states.size(); ++s) {
+    const json& x = member(object, states[s], file, owner + " " + key);
+    if (!x.is_null() && !x.is_number())
+      bad_guidance(file, owner + ": " + key + " of '" + states[s] + "' is " + type_of(x) + ", not a number");
+    v(s) = x.is_null() ? NAN : x.get<double>();
+    const double top = probability ? 1.0 + 1e-9 : 1e9;
+    if (!x.is_null() && !(v(s) >= -1e-9 && v(s) <= top))
+      bad_guidance(file, owner + ": " + key + " of '" + states[s] + "' is " + x.dump() +
+                             (probability ? ", not a probability in 0..1" : ", not a number of days >= 0"));
+    if (!x.is_null()) v(s) = probability ? std::clamp(v(s), 0.0, 1.0) : std::max(v(s), 0.0);
+  }
+  return v;
+}
+
+WindowGuidance parse_window(const json& e, std::size_t index, const std::string& file,
+                            const std::vector<std::string>& states) {
+  const std::string owner = "windows[" + std::to_string(index) + "]";
+  if (!e.is_object()) bad_guidance(file, owner + " is " + type_of(e) + ", not an object");
+  WindowGuidance w;
+  w.first_lead = lead_value(member(e, "first_lead_days", file, owner), file, owner, "first_lead_days");
+  w.last_lead = lead_value(member(e, "last_lead_days", file, owner), file, owner, "last_lead_days");
+  w.from = date_value(member(e, "from", file, owner), file, owner + ": from");
+  w.to = date_value(member(e, "to", file, owner), file, owner + ": to");
+  const std::int64_t span = days_between(w.from, w.to) + 1;
+  if (w.last_lead < w.first_lead || span != w.last_lead - w.first_lead + 1)
+    bad_guidance(file, owner + ": from " + to_string(w.from) + " to " + to_string(w.to) + " spans " +
+                           std::to_string(span) + " days, not the " + std::to_string(w.last_lead - w.first_lead + 1) +
+                           " of lead days " + std::to_string(w.first_lead) + "-" + std::to_string(w.last_lead));
+  w.members = lead_value(member(e, "members", file, owner), file, owner, "members");
+  const json& dominance = member(e, "dominance", file, owner);
+  if (!dominance.is_null()) w.dominance = by_state_values(dominance, "dominance", true, file, owner, states);
+  // All null: no member covers the whole window. Some null: a broken file.
+  auto is_null = [](double x) { return std::isnan(x); };
+  const auto nulls = static_cast<std::size_t>(std::count_if(w.dominance.begin(), w.dominance.end(), is_null));
+  if (nulls == states.size()) w.dominance.reset();
+  if (nulls > 0 && nulls < states.size())
+    bad_guidance(file, owner + ": dominance is null for some states and not for others");
+  const json& expected_days = member(e, "expected_days", file, owner);
+  w.expected_days = by_state_values(expected_days, "expected_days", false, file, owner, states);
+  w.expected_days.replace(arma::datum::nan, 0.0);
+  return w;
 }
 
 // Days spanned by ensemble.initialisations[].age_days (the moving-block
@@ -131,6 +181,12 @@ GuidanceIssue parse_issue(const json& g, const std::string& file, const std::vec
   if (daily == g.end() || !daily->is_array()) bad_guidance(file, "guidance has no 'daily' list");
   for (std::size_t i = 0; i < daily->size(); ++i) issue.daily.push_back(parse_daily((*daily)[i], i, file, states));
   issue.lag_span_days = lag_span_value(g, file);
+  auto windows = g.find("windows");
+  if (windows != g.end() && !windows->is_array())
+    bad_guidance(file, "windows is " + type_of(*windows) + ", not a list");
+  if (windows != g.end())
+    for (std::size_t i = 0; i < windows->size(); ++i)
+      issue.windows.push_back(parse_window((*windows)[i], i, file, states));
   return issue;
 }
 

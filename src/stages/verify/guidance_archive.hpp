@@ -20,6 +20,19 @@ struct DailyGuidance {
   int most_likely = 0;  // index of the most likely state in the model's order
 };
 
+// One lead window of one issue's guidance (the file's "windows" list).
+struct WindowGuidance {
+  int first_lead = 0, last_lead = 0;  // lead days, as the file states them ("first_lead_days", "last_lead_days")
+  Date from, to;                      // first and last valid date, real calendar; to - from = last_lead - first_lead
+  int members = 0;                    // members covering every day of the window
+  // Per state in the model's order: the probability that the state is the
+  // most frequent over the window (members' ties split equally), each in
+  // [0, 1]. Empty when the file gives null for every state (no member covers
+  // the whole window): the window cannot be scored.
+  arma::vec dominance;
+  arma::vec expected_days;            // per state: sum of the daily probabilities, days (>= 0); null reads as 0
+};
+
 // One issue: a guidance file.
 struct GuidanceIssue {
   std::string file;
@@ -29,6 +42,9 @@ struct GuidanceIssue {
   // both counted: lag 3 of daily runs spans 3 days); 1 when the file does not
   // list its ensemble.
   int lag_span_days = 1;
+  // In the file's order; empty when the file has no "windows" list (guidance
+  // written by hand or by other tools: the window products are then not scored).
+  std::vector<WindowGuidance> windows;
 };
 
 // The archive verified: one issue per file, in the order the files were named
@@ -48,7 +64,9 @@ std::vector<std::string> guidance_files(const std::vector<std::string>& paths);
 // valid JSON at byte N"), not isohypse guidance, or lacks a required key or
 // holds a value of the wrong type ("guidance has no 'daily' list", "daily[3]:
 // probability of 'R1' is a string, not a number", "ensemble.initialisations[1]:
-// age_days is a string, not a whole number").
+// age_days is a string, not a whole number", "windows[2]: dominance of 'R3' is
+// 1.5, not a probability in 0..1", "windows[0]: from 2025-12-05 to 2025-12-08
+// spans 4 days, not the 3 of lead days 1-3"). A "windows" list is optional.
 GuidanceSet load_guidance(const RegimeModel& model, const std::vector<std::string>& states,
                           const std::vector<std::string>& paths);
 

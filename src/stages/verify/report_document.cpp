@@ -120,6 +120,7 @@ json report_document(const RegimeModel& model, const VerifyConfig& config, const
   if (climatology.by_month()) rep["monthly_climatology"] = monthly_climatology_json(climatology, cases);
   rep["by_lead"] = found.by_lead;
   rep["windows"] = found.windows;
+  rep["window_products"] = found.window_products;
   rep["frequency_bias_by_month"] = found.by_month;
   rep["episodes"] = episodes_json(found, config);
   rep["sequence"] = sequence_json(climatology, guidance, cases);

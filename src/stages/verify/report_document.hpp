@@ -18,6 +18,7 @@ namespace isohypse::verification {
 // What the verification found, for the report.
 struct Findings {
   nlohmann::json by_lead, windows, by_month;  // lead_scores.hpp, window_scores.hpp, month_bias.hpp
+  nlohmann::json window_products;             // window_products.hpp
   Episodes episodes;
   FalseAlarms false_alarms;
 };
