@@ -271,7 +271,12 @@ void write_truth(const World& world, const Plan& plan, Tally& tally, json& truth
 }  // namespace
 
 void generate(const Options& options, std::ostream& log) {
-  const Plan plan = plan_for(options.size, options.step);
+  Plan plan = plan_for(options.size, options.step);
+  if (options.forecasts > 0) {
+    if (plan.only_reanalysis)
+      throw isohypse::InputError("--forecasts: size " + options.size + " writes no forecasts");
+    plan.fc_count = options.forecasts;
+  }
   options.world.validate();
   const auto t_start = std::chrono::steady_clock::now();
   std::error_code ec;

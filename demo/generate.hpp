@@ -16,13 +16,15 @@ struct Options {
   int processes = 1;           // files written in parallel; the output does not depend on it
   WorldSpec world;             // what is planted (default: today's four regimes)
   double step = 0.0;           // reanalysis grid step in degrees; 0 = the size's
+  int forecasts = 0;           // daily initialisations from 1 December 2025; 0 = the size's (90 full, 20 small)
 };
 
 // Writes the world under options.out (reanalysis/, analysis/, forecasts/,
 // reforecasts/, truth/; bench writes reanalysis/ only, tiny reanalysis/ and
 // truth/ without the member tables) and prints one line per set, then the
 // total, to `log`. Throws isohypse::InputError for an unknown size, a step
-// that does not divide 30 degrees, a WorldSpec that fails validate() or an
+// that does not divide 30 degrees, forecasts asked of a size without them
+// (bench, tiny), a WorldSpec that fails validate() or an
 // unwritable folder.
 void generate(const Options& options, std::ostream& log);
 

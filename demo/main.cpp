@@ -27,6 +27,10 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   app.add_option("--step", options.step,
                  "Reanalysis grid step in degrees, a divisor of 30 (default: the size's)");
+  app.add_option("--forecasts", options.forecasts,
+                 "Daily forecast initialisations from 2025-12-01 (default: the size's, 90 full and 20 small); "
+                 "the test suite's daily season uses more than 20 of the small world's")
+      ->check(CLI::Range(1, 120));
   app.add_option("--regimes", options.world.regimes, "Planted regimes: 3 (the first three of the four), 4, or 5 "
                  "(the four and a block 70N 165W)")
       ->check(CLI::IsMember({3, 4, 5}))

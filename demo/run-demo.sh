@@ -6,7 +6,7 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 BIN=build/isohypse
 DATA=demo/data
-OUT=out
+OUT=${ISOHYPSE_DEMO_OUT:-out}
 mkdir -p "$OUT"
 
 if [[ ! -f "$DATA/truth/truth.json" ]]; then
@@ -29,16 +29,25 @@ echo "== isohypse classify: this morning's guidance (issue date 2026-01-15, the 
   --csv "$OUT/csv" --out "$OUT/guidance-2026-01-15.json"
 
 echo
-echo "== a season of guidance: one issue a week into $OUT/archive/"
+echo "== a season of guidance: one issue a day, 2025-12-04 to 2026-02-26, into $OUT/archive/"
+echo "   (lag 4: consecutive issues share 3 of their 4 initialisations, as a desk's daily guidance does)"
 mkdir -p "$OUT/archive"
-for day in 2025-12-04 2025-12-11 2025-12-18 2025-12-25 2026-01-01 2026-01-08 2026-01-15 2026-01-22 2026-01-29 \
-           2026-02-05 2026-02-12 2026-02-19 2026-02-26; do
-  "$BIN" classify --quiet --model "$OUT/regimes.nc" --forecasts "$DATA/forecasts/*.nc" \
-    --reforecasts "$DATA/reforecasts/*.nc" --lag 4 --weights exp:3 --issue-date "$day" --out "$OUT/archive/$day.json"
-  echo "   $day"
-done
+season_days() {
+  local day=2025-12-04
+  while [[ "$day" < 2026-02-27 ]]; do
+    echo "$day"
+    day=$(date -u -d "$day + 1 day" +%F)
+  done
+}
+issue() {
+  "$BIN" classify --quiet --threads 1 --model "$OUT/regimes.nc" --forecasts "$DATA/forecasts/*.nc" \
+    --reforecasts "$DATA/reforecasts/*.nc" --lag 4 --weights exp:3 --issue-date "$1" --out "$OUT/archive/$1.json"
+}
+export -f issue
+export BIN OUT DATA
+season_days | xargs -P "$(nproc)" -I{} bash -c 'issue {}'
+echo "   $(ls "$OUT/archive" | wc -l) issues written"
 
-echo
 echo "== isohypse verify: the post-mortem of the season"
 "$BIN" verify --model "$OUT/regimes.nc" --guidance "$OUT/archive" --observed "$DATA/analysis/*.nc" \
   --out "$OUT/verification.json" --html "$OUT/verification.html"
@@ -49,7 +58,7 @@ echo "   $OUT/regimes.nc                 the regime model (NetCDF-4; open with n
 echo "   $OUT/regimes-summary.json       the summary table as JSON"
 echo "   $OUT/guidance-2026-01-15.json   the guidance of 2026-01-15 (schema: config/guidance.schema.json)"
 echo "   $OUT/csv/daily.csv, windows.csv for impact models"
-echo "   $OUT/archive/                   a season of weekly guidance"
+echo "   $OUT/archive/                   a season of daily guidance"
 echo "   $OUT/verification.json, .html   the post-mortem (open the .html in a browser)"
 echo "
 To serve the guidance (page and API on http://127.0.0.1:8642/), drop forecasts into an inbox:

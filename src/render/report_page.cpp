@@ -184,13 +184,24 @@ std::string reliability_intro(const json& rep) {
   return o.str();
 }
 
+// The share of a regime's Brier score that is reliability (REL / BS), NaN
+// with fewer than kShareMinDays days on which it was observed or on which
+// it was not (the bins then hold too few of one outcome to say anything).
+constexpr double kShareMinDays = 10;
+double reliability_share(const json& regime, double cases) {
+  const double observed = regime["base_rate"].get<double>() * cases;
+  const double brier = regime["brier"].get<double>();
+  if (observed < kShareMinDays - 1e-9 || cases - observed < kShareMinDays - 1e-9 || !(brier > 0)) return NAN;
+  return regime["reliability"].get<double>() / brier;
+}
+
 // The five terms of the binned Brier decomposition (Stephenson, Coelho &
 // Jolliffe 2008) per window and regime: BS = REL - RES + UNC + WBV - WBC.
 std::string decomposition_table(const json& rep, const std::vector<std::string>& states) {
   std::ostringstream o;
   o << "<table><tr><th>lead days</th><th class=\"l\">regime</th><th>Brier score</th><th>reliability</th>"
        "<th>resolution</th><th>uncertainty</th><th>within-bin variance</th><th>within-bin covariance</th>"
-       "<th>Brier skill vs climatology</th></tr>";
+       "<th>reliability / Brier score</th><th>Brier skill vs climatology</th></tr>";
   for (const auto& w : rep["windows"])
     for (const auto& s : states) {
       const json& r = w["regimes"][s];
@@ -199,7 +210,8 @@ std::string decomposition_table(const json& rep, const std::vector<std::string>&
       for (const char* key : {"brier", "reliability", "resolution", "uncertainty", "within_bin_variance",
                               "within_bin_covariance"})
         o << "<td>" << fmt(r[key], "%.4f") << "</td>";
-      o << "<td>" << fmt(r["brier_skill"]) << "</td></tr>";
+      o << "<td>" << fmt(json(reliability_share(r, w["cases"].get<double>())), "%.2f") << "</td><td>"
+        << fmt(r["brier_skill"]) << "</td></tr>";
     }
   o << "</table>";
   return o.str();
@@ -591,6 +603,36 @@ std::string verification_html(const json& rep) {
          frequency_bias_table(rep, states) + page_footer(rep);
 }
 
+// Per window and state, the share of the Brier score that is reliability
+// (reliability_share); "-" with too few days of one outcome.
+std::string reliability_share_text(const json& rep, const std::vector<std::string>& states) {
+  std::ostringstream o;
+  char cell[64];
+  o << "\nreliability / Brier score (" << rep["reliability"]["bins"]
+    << " bins; '-': fewer than 10 days with or without the state)\nlead days";
+  for (const auto& s : states) {
+    std::snprintf(cell, sizeof cell, " %9s", s.c_str());
+    o << cell;
+  }
+  o << "\n";
+  for (const auto& w : rep["windows"]) {
+    std::snprintf(cell, sizeof cell, "%3d-%-3d  ", w["first_lead_days"].get<int>(), w["last_lead_days"].get<int>());
+    o << cell;
+    for (const auto& s : states) {
+      const double share = reliability_share(w["regimes"][s], w["cases"].get<double>());
+      if (std::isfinite(share))
+        std::snprintf(cell, sizeof cell, " %9.2f", share);
+      else
+        std::snprintf(cell, sizeof cell, " %9s", "-");
+      o << cell;
+    }
+    o << "\n";
+  }
+  o << "above 0.5 with observed frequencies outside the consistency bars (page, report): the probabilities are "
+       "mis-calibrated, not just noisy\n";
+  return o.str();
+}
+
 std::string verification_text(const json& rep) {
   std::ostringstream o;
   char line[200];
@@ -612,6 +654,7 @@ std::string verification_text(const json& rep) {
   }
   o << "intervals (" << 100 * rep["bootstrap"]["confidence"].get<double>() << " %) in the report: " << block_summary(rep)
     << "\n";
+  o << reliability_share_text(rep, rep["states"].get<std::vector<std::string>>());
   o << window_products_text(rep);
   o << "\nepisodes of " << rep["episodes"]["min_days"] << "+ days: caught " << rep["episodes"]["caught"] << ", missed "
     << rep["episodes"]["missed"] << "; false alarms " << rep["episodes"]["false_alarms"];

@@ -1,7 +1,7 @@
 """isohypse verify: the window products (dominance probability, expected days) scored against references.
 
 Runs verify on a small season made here (isohypse-demo-world --size small, daily issues with lag 3; or the built
-demo season named by ISOHYPSE_DEMO_OUT: 13 weekly issues, lag 4), the analysis files as observations, and
+demo season named by ISOHYPSE_DEMO_ROOT: daily issues, lag 4), the analysis files as observations, and
 recomputes every score from the guidance JSON files, the observed daily labels the report lists
 (sequence.observed) and the regime model file:
 - the dominance Brier score (Brier 1950) and ROC area (Mason & Graham 2002, Mann-Whitney) per state and window with
@@ -27,9 +27,9 @@ from common import BIN, BUILD, check, finish, run, scratch
 
 tmp = scratch()
 # The season verified: by default a small world made here (daily issues, lag 3, so that issues overlap, as
-# test_verify.py makes it); with ISOHYPSE_DEMO_OUT=/path/of/a/built/demo (out/archive, out/regimes.nc,
+# test_verify.py makes it); with ISOHYPSE_DEMO_ROOT=/path/of/a/built/demo (out/archive, out/regimes.nc,
 # demo/data/analysis) the demo season instead.
-DEMO = os.environ.get("ISOHYPSE_DEMO_OUT")
+DEMO = os.environ.get("ISOHYPSE_DEMO_ROOT")
 if DEMO:
     archive = os.path.join(DEMO, "out", "archive")
     model = os.path.join(DEMO, "out", "regimes.nc")
