@@ -46,6 +46,38 @@ TEST_CASE("service config: verify_options carries the verification settings") {
   CHECK(vc.guidance.empty());  // the request adds them
   CHECK(vc.windows == default_windows());
   CHECK(vc.seed == kDefaultSeed);
+  CHECK(vc.reliability_bins == 10);
+  CHECK_FALSE(vc.block_length.automatic);
+  CHECK(vc.block_length.days == 0);  // the lag span + 7 days
+  CHECK(vc.catch_margin == doctest::Approx(0.10));
+  CHECK(vc.catch_excess == doctest::Approx(0.15));
+}
+
+TEST_CASE("service config: the post-mortem keys reach verify and are checked") {
+  ServiceConfig c = ServiceConfig::from_json({{"model", "m.nc"},
+                                              {"inbox", "in"},
+                                              {"archive", "arch"},
+                                              {"reliability_bins", 5},
+                                              {"block_days", "auto"},
+                                              {"catch_margin", 0.2},
+                                              {"catch_excess", 0.05}},
+                                             "service.json");
+  c.validate();
+  VerifyConfig vc = c.verify_options();
+  CHECK(vc.reliability_bins == 5);
+  CHECK(vc.block_length.automatic);
+  CHECK(vc.catch_margin == doctest::Approx(0.2));
+  CHECK(vc.catch_excess == doctest::Approx(0.05));
+  c.block_days = "14";
+  CHECK(c.verify_options().block_length.days == 14);
+  c.block_days = "fortnight";
+  CHECK_THROWS_WITH_AS(c.validate(), doctest::Contains("--block-days"), InputError);
+  c.block_days = "lag+7";
+  c.reliability_bins = 1;
+  CHECK_THROWS_WITH_AS(c.validate(), doctest::Contains("--bins"), InputError);
+  c.reliability_bins = 10;
+  c.catch_excess = 1.5;
+  CHECK_THROWS_WITH_AS(c.validate(), doctest::Contains("catch_excess"), InputError);
 }
 
 TEST_CASE("service config: validate names the setting at fault") {

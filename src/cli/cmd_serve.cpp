@@ -34,6 +34,10 @@ void add_serve_options(CLI::App* sub, const std::shared_ptr<ServiceConfig>& cfg)
                   "Analysis files or globs for verification (default: the model's record)");
   sub->add_option("--members", cfg->members, "Expected members per initialisation before it is classified (0: any)");
   sub->add_option("--poll", cfg->poll_seconds, "Inbox poll interval in seconds (default 10)");
+  sub->add_option("--bins", cfg->reliability_bins,
+                  "Probability bins of the verification's Brier decomposition and reliability diagrams (default 10)");
+  sub->add_option("--block-days", cfg->block_days,
+                  "Block length of the verification's intervals: N days or auto (default: the lag span + 7 days)");
   add_variable_option(sub, cfg->variable, "Forecast height");
   sub->footer("The write token for POST /api/v1/runs comes from the environment variable ISOHYPSE_TOKEN or the "
               "config's \"token\"; it is never logged. Stop with Ctrl-C (SIGINT) or SIGTERM.");

@@ -9,7 +9,7 @@ ServiceConfig ServiceConfig::from_json(const nlohmann::json& j, const std::strin
   ServiceConfig c;
   check_keys(j, {"model", "inbox", "archive", "listen", "reforecasts", "observed", "variable", "lag", "weights",
                  "members", "poll_seconds", "token", "land_mask", "threads", "max_body_bytes", "timeout_seconds",
-                 "comment"},
+                 "reliability_bins", "block_days", "catch_margin", "catch_excess", "comment"},
              src);
   get_value(j, "model", c.model, src);
   get_value(j, "inbox", c.inbox, src);
@@ -27,6 +27,10 @@ ServiceConfig ServiceConfig::from_json(const nlohmann::json& j, const std::strin
   get_value(j, "threads", c.threads, src);
   get_value(j, "max_body_bytes", c.max_body_bytes, src);
   get_value(j, "timeout_seconds", c.timeout_seconds, src);
+  get_value(j, "reliability_bins", c.reliability_bins, src);
+  get_value(j, "block_days", c.block_days, src);
+  get_value(j, "catch_margin", c.catch_margin, src);
+  get_value(j, "catch_excess", c.catch_excess, src);
   return c;
 }
 
@@ -44,6 +48,9 @@ void ServiceConfig::validate() const {
   if (timeout_seconds < 1 || timeout_seconds > 600) throw InputError("serve: timeout_seconds must lie in 1 .. 600");
   Weighting::parse(weights);
   port();
+  VerifyConfig v = verify_options();
+  v.guidance = {archive};  // the request adds the files; here only the post-mortem's own settings are checked
+  v.validate();
 }
 
 std::string ServiceConfig::host() const {
@@ -75,6 +82,10 @@ VerifyConfig ServiceConfig::verify_options() const {
   VerifyConfig v;
   v.observed = observed;
   v.variable = variable;
+  v.reliability_bins = reliability_bins;
+  if (block_days != "lag+7") v.block_length = BlockLength::parse(block_days);
+  v.catch_margin = catch_margin;
+  v.catch_excess = catch_excess;
   return v;
 }
 

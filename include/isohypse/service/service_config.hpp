@@ -31,6 +31,14 @@ struct ServiceConfig {
   int threads = 16;                     // HTTP worker threads, 2 .. 256
   std::size_t max_body_bytes = 64 * 1024;  // 256 B .. 16 MiB
   int timeout_seconds = 10;             // read/write timeout per request for slow clients, 1 .. 600
+  // The post-mortem of /api/v1/verification, as verify's flags: probability
+  // bins of the decomposition and diagrams (--bins, >= 2), the block length
+  // of the intervals ("lag+7", N days or "auto"; --block-days), and the
+  // catch rule (--catch-margin, --catch-excess, 0 .. 1).
+  int reliability_bins = 10;
+  std::string block_days = "lag+7";
+  double catch_margin = 0.10;
+  double catch_excess = 0.15;
 
   // Keys as above (plus "comment"); unknown keys are refused by name.
   // Throws InputError naming `src` and the key.
@@ -46,8 +54,9 @@ struct ServiceConfig {
   // latest observed regime). The run adds its forecasts and issue date.
   // Throws InputError for weights that do not parse.
   ClassifyConfig classify_options() const;
-  // The settings of every verification the service runs: observed files
-  // and variable. The request adds the guidance files.
+  // The settings of every verification the service runs: observed files,
+  // variable, bins, block length and catch rule. The request adds the
+  // guidance files and the period. Throws InputError as VerifyConfig does.
   VerifyConfig verify_options() const;
 };
 
