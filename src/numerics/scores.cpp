@@ -15,7 +15,6 @@ namespace isohypse {
 namespace {
 
 using resampling::sorted_quantile;
-using resampling::uniform_below;
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
@@ -301,46 +300,6 @@ arma::vec frequency_bias(const arma::umat& table) {
   check_table("frequency_bias", table);
   const arma::mat t = arma::conv_to<arma::mat>::from(table);
   return arma::vec(arma::sum(t, 1)) / arma::vec(arma::sum(t, 0).t());
-}
-
-Interval block_bootstrap(const std::vector<int>& block_of_case,
-                         const std::function<double(const std::vector<std::size_t>& case_indices)>& statistic,
-                         int resamples, double level, std::uint64_t seed) {
-  if (block_of_case.empty()) throw InputError("block_bootstrap: no case to resample");
-  if (resamples < 1) throw InputError("block_bootstrap: resamples must be at least 1; found " + std::to_string(resamples));
-  if (!(level > 0.0 && level < 1.0)) {
-    throw InputError("block_bootstrap: level must be in (0, 1); found " + std::to_string(level));
-  }
-  // Blocks in ascending label order, so the draw depends only on the labels.
-  std::map<int, std::vector<std::size_t>> by_label;
-  for (std::size_t i = 0; i < block_of_case.size(); ++i) by_label[block_of_case[i]].push_back(i);
-  std::vector<const std::vector<std::size_t>*> blocks;
-  for (const auto& [label, cases] : by_label) blocks.push_back(&cases);
-
-  std::vector<std::size_t> all(block_of_case.size());
-  std::iota(all.begin(), all.end(), std::size_t{0});
-  Interval interval{statistic(all), kNaN, kNaN, 0};
-
-  std::mt19937_64 rng(seed);
-  std::vector<double> values;
-  values.reserve(static_cast<std::size_t>(resamples));
-  std::vector<std::size_t> cases;
-  for (int r = 0; r < resamples; ++r) {
-    cases.clear();
-    for (std::size_t b = 0; b < blocks.size(); ++b) {
-      const auto& block = *blocks[uniform_below(rng, blocks.size())];
-      cases.insert(cases.end(), block.begin(), block.end());
-    }
-    const double value = statistic(cases);
-    if (std::isfinite(value)) values.push_back(value);
-  }
-  interval.finite_resamples = values.size();
-  if (!values.empty()) {
-    std::sort(values.begin(), values.end());
-    interval.lower = sorted_quantile(values, (1.0 - level) / 2.0);
-    interval.upper = sorted_quantile(values, (1.0 + level) / 2.0);
-  }
-  return interval;
 }
 
 }  // namespace isohypse

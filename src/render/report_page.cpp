@@ -113,6 +113,18 @@ std::string line_chart(const std::string& title,
   return o.str();
 }
 
+// A count in at most four characters: 987, 1.3k, 13k.
+std::string short_count(double n) {
+  char text[16];
+  if (n < 1000)
+    std::snprintf(text, sizeof text, "%.0f", n);
+  else if (n < 9950)
+    std::snprintf(text, sizeof text, "%.1fk", n / 1000);
+  else
+    std::snprintf(text, sizeof text, "%.0fk", n / 1000);
+  return text;
+}
+
 // One window's reliability diagram: forecast probability against observed
 // frequency with ticks every 0.2, the diagonal of perfect reliability, each
 // non-empty bin as a dot at (mean forecast, observed frequency) on its
@@ -147,9 +159,12 @@ std::string reliability_panel(const json& w, int wi, const std::string& kind = "
   o << "<text x=\"" << P(0.5) << "\" y=\"" << S - 6 << "\" text-anchor=\"middle\">forecast probability</text>"
     << "<text x=\"12\" y=\"" << Q(0.5) << "\" transform=\"rotate(-90 12 " << Q(0.5)
     << ")\" text-anchor=\"middle\">observed frequency</text>";
+  int bin = 0;
   for (const auto& b : w["reliability"]) {
+    // Counts in two staggered rows, thousands shortened (the exact count on hover), so neighbours never overlap.
     o << "<text class=\"count\" x=\"" << P((b["lower"].get<double>() + b["upper"].get<double>()) / 2) << "\" y=\""
-      << T - 8 << "\" text-anchor=\"middle\" font-size=\"10\" fill=\"#666\">" << b["count"] << "</text>";
+      << T - 8 - 11 * (bin++ % 2) << "\" text-anchor=\"middle\" font-size=\"10\" fill=\"#666\"><title>" << b["count"]
+      << " cases</title>" << short_count(b["count"].get<double>()) << "</text>";
     if (!b["mean_forecast"].is_number()) continue;
     const double x = P(b["mean_forecast"].get<double>());
     if (b["consistency_lower"].is_number())
@@ -210,7 +225,7 @@ std::string decomposition_table(const json& rep, const std::vector<std::string>&
       for (const char* key : {"brier", "reliability", "resolution", "uncertainty", "within_bin_variance",
                               "within_bin_covariance"})
         o << "<td>" << fmt(r[key], "%.4f") << "</td>";
-      o << "<td>" << fmt(json(reliability_share(r, w["cases"].get<double>())), "%.2f") << "</td><td>"
+      o << "<td>" << fmt(number_or_null(reliability_share(r, w["cases"].get<double>())), "%.2f") << "</td><td>"
         << fmt(r["brier_skill"]) << "</td></tr>";
     }
   o << "</table>";
@@ -422,23 +437,32 @@ std::string window_product_table(const json& g, const States& states) {
     << "Dominance: multi-category Brier skill vs climatology " << interval_text(dom["multicategory_brier_skill"])
     << ". Expected days: mean absolute error " << fmt(days["mae"]) << " days (climatology "
     << fmt(days["mae_climatology"]) << "), skill " << interval_text(days["skill"]) << ".</p>";
-  o << "<table><tr><th class=\"l\">regime</th><th>climatological dominance</th><th>dominance Brier score</th>"
-       "<th>reliability</th><th>resolution</th><th>Brier skill vs climatology</th><th>ROC area</th>"
-       "<th>mean expected days</th><th>mean observed days</th><th>climatological days</th><th>MAE days</th>"
-       "<th>MAE skill vs climatology</th></tr>";
+  // Two tables side by side when they fit: the dominance probability, then the expected days.
+  o << "<div style=\"display:flex;flex-wrap:wrap;column-gap:1.5em;align-items:flex-start\">"
+       "<table><tr><th class=\"l\" colspan=\"7\">probability of dominating the window</th></tr>"
+       "<tr><th class=\"l\">regime</th><th>climatology</th><th>Brier score</th><th>reliability</th>"
+       "<th>resolution</th><th>Brier skill</th><th>ROC area</th></tr>";
+  auto value = [](const json& obj, const char* key) { return obj.contains(key) ? obj[key] : json(); };
+  auto name_cell = [&states](const std::string& s) {
+    return "<td class=\"l\" style=\"color:" + state_colour(states, s) + "\">" + esc(s) + "</td>";
+  };
   for (const auto& s : states) {
     const json& r = dom["regimes"].contains(s) ? dom["regimes"][s] : json::object();
-    const json& e = days["regimes"][s];
-    auto value = [](const json& obj, const char* key) { return obj.contains(key) ? obj[key] : json(); };
-    o << "<tr><td class=\"l\" style=\"color:" << state_colour(states, s) << "\">" << esc(s) << "</td><td>"
-      << fmt(g["climatology"]["dominance"][s]) << "</td><td>" << fmt(value(r, "brier"), "%.4f") << "</td><td>"
-      << fmt(value(r, "reliability"), "%.4f") << "</td><td>" << fmt(value(r, "resolution"), "%.4f") << "</td><td>"
-      << fmt(value(r, "brier_skill")) << "</td><td>" << fmt(value(r, "roc_area")) << "</td><td>"
-      << fmt(e["mean_expected_days"]) << "</td><td>" << fmt(e["mean_observed_days"]) << "</td><td>"
-      << fmt(e["climatological_days"]) << "</td><td>" << fmt(e["mae"]) << "</td><td>" << fmt(e["skill"])
-      << "</td></tr>";
+    o << "<tr>" << name_cell(s) << "<td>" << fmt(g["climatology"]["dominance"][s]) << "</td><td>"
+      << fmt(value(r, "brier"), "%.4f") << "</td><td>" << fmt(value(r, "reliability"), "%.4f") << "</td><td>"
+      << fmt(value(r, "resolution"), "%.4f") << "</td><td>" << fmt(value(r, "brier_skill")) << "</td><td>"
+      << fmt(value(r, "roc_area")) << "</td></tr>";
   }
-  o << "</table>";
+  o << "</table><table><tr><th class=\"l\" colspan=\"6\">expected days (mean per window)</th></tr>"
+       "<tr><th class=\"l\">regime</th><th>forecast</th><th>observed</th><th>climatology</th>"
+       "<th>absolute error</th><th>its skill</th></tr>";
+  for (const auto& s : states) {
+    const json& e = days["regimes"][s];
+    o << "<tr>" << name_cell(s) << "<td>" << fmt(e["mean_expected_days"]) << "</td><td>"
+      << fmt(e["mean_observed_days"]) << "</td><td>" << fmt(e["climatological_days"]) << "</td><td>"
+      << fmt(e["mae"]) << "</td><td>" << fmt(e["skill"]) << "</td></tr>";
+  }
+  o << "</table></div>";
   return o.str();
 }
 

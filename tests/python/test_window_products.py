@@ -196,7 +196,7 @@ for key, grp in sorted(groups.items()):
 page = open(html).read()
 with_diagram = [x for x in got.values() if x["dominance"]["cases"] > 0]
 check("<h2>Window products</h2>" in page and page.count("<h3>Days ") == len(got)
-      and "ROC area" in page and "MAE skill vs climatology" in page
+      and "ROC area" in page and "expected days (mean per window)" in page and "absolute error" in page
       and page.count('class="chart dominance"') == len(with_diagram),
       "the HTML page shows a window-products table and a dominance reliability diagram per lead window")
 # The dominance reliability diagram pools every state: each scored, untied window once per state, in 10 bins.

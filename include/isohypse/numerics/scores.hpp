@@ -136,20 +136,5 @@ struct Interval {
   // percentiles); lower and upper are NaN when none was.
   std::size_t finite_resamples = 0;
 };
-// Block bootstrap percentile interval. Cases that share a block label (e.g.
-// the initialisation date, whose lead times and members are correlated) are
-// resampled together: each resample draws as many blocks as there are
-// distinct labels, uniformly with replacement, and calls statistic on the
-// concatenation of their case indices (0-based indices into block_of_case;
-// a block drawn twice appears twice). estimate = statistic on all cases in
-// their original order; lower and upper are the (1 - level)/2 and
-// (1 + level)/2 quantiles of the resampled statistics (linear interpolation
-// between order statistics, numpy's default). Single-threaded and
-// deterministic for a seed (own integer mapping of std::mt19937_64, so the
-// same on every standard library). Throws InputError for an empty
-// block_of_case, resamples < 1, or level outside (0, 1).
-Interval block_bootstrap(const std::vector<int>& block_of_case,
-                         const std::function<double(const std::vector<std::size_t>& case_indices)>& statistic,
-                         int resamples, double level, std::uint64_t seed);
 
 }  // namespace isohypse
