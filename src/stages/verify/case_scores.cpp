@@ -6,6 +6,7 @@
 #include "isohypse/base/vocabulary.hpp"
 #include "isohypse/numerics/block_bootstrap.hpp"
 #include "isohypse/numerics/scores.hpp"
+#include "stages/verify/block_interval.hpp"
 
 namespace isohypse::verification {
 
@@ -82,13 +83,8 @@ json headline_interval(const Cases& cases, const std::vector<std::size_t>& idx, 
   // A hit rate lies in [0, 1], a skill score at most 1: the symmetric t interval is clamped there.
   const StatisticRange range =
       which == Headline::HitRate ? StatisticRange{0.0, 1.0} : StatisticRange{.highest = 1.0};
-  const BlockInterval ci = moving_block_bootstrap(issue_days(cases, idx), block_days_for(cases, idx, config.block_length),
-                                                  statistic, config.bootstrap_resamples, config.confidence, config.seed,
-                                                  range);
-  json out{{"estimate", num(ci.interval.estimate)}, {"lower", num(ci.interval.lower)},
-           {"upper", num(ci.interval.upper)}, {"block_days", ci.block_days}, {"blocks", ci.blocks}};
-  if (!ci.note.empty()) out["note"] = ci.note;
-  return out;
+  return block_interval_json(issue_days(cases, idx), block_days_for(cases, idx, config.block_length), statistic, config,
+                             range);
 }
 
 json state_scores_json(const Cases& cases, const std::vector<std::size_t>& idx, const StateClimatology& climatology,

@@ -11,6 +11,7 @@
 #include "isohypse/base/vocabulary.hpp"
 #include "isohypse/numerics/block_bootstrap.hpp"
 #include "isohypse/numerics/scores.hpp"
+#include "stages/verify/block_interval.hpp"
 #include "stages/verify/case_scores.hpp"
 #include "stages/verify/window_outcomes.hpp"
 
@@ -120,12 +121,7 @@ json window_interval(const std::vector<WindowCase>& cases, const std::vector<std
     for (auto j : pick) sub.push_back(idx[j]);
     return stat(sub);
   };
-  const BlockInterval ci = moving_block_bootstrap(issue_days, block_days, resampled, config.bootstrap_resamples,
-                                                  config.confidence, config.seed, StatisticRange{.highest = 1.0});
-  json out{{"estimate", num(ci.interval.estimate)}, {"lower", num(ci.interval.lower)},
-           {"upper", num(ci.interval.upper)}, {"block_days", ci.block_days}, {"blocks", ci.blocks}};
-  if (!ci.note.empty()) out["note"] = ci.note;
-  return out;
+  return block_interval_json(issue_days, block_days, resampled, config, StatisticRange{.highest = 1.0});
 }
 
 // Mean multi-category Brier score of the dominance forecasts of cases idx
