@@ -141,7 +141,7 @@ TEST_CASE("ensemble: window expected days dominance and transitions (worked by h
   //   m1 w1, days 0..5: 2 | 0 0 1 1 | 2   window 0 0 1 1 -> dominant tie 0/1, half each
   //   m2 w1, days 1..4:     1 1 1 0       -> dominant 1
   //   m3 w2, days 1..4:     2 2 0 2       -> dominant 2
-  //   m4 w1, days 2..4:       0 0 0       -> misses day 1: no dominance vote
+  //   m4 w1, days 2..4:       0 0 0       -> 3 of 4 days (75 %, under 80 %): no dominance vote
   // Dominance (weight 4): (0.5, 0.5 + 1, 2) / 4 = (0.125, 0.375, 0.5).
   // Daily p: day 1 (1,1,2)/4, day 2 (2,1,2)/5, day 3 (3,2,0)/5, day 4 (2,1,2)/5;
   // expected days (0.25+0.4+0.6+0.4, 0.25+0.2+0.4+0.2, 0.5+0.4+0+0.4) = (1.65, 1.05, 1.3).
@@ -154,6 +154,8 @@ TEST_CASE("ensemble: window expected days dominance and transitions (worked by h
   CHECK(w.first == 1);
   CHECK(w.last == 4);
   CHECK(w.members == 3);
+  CHECK(w.member_weight == doctest::Approx(4.0));
+  CHECK(w.initialisations == 1);  // every track() is initialisation 2025-12-01
   CHECK(same(w.dominance, arma::vec{0.125, 0.375, 0.5}));
   CHECK(same(w.expected_days, arma::vec{1.65, 1.05, 1.3}));
   CHECK(same(w.transition_counts, arma::mat{{3, 1, 2}, {1, 3, 0}, {2, 0, 2}}));
@@ -166,7 +168,7 @@ TEST_CASE("ensemble: window expected days dominance and transitions (worked by h
   CHECK(w4.transition.row(3).is_finite() == false);
   CHECK(same(w4.transition.submat(0, 0, 2, 2), w.transition));
 
-  // Window 0..1: only m1 covers both days (2 then 0); no other member counts.
+  // Window 0..1: only m1 covers both days (2 then 0); the others have at most 1 of 2 and do not count.
   const WindowSummary early = window_summary(tracks, 3, 0, 1);
   CHECK(early.members == 1);
   CHECK(same(early.dominance, arma::vec{0.5, 0, 0.5}));
@@ -174,11 +176,69 @@ TEST_CASE("ensemble: window expected days dominance and transitions (worked by h
   // Day 0 is m1's alone (state 2), day 1 as above: expected (0.25, 0.25, 1.5).
   CHECK(same(early.expected_days, arma::vec{0.25, 0.25, 1.5}));
 
-  // No member covers a whole window: dominance NaN, members 0.
+  // No member covers four fifths of the window (m1 has 2 of 3 days): dominance NaN, members 0.
   const WindowSummary late = window_summary(tracks, 3, 4, 6);
   CHECK(late.members == 0);
   CHECK(late.dominance.has_nan());
   CHECK(arma::accu(late.expected_days) == doctest::Approx(2.0));  // days 4 and 5 covered
+}
+
+TEST_CASE("ensemble: window dominance counts members covering at least 80 percent (worked by hand)") {
+  // Worked by hand. n_states 3, window days 1..5 (5 days: four fifths is 4 days).
+  //   m1 init A w1,   days 0..5:  2 | 0 0 1 1 1      5 of 5 -> dominant 1
+  //   m5 init A w1,   days 0..5:  0 | 0 0 0 2 2      5 of 5 -> dominant 0
+  //   m2 init B w2,   days -1..4: 0 1 | 2 2 0 0      4 of 5 (80 %) -> tie 0/2, weight 1 each
+  //   m3 init C w1,   days -2..3: 1 1 1 | 1 1 1      3 of 5 (60 %) -> no vote
+  //   m4 init D w0.5, days 2..5:  2 2 2 1 (day 1 missing) 4 of 5 -> dominant 2
+  // Dominance (weight 1 + 1 + 2 + 0.5 = 4.5): (1 + 1, 1, 1 + 0.5) / 4.5 = (4/9, 2/9, 1/3);
+  // 4 members from 3 initialisations (A, B, D). Requiring every day (before
+  // issue 13) would have counted m1 and m5 alone: (0.5, 0.5, 0).
+  // Expected days keep every covering member, m3 too. Daily p:
+  //   day 1 (2,1,2)/5, day 2 (2,1,2.5)/5.5, day 3 (3,2,0.5)/5.5, day 4 (2,1,1.5)/4.5, day 5 (0,1.5,1)/2.5
+  //   -> (0.4 + 10/11 + 4/9, 0.8 + 6/11 + 2/9, 0.8 + 6/11 + 1/3), summing to the 5 covered days.
+  const std::vector<MemberTrack> tracks = {{"A", 1, 1.0, 0, {2, 0, 0, 1, 1, 1}},
+                                           {"A", 5, 1.0, 0, {0, 0, 0, 0, 2, 2}},
+                                           {"B", 2, 2.0, -1, {0, 1, 2, 2, 0, 0}},
+                                           {"C", 3, 1.0, -2, {1, 1, 1, 1, 1, 1}},
+                                           {"D", 4, 0.5, 2, {2, 2, 2, 1}}};
+  const WindowSummary w = window_summary(tracks, 3, 1, 5);
+  CHECK(w.members == 4);
+  CHECK(w.member_weight == doctest::Approx(4.5));
+  CHECK(w.initialisations == 3);
+  CHECK(same(w.dominance, arma::vec{4.0 / 9, 2.0 / 9, 1.0 / 3}));
+  const arma::vec expected = {0.4 + 10.0 / 11 + 4.0 / 9, 0.8 + 6.0 / 11 + 2.0 / 9, 0.8 + 6.0 / 11 + 1.0 / 3};
+  CHECK(same(w.expected_days, expected));
+
+  // Window 0..18 (19 days; four fifths is 15.2, so 16 days are needed):
+  //   X w1, days -3..18: window 10 x state 0 then 9 x state 1   19 of 19 -> dominant 0
+  //   Y w1, days -4..11: window 12 days all 2                   12 of 19 (63 %) -> no vote
+  //   Y w1, days 0..15:  8 x 1 then 8 x 2                       16 of 19 (84 %) -> tie 1/2
+  //   Z w1, days 0..14:  15 x 2                                 15 of 19 (79 %) -> no vote
+  // Dominance (weight 2): (1, 0.5, 0.5) / 2 = (0.5, 0.25, 0.25), 2 members of 2 initialisations.
+  std::vector<int> x(3, 1), y1(16, 2), y2(8, 1), z(15, 2);
+  x.insert(x.end(), 10, 0);
+  x.insert(x.end(), 9, 1);
+  y2.insert(y2.end(), 8, 2);
+  const std::vector<MemberTrack> long_tracks = {
+      {"X", 0, 1.0, -3, x}, {"Y", 0, 1.0, -4, y1}, {"Y", 1, 1.0, 0, y2}, {"Z", 0, 1.0, 0, z}};
+  const WindowSummary lw = window_summary(long_tracks, 3, 0, 18);
+  CHECK(lw.members == 2);
+  CHECK(lw.member_weight == doctest::Approx(2.0));
+  CHECK(lw.initialisations == 2);
+  CHECK(same(lw.dominance, arma::vec{0.5, 0.25, 0.25}));
+  CHECK(arma::accu(lw.expected_days) == doctest::Approx(19.0));
+
+  // Exactly four fifths of a 10-day window (8 days) counts; 7 days do not.
+  const WindowSummary ten = window_summary({{"P", 0, 1.0, 0, std::vector<int>(8, 1)},
+                                            {"Q", 0, 1.0, 0, std::vector<int>(7, 0)}}, 2, 0, 9);
+  CHECK(ten.members == 1);
+  CHECK(same(ten.dominance, arma::vec{0, 1}));
+  // No member reaches four fifths: NaN dominance, zero counts.
+  const WindowSummary none = window_summary({{"Q", 0, 1.0, 0, std::vector<int>(7, 0)}}, 2, 0, 9);
+  CHECK(none.members == 0);
+  CHECK(none.member_weight == 0.0);
+  CHECK(none.initialisations == 0);
+  CHECK(none.dominance.has_nan());
 }
 
 TEST_CASE("ensemble: current age of the state at each offset (worked by hand)") {

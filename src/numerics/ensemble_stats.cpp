@@ -4,6 +4,7 @@
 #include <charconv>
 #include <cmath>
 #include <limits>
+#include <set>
 #include <string>
 
 #include "isohypse/base/error.hpp"
@@ -64,6 +65,22 @@ std::pair<long long, long long> covered_days(const std::vector<MemberTrack>& tra
     hi = std::max(hi, t.first_offset + s.end - 1);
   }
   return {lo, hi};
+}
+
+// Whether a track's span in [first, last] holds at least kDominanceMinCoverage
+// of the window's days. Why 0.8: the older initialisations of a daily lag stop
+// a few days short of a long window's end (a 4-day lag misses at most 3 of the
+// 17 days of 29-45, covering 82 %), and requiring every day let only the
+// latest initialisation vote. A member missing the last fifth keeps its
+// whole-window mode unless the runner-up state gains more than its lead in
+// those days, and with regimes lasting about a week the missing days mostly
+// continue the last covered ones; below four fifths a member sees too little
+// of the window. Completeness thresholds of this kind are common practice for
+// statistics of incomplete daily series; the value 0.8 is our choice. The
+// 1e-9 keeps an exact four fifths (4 of 5 days) in despite rounding.
+bool covers_enough(const Span& s, int first, int last) {
+  const double window_days = static_cast<double>(last) - first + 1.0;
+  return s.end > s.begin && static_cast<double>(s.end - s.begin) >= kDominanceMinCoverage * window_days - 1e-9;
 }
 
 // For each label, how many days its state has lasted, counted back to the
@@ -205,21 +222,22 @@ WindowSummary window_summary(const std::vector<MemberTrack>& tracks, int n_state
 
   w.dominance.zeros(n_states);
   w.transition_counts.zeros(n_states, n_states);
-  double dominance_weight = 0.0;
-  const long long window_days = static_cast<long long>(last) - first + 1;
+  std::set<std::string> initialisations;
   for (const MemberTrack& t : tracks) {
     const Span s = span_in(t, first, last);
     for (long long i = s.begin; i + 1 < s.end; ++i) w.transition_counts(t.labels[i], t.labels[i + 1]) += t.weight;
-    if (s.end - s.begin < window_days) continue;  // does not cover the whole window
+    if (!covers_enough(s, first, last)) continue;
     arma::uvec days_in(n_states, arma::fill::zeros);
     for (long long i = s.begin; i < s.end; ++i) ++days_in[t.labels[i]];
     const arma::uvec modes = arma::find(days_in == days_in.max());
     w.dominance.elem(modes) += t.weight / static_cast<double>(modes.n_elem);
-    dominance_weight += t.weight;
+    w.member_weight += t.weight;
     ++w.members;
+    initialisations.insert(t.initialisation);
   }
+  w.initialisations = static_cast<int>(initialisations.size());
   if (w.members > 0)
-    w.dominance /= dominance_weight;
+    w.dominance /= w.member_weight;
   else
     w.dominance.fill(kNaN);
   w.transition = normalise_rows(w.transition_counts);

@@ -416,7 +416,7 @@ std::string left_out_text(const json& g) {
   for (const auto& [key, words] : {Reason{"partly_outside_period", "partly outside the period"},
                                    Reason{"outside_season", "outside the model's season"},
                                    Reason{"not_observed", "not observed on every day"},
-                                   Reason{"no_member_covers", "no member covering the whole window"}}) {
+                                   Reason{"no_member_covers", "no member covering enough of the window"}}) {
     const std::size_t n = g["left_out"].value(key, std::size_t{0});
     if (n > 0) text += (text.empty() ? "" : ", ") + std::to_string(n) + " " + words;
   }

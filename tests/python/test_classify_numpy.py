@@ -56,11 +56,12 @@ def check_csv(g, folder, what):
     with open(os.path.join(folder, "windows.csv")) as f:
         rows = list(csv.reader(f))
     want = (["first_lead_days", "last_lead_days", "from", "to"] + [f"p_dominant_{s}" for s in states]
-            + [f"expected_days_{s}" for s in states])
+            + [f"expected_days_{s}" for s in states] + ["members", "member_weight", "initialisations"])
     check(rows[0] == want, f"{what}: windows.csv header {','.join(rows[0])}")
     ok = len(rows) - 1 == len(g["windows"])
     for row, w in zip(rows[1:], g["windows"]):
-        vals = [w["dominance"][s] for s in states] + [w["expected_days"][s] for s in states]
+        vals = ([w["dominance"][s] for s in states] + [w["expected_days"][s] for s in states]
+                + [w["members"], w["member_weight"], w["initialisations"]])
         ok &= [int(row[0]), int(row[1]), row[2], row[3]] == [w["first_lead_days"], w["last_lead_days"], w["from"], w["to"]]
         ok &= all((x == "" and v is None) or close(float(x), v, 1e-5 * max(1.0, abs(v or 0))) for x, v in zip(row[4:], vals))
     check(ok, f"{what}: windows.csv's {len(rows) - 1} rows equal the JSON's windows")

@@ -58,7 +58,7 @@ std::vector<double> initialisation_weights(const std::vector<int>& ages_days, co
 
 // One member of one initialisation: its regime label on consecutive valid days.
 struct MemberTrack {
-  std::string initialisation;  // e.g. "2025-12-01"; used in error messages only
+  std::string initialisation;  // e.g. "2025-12-01"; in error messages, and window_summary counts distinct ones
   int member = 0;
   double weight = 1.0;         // the weight of its initialisation; finite, > 0
   int first_offset = 0;        // valid day of labels[0], in days after the issue date
@@ -80,6 +80,12 @@ struct DayProbabilities {
 std::vector<DayProbabilities> daily_probabilities(const std::vector<MemberTrack>& tracks, int n_states,
                                                   int first, int last);
 
+// The least share of a window's days a member must cover for its vote in the
+// window's dominance: 0.8, so that at long leads the older initialisations of
+// a lag, which stop a few days short of the window's end, still count (see
+// window_summary in the .cpp for the reasoning).
+inline constexpr double kDominanceMinCoverage = 0.8;
+
 // Summary of the days first..last (offsets, inclusive, e.g. 1..3).
 struct WindowSummary {
   int first = 0, last = 0;
@@ -89,9 +95,13 @@ struct WindowSummary {
   arma::vec expected_days;
   // n_states: weighted fraction of members whose most frequent state in the
   // window is k, ties split equally among the tied states. Only members
-  // covering every day of the window count; NaN for every k when none does.
+  // covering at least kDominanceMinCoverage of the window's days count, each
+  // with its most frequent state over the days it covers; NaN for every k
+  // when none does.
   arma::vec dominance;
   int members = 0;                 // members counted for dominance
+  double member_weight = 0.0;      // the sum of their weights (0 when none)
+  int initialisations = 0;         // distinct MemberTrack::initialisation among them
   // n_states x n_states: weighted counts (sum of member weights) of
   // day-to-day transitions from row state to column state, over all members
   // and every pair of consecutive days both inside the window and in the track.

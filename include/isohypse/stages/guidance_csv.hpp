@@ -9,7 +9,9 @@ namespace isohypse {
 
 // Writes DIR/daily.csv (valid_date, lead_days, then the probability of each
 // state) and DIR/windows.csv (first_lead_days, last_lead_days, from, to, then
-// p_dominant_STATE and expected_days_STATE for each state), each atomically;
+// p_dominant_STATE and expected_days_STATE for each state, then members,
+// member_weight and initialisations: the members counted for dominance, the
+// sum of their weights and the initialisations they come from), each atomically;
 // a missing value (JSON null) is an empty field. Creates DIR. `guidance` is a
 // document from classify_forecasts. Throws InputError when DIR cannot be
 // created or a file cannot be written.

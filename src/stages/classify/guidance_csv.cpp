@@ -41,13 +41,14 @@ std::string windows_csv(const json& g) {
   w << "first_lead_days,last_lead_days,from,to";
   for (const auto& s : states) w << ",p_dominant_" << s.get<std::string>();
   for (const auto& s : states) w << ",expected_days_" << s.get<std::string>();
-  w << "\n";
+  w << ",members,member_weight,initialisations\n";
   for (const auto& e : g.at("windows")) {
     w << e.at("first_lead_days").get<int>() << "," << e.at("last_lead_days").get<int>() << ","
       << e.at("from").get<std::string>() << "," << e.at("to").get<std::string>();
     for (const auto& s : states) w << "," << csv_number(e.at("dominance").at(s.get<std::string>()));
     for (const auto& s : states) w << "," << csv_number(e.at("expected_days").at(s.get<std::string>()));
-    w << "\n";
+    w << "," << e.at("members").get<int>() << "," << csv_number(e.at("member_weight")) << ","
+      << e.at("initialisations").get<int>() << "\n";
   }
   return w.str();
 }

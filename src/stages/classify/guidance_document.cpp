@@ -96,6 +96,9 @@ json windows_json(const WindowStatistics& s, const Date& issue, const std::vecto
                        {"expected_days", by_state(states, w.expected_days)},
                        {"dominance", by_state(states, w.dominance)},
                        {"members", w.members},
+                       {"member_weight", w.member_weight},
+                       {"initialisations", w.initialisations},
+                       {"min_coverage", kDominanceMinCoverage},
                        {"transitions", transition_json(states, w.transition, w.transition_counts)}});
   return windows;
 }

@@ -1,5 +1,6 @@
 #include "isohypse/stages/guidance_text.hpp"
 
+#include <cmath>
 #include <cstdio>
 #include <map>
 #include <sstream>
@@ -26,14 +27,15 @@ std::string ensemble_lines(const json& g) {
   return o.str();
 }
 
-// One line per window: the state most likely to dominate it and its probability.
+// One line per window: the state most likely to dominate it, its probability
+// and the members behind it (counted, and the initialisations they come from).
 std::string window_lines(const json& g) {
   std::map<std::string, std::string> names;
   for (const auto& r : g.at("regimes")) names[r.at("id")] = r.at("name");
   names[kNoRegimeState] = kNoRegimeName;
   std::ostringstream o;
   char line[256];
-  o << "\nwindow (lead days)   most likely to dominate                      probability\n";
+  o << "\nwindow (lead days)   most likely to dominate                      probability  members\n";
   for (const auto& w : g.at("windows")) {
     std::string best;
     double bp = -1;
@@ -42,11 +44,19 @@ std::string window_lines(const json& g) {
         bp = p.get<double>();
         best = s;
       }
-    std::snprintf(line, sizeof line, "%3d-%-3d %s..%s  %-4s %-40.40s %5.0f%%\n", w.at("first_lead_days").get<int>(),
-                  w.at("last_lead_days").get<int>(), w.at("from").get<std::string>().substr(5).c_str(),
-                  w.at("to").get<std::string>().substr(5).c_str(), best.c_str(), names[best].c_str(), 100 * bp);
+    // No member covers enough of the window: no state and no probability to name.
+    const std::string probability = bp < 0 ? "-" : std::to_string(static_cast<int>(std::lround(100 * bp))) + "%";
+    const int inits = w.at("initialisations").get<int>();
+    std::snprintf(line, sizeof line, "%3d-%-3d %s..%s  %-4s %-40.40s %11s  %d from %d initialisation%s\n",
+                  w.at("first_lead_days").get<int>(), w.at("last_lead_days").get<int>(),
+                  w.at("from").get<std::string>().substr(5).c_str(), w.at("to").get<std::string>().substr(5).c_str(),
+                  bp < 0 ? "-" : best.c_str(), bp < 0 ? "no member covers enough of the window" : names[best].c_str(),
+                  probability.c_str(), w.at("members").get<int>(), inits, inits == 1 ? "" : "s");
     o << line;
   }
+  if (!g.at("windows").empty())
+    o << "(members: those covering at least " << std::lround(100 * g.at("windows")[0].at("min_coverage").get<double>())
+      << "% of a window's days, each with its most frequent regime over the days it covers)\n";
   return o.str();
 }
 

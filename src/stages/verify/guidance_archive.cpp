@@ -140,7 +140,7 @@ WindowGuidance parse_window(const json& e, std::size_t index, const std::string&
   w.members = lead_value(member(e, "members", file, owner), file, owner, "members");
   const json& dominance = member(e, "dominance", file, owner);
   if (!dominance.is_null()) w.dominance = by_state_values(dominance, "dominance", true, file, owner, states);
-  // All null: no member covers the whole window. Some null: a broken file.
+  // All null: no member covers enough of the window. Some null: a broken file.
   auto is_null = [](double x) { return std::isnan(x); };
   const auto nulls = static_cast<std::size_t>(std::count_if(w.dominance.begin(), w.dominance.end(), is_null));
   if (nulls == states.size()) w.dominance.reset();

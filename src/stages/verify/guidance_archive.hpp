@@ -24,11 +24,13 @@ struct DailyGuidance {
 struct WindowGuidance {
   int first_lead = 0, last_lead = 0;  // lead days, as the file states them ("first_lead_days", "last_lead_days")
   Date from, to;                      // first and last valid date, real calendar; to - from = last_lead - first_lead
-  int members = 0;                    // members covering every day of the window
+  // Members counted for dominance: since issue 13 those covering at least
+  // 80 % of the window's days (the file's min_coverage), before it every day.
+  int members = 0;
   // Per state in the model's order: the probability that the state is the
   // most frequent over the window (members' ties split equally), each in
   // [0, 1]. Empty when the file gives null for every state (no member covers
-  // the whole window): the window cannot be scored.
+  // enough of the window): the window cannot be scored.
   arma::vec dominance;
   arma::vec expected_days;            // per state: sum of the daily probabilities, days (>= 0); null reads as 0
 };

@@ -32,7 +32,7 @@ namespace isohypse::verification {
 // ordered by them, for windows with at least one valid day in [config.from,
 // config.to]. A window is scored only when every valid day lies in that
 // period, in one of season_months (empty: any month) and is observed, and
-// some member covers the whole window (its dominance is not null); the
+// some member covers enough of the window (its dominance is not null); the
 // others are counted under "left_out" by reason (partly_outside_period,
 // outside_season, not_observed, no_member_covers). A scored window whose
 // observed days tie for the most ("tied") is left out of the dominance
