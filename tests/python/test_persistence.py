@@ -21,12 +21,13 @@ import datetime
 import json
 import os
 
+import cftime
 import netCDF4
 import numpy as np
 from jsonschema import Draft202012Validator
 
 from common import SOURCE, check, finish, scratch
-from classify_data import classify, planted_forecast, reference, small_model, write_forecast
+from classify_data import classify, reference, small_model, write_forecast
 
 tmp = scratch()
 lat = np.arange(20.0, 80.1, 5.0)
@@ -72,13 +73,32 @@ def count(states, follows, s, n, age=0):
     return cases, lasted
 
 
+def planted_runs(model, init, rng, noise=25.0):
+    """Heights (members, leads, lat, lon): climatology plus one regime pattern
+    held for runs of 2..9 days (a run of no pattern one time in ten), so
+    members persist and the forecast chance of lasting is not trivially 0
+    (and differs from the value pooled over every lead)."""
+    valid = [cftime.datetime(*init, calendar="standard") + datetime.timedelta(days=d) for d in range(LEADS)]
+    clim = model.climatology(valid).reshape(LEADS, model.lat.size, model.lon.size)
+    h = np.empty((MEMBERS, LEADS, model.lat.size, model.lon.size))
+    for m in range(MEMBERS):
+        d = 0
+        while d < LEADS:
+            run_len, a = int(rng.integers(2, 10)), (0.0 if rng.random() < 0.1 else 1.3)
+            pattern = model.patterns[rng.integers(model.k)]
+            for t in range(d, min(LEADS, d + run_len)):
+                h[m, t] = clim[t] + a * pattern + rng.normal(0.0, noise, pattern.shape)
+            d += run_len
+    return h
+
+
 def run_case(what, model_path, inits, record):
     model = reference.Model(model_path)
     folder = os.path.join(tmp, what)
     os.makedirs(folder)
     for init in inits:
         write_forecast(os.path.join(folder, "fc_%04d%02d%02d.nc" % init),
-                       planted_forecast(model, init, "standard", MEMBERS, LEADS, rng), lat, lon, init, "standard")
+                       planted_runs(model, init, rng), lat, lon, init, "standard")
     out = os.path.join(folder, "guidance.json")
     r = classify("--model", model_path, "--forecasts", os.path.join(folder, "fc_*.nc"), "--members",
                  "--weights", "linear", "--out", out)
