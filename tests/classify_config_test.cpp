@@ -111,6 +111,8 @@ TEST_CASE("classify steps: results that do not fit together are an internal erro
     WindowStatistics statistics;
     statistics.n_states = 3;
     const std::optional<ObservedRegime> observed;
-    CHECK_THROWS_AS(guidance_document(model, cfg, {ensemble, climate, labels, statistics, observed}), InternalError);
+    const PersistenceClimatology persistence;
+    CHECK_THROWS_AS(guidance_document(model, cfg, {ensemble, climate, labels, statistics, observed, persistence}),
+                    InternalError);
   }
 }

@@ -264,27 +264,30 @@ TEST_CASE("ensemble: current age of the state at each offset (worked by hand)") 
   CHECK_THROWS_AS(current_age(tracks, 2, 0, 5, 0), InternalError);
 }
 
-TEST_CASE("ensemble: lasting probabilities on a hand-made set (worked by hand)") {
-  // Worked by hand. t1 (w1): 0 0 0 1 0;  t2 (w2): 1 1 0 0.  Horizons 1, 2, 4.
-  // n = 1: state 0 days t1 0,1,2 (stay, stay, leave), t2 2 (stay, w2) -> 4/5, 4 cases;
-  //        state 1 days t1 3 (leave), t2 0 (stay, w2), 1 (leave, w2)  -> 2/5, 3 cases.
-  // n = 2: state 0 days t1 0 (00: yes), 1 (01: no), 2 (10: no) -> 1/3, 3 cases;
-  //        state 1 days t2 0 (10: no), 1 (00: no) -> 0, 2 cases.
-  // n = 4: only t1 day 0 (0 0 1 0: no) -> state 0: 0 of 1; state 1: NaN, 0 cases.
-  const std::vector<MemberTrack> tracks = {track(1, 0, {0, 0, 0, 1, 0}), track(2, 3, {1, 1, 0, 0})};
-  const LastingProbability l = lasting_probability(tracks, 2, {1, 2, 4});
-  CHECK(l.horizons == std::vector<int>{1, 2, 4});
-  CHECK(l.probability(0, 0) == doctest::Approx(0.8));
-  CHECK(l.probability(1, 0) == doctest::Approx(0.4));
+TEST_CASE("ensemble: lasting of the spell under way at the issue date (worked by hand)") {
+  // Worked by hand. Day 0 is the issue date; horizons 1, 2, 3, 4.
+  // t1 (w1, from day -1): 1 0 0 0 1 -> in 0 on day 0; holds 1 and 2 days, not 3; no day 4.
+  // t2 (w2, from day 0):  0 0 1     -> in 0; holds 1 day, not 2; no day 3.
+  // t3 (w1, from day 0):  1 1 1 1 1 1 -> in 1; holds 1..4 days.
+  // t4 (w3, from day 1) and t5 (w1, days -5..-4) miss day 0 and do not count,
+  // although pooling their leads would.
+  // State 0: n = 1: (1 + 2) / 3 = 1, 2 members; n = 2: 1/3, 2; n = 3: 0/1, 1; n = 4: NaN, 0.
+  // State 1: 1 for every horizon, 1 member.
+  const std::vector<MemberTrack> tracks = {track(1, -1, {1, 0, 0, 0, 1}), track(2, 0, {0, 0, 1}),
+                                           track(1, 0, {1, 1, 1, 1, 1, 1}), track(3, 1, {0, 0}),
+                                           track(1, -5, {0, 0})};
+  const LastingProbability l = lasting_probability(tracks, 2, {1, 2, 3, 4});
+  CHECK(l.horizons == std::vector<int>{1, 2, 3, 4});
+  CHECK(l.probability(0, 0) == doctest::Approx(1.0));
   CHECK(l.probability(0, 1) == doctest::Approx(1.0 / 3.0));
-  CHECK(l.probability(1, 1) == 0.0);
   CHECK(l.probability(0, 2) == 0.0);
-  CHECK(std::isnan(l.probability(1, 2)));
-  CHECK(same(l.cases, arma::mat{{4, 3, 1}, {3, 2, 0}}));
-  // Default horizons 3, 5, 7: a 10-day run in state 0 lasts from days 0..6 for n = 3.
+  CHECK(std::isnan(l.probability(0, 3)));
+  CHECK(same(l.probability.row(1), arma::rowvec{1, 1, 1, 1}));
+  CHECK(same(l.cases, arma::mat{{2, 2, 1, 0}, {1, 1, 1, 1}}));
+  // Default horizons 3, 5, 7: a 10-day run from day 0 lasts for each.
   const LastingProbability d = lasting_probability({track(1, 0, std::vector<int>(10, 0))}, 2);
   CHECK(d.horizons == std::vector<int>{3, 5, 7});
-  CHECK(same(d.cases.row(0), arma::rowvec{7, 5, 3}));
+  CHECK(same(d.cases.row(0), arma::rowvec{1, 1, 1}));
   CHECK(same(d.probability.row(0), arma::rowvec{1, 1, 1}));
   CHECK_THROWS_AS(lasting_probability(tracks, 2, {}), InternalError);
   CHECK_THROWS_AS(lasting_probability(tracks, 2, {3, 0}), InternalError);

@@ -282,16 +282,19 @@ LastingProbability lasting_probability(const std::vector<MemberTrack>& tracks, i
   const arma::uword n_h = horizons.size();
   arma::mat lasted(n_states, n_h, arma::fill::zeros), weight(n_states, n_h, arma::fill::zeros);
   LastingProbability out{horizons, arma::mat(n_states, n_h), arma::mat(n_states, n_h, arma::fill::zeros)};
+  // Only the spell under way at the issue date: pooling every lead would mix
+  // spells that begin late in the forecast, where members have lost skill.
   for (const MemberTrack& t : tracks) {
+    const long long i0 = -static_cast<long long>(t.first_offset), n_labels = static_cast<long long>(t.labels.size());
+    if (i0 < 0 || i0 >= n_labels) continue;
     const std::vector<int> ahead = days_ahead(t.labels);
-    const long long n_labels = static_cast<long long>(t.labels.size());
-    for (arma::uword h = 0; h < n_h; ++h)
-      for (long long i = 0; i + horizons[h] < n_labels; ++i) {
-        const int k = t.labels[i];
-        weight(k, h) += t.weight;
-        out.cases(k, h) += 1.0;
-        if (ahead[i] >= horizons[h]) lasted(k, h) += t.weight;
-      }
+    const int k = t.labels[i0];
+    for (arma::uword h = 0; h < n_h; ++h) {
+      if (i0 + horizons[h] >= n_labels) continue;
+      weight(k, h) += t.weight;
+      out.cases(k, h) += 1.0;
+      if (ahead[i0] >= horizons[h]) lasted(k, h) += t.weight;
+    }
   }
   for (arma::uword i = 0; i < lasted.n_elem; ++i)
     out.probability[i] = weight[i] > 0.0 ? lasted[i] / weight[i] : kNaN;

@@ -130,20 +130,21 @@ struct AgeDistribution {
 std::vector<AgeDistribution> current_age(const std::vector<MemberTrack>& tracks, int n_states, int first,
                                          int last, int max_age = 15);
 
-// Chance that a state lasts, pooled over all members and all their days.
+// Chance that the spell under way at the issue date lasts: the members that
+// cover day 0 (the initialisations within the lag whose leads reach the
+// issue date), each in its state on day 0, and whether it stays there.
 struct LastingProbability {
   std::vector<int> horizons;  // n, days
-  // n_states x horizons.size(): given a member is in state k on a day, the
-  // weighted probability that it is still in k on each of the next n days.
-  // Only days with at least n further days in the track count. NaN where
-  // there is no such day.
+  // n_states x horizons.size(): given a member is in state k on day 0, the
+  // weighted probability that it is still in k on each of days 1..n. Only
+  // members whose track covers days 0..n count. NaN where none does.
   arma::mat probability;
-  // n_states x horizons.size(): the number of (member, day) cases behind
-  // each probability (unweighted).
+  // n_states x horizons.size(): the number of members behind each
+  // probability (unweighted).
   arma::mat cases;
 };
 
-// Throws InputError when horizons is empty or holds a value < 1.
+// Throws InternalError when horizons is empty or holds a value < 1.
 LastingProbability lasting_probability(const std::vector<MemberTrack>& tracks, int n_states,
                                        const std::vector<int>& horizons = {3, 5, 7});
 

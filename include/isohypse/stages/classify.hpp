@@ -24,7 +24,10 @@
 
 namespace isohypse {
 
-inline constexpr int kGuidanceFormatVersion = 2;  // 2: transition matrices carry their states and counts
+// 2: transition matrices carry their states and counts; 3: window dominance counts members covering 80 % of the
+// window (members, member_weight, initialisations, min_coverage) and persistence.lasting is the spell under way at
+// the issue date beside the record's climatology and the Markov p_ii^n.
+inline constexpr int kGuidanceFormatVersion = 3;
 
 struct ClassifyConfig {
   std::vector<std::string> forecasts;     // files or globs (all are scanned; only the chosen are read)

@@ -12,6 +12,7 @@
 #include "stages/classify/member_labels.hpp"
 #include "stages/classify/model_climate.hpp"
 #include "stages/classify/observed_regime.hpp"
+#include "stages/classify/persistence_climatology.hpp"
 #include "stages/classify/window_statistics.hpp"
 
 namespace isohypse {
@@ -63,9 +64,11 @@ nlohmann::json classify_forecasts(const RegimeModel& model, const ClassifyConfig
   report("statistics", 0, 0);
   const WindowStatistics statistics = window_statistics(model, cfg, labels.tracks);
   const std::optional<ObservedRegime> observed = latest_observed_regime(model, cfg, ensemble.issue);
+  const PersistenceClimatology persistence = persistence_climatology(model, observed, ensemble.issue);
   time.statistics_s = clock.lap();
 
-  nlohmann::json guidance = guidance_document(model, cfg, {ensemble, climate, labels, statistics, observed});
+  nlohmann::json guidance =
+      guidance_document(model, cfg, {ensemble, climate, labels, statistics, observed, persistence});
   time.document_s = clock.lap();
   time.total_s = clock.total();
   return guidance;

@@ -103,25 +103,47 @@ json windows_json(const WindowStatistics& s, const Date& issue, const std::vecto
   return windows;
 }
 
-json persistence_json(const WindowStatistics& s, const std::optional<ObservedRegime>& observed, const Date& issue,
-                      const std::vector<std::string>& states) {
+// The chance of lasting 3, 5, 7 days: the ensemble's for the spell under way
+// at the issue date, the record's (with the age and the cases behind it) and
+// the Markov chain's p_kk^n, each per state.
+json lasting_json(const WindowStatistics& s, const PersistenceClimatology& c, const std::vector<std::string>& states) {
+  if (c.record.size() != static_cast<std::size_t>(s.n_states) || c.horizons != s.lasting.horizons)
+    throw InternalError("guidance document: persistence climatology of " + std::to_string(c.record.size()) +
+                        " states and other horizons than the forecast's");
+  json forecast = json::object(), members = json::object(), record = json::object(), cases = json::object(),
+       ages = json::object(), asked = json::object(), markov = json::object();
+  for (int st = 0; st < s.n_states; ++st) {
+    const std::string name = state_name(states, st);
+    forecast[name] = vec_json(s.lasting.probability.row(st).t());
+    members[name] = json::array();
+    for (arma::uword h = 0; h < s.lasting.cases.n_cols; ++h)
+      members[name].push_back(static_cast<int>(s.lasting.cases(st, h)));
+    record[name] = cases[name] = ages[name] = json::array();
+    for (const EmpiricalLasting& e : c.record[st]) {
+      record[name].push_back(number_or_null(e.probability));
+      cases[name].push_back(e.cases);
+      ages[name].push_back(e.age_days > 0 ? json(e.age_days) : json(nullptr));
+    }
+    asked[name] = c.requested_age[st] > 0 ? json(c.requested_age[st]) : json(nullptr);
+    markov[name] = vec_json(c.markov.row(st).t());
+  }
+  return {{"horizons_days", s.lasting.horizons}, {"forecast", forecast}, {"forecast_members", members},
+          {"climatological", record}, {"climatological_cases", cases}, {"climatological_age_days", ages},
+          {"spell_age_days", asked}, {"min_age_cases", kMinAgeCases}, {"markov_climatological", markov}};
+}
+
+json persistence_json(const GuidanceParts& parts, const Date& issue, const std::vector<std::string>& states) {
   json ages = json::array();
-  for (const auto& a : s.current_age)
+  for (const auto& a : parts.statistics.current_age)
     ages.push_back({{"lead_days", a.offset}, {"valid_date", to_string(add_days(issue, a.offset))},
                     {"probability", vec_json(a.probability)}, {"mean_age_days", a.mean_age}});
-  json forecast = json::object(), climatological = json::object();
-  for (int st = 0; st < s.n_states; ++st) {
-    forecast[state_name(states, st)] = vec_json(s.lasting.probability.row(st).t());
-    climatological[state_name(states, st)] = vec_json(s.lasting_climatological.row(st).t());
-  }
   json now = nullptr;
-  if (observed)
+  if (const auto& observed = parts.observed)
     now = {{"regime", state_name(states, observed->state)}, {"age_days", observed->age_days},
            {"as_of", to_string(observed->as_of)}, {"source", observed->source}};
   return {{"current_age", ages},
           {"current_age_bins", "probability[i] is for age i+1 days; the last bin is that age or more"},
-          {"lasting", {{"horizons_days", s.lasting.horizons}, {"forecast", forecast},
-                       {"climatological", climatological}}},
+          {"lasting", lasting_json(parts.statistics, parts.persistence, states)},
           {"observed", now}};
 }
 
@@ -155,7 +177,7 @@ json guidance_document(const RegimeModel& model, const ClassifyConfig& cfg, cons
   g["bias_correction"] = bias_correction_json(parts.climate, cfg);
   g["daily"] = daily_json(parts.statistics, e, states);
   g["windows"] = windows_json(parts.statistics, e.issue, states);
-  g["persistence"] = persistence_json(parts.statistics, parts.observed, e.issue, states);
+  g["persistence"] = persistence_json(parts, e.issue, states);
   g["transitions"] = {
       {"climatological",
        transition_json(states, model.transition, arma::conv_to<arma::mat>::from(model.transition_counts))}};

@@ -13,6 +13,7 @@
 #include "stages/classify/member_labels.hpp"
 #include "stages/classify/model_climate.hpp"
 #include "stages/classify/observed_regime.hpp"
+#include "stages/classify/persistence_climatology.hpp"
 #include "stages/classify/window_statistics.hpp"
 
 namespace isohypse {
@@ -24,6 +25,7 @@ struct GuidanceParts {
   MemberLabels& labels;  // its member detail is moved into the document
   const WindowStatistics& statistics;
   const std::optional<ObservedRegime>& observed;
+  const PersistenceClimatology& persistence;  // the climatological chances of lasting
 };
 
 // provenance.created is the time of the call (UTC). Throws InternalError

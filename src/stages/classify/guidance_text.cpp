@@ -27,6 +27,37 @@ std::string ensemble_lines(const json& g) {
   return o.str();
 }
 
+// "62/40/22%": one value per horizon, a dash where there is none.
+std::string percents(const json& values) {
+  std::string out;
+  for (const auto& v : values) {
+    if (!out.empty()) out += "/";
+    out += v.is_null() ? "-" : std::to_string(static_cast<int>(std::lround(100 * v.get<double>())));
+  }
+  return out + "%";
+}
+
+// The chance that the spell under way lasts: of the observed regime, else of
+// the most likely state on the issue date (lead 0).
+std::string persistence_lines(const json& g) {
+  const json& p = g.at("persistence");
+  std::string st;
+  if (!p.at("observed").is_null()) st = p.at("observed").at("regime").get<std::string>();
+  for (const auto& d : g.at("daily"))
+    if (st.empty() && d.at("lead_days").get<int>() == 0) st = d.at("most_likely").get<std::string>();
+  const json& l = p.at("lasting");
+  if (st.empty() || !l.at("forecast").contains(st)) return "";
+  std::string hz, age;
+  for (const auto& h : l.at("horizons_days")) hz += (hz.empty() ? "" : "/") + std::to_string(h.get<int>());
+  for (const auto& a : l.at("climatological_age_days").at(st))
+    if (!a.is_null()) age = ", spell age " + std::to_string(a.get<int>()) + " d";
+  std::ostringstream o;
+  o << "Spell of " << st << " under way: lasts " << hz << " more days: forecast "
+    << percents(l.at("forecast").at(st)) << ", record " << percents(l.at("climatological").at(st)) << age
+    << ", Markov " << percents(l.at("markov_climatological").at(st)) << "\n";
+  return o.str();
+}
+
 // One line per window: the state most likely to dominate it, its probability
 // and the members behind it (counted, and the initialisations they come from).
 std::string window_lines(const json& g) {
@@ -63,7 +94,7 @@ std::string window_lines(const json& g) {
 }  // namespace
 
 std::string guidance_text(const json& g) {
-  return ensemble_lines(g) + window_lines(g) + "\n" + g.at("caution").get<std::string>() + "\n";
+  return ensemble_lines(g) + persistence_lines(g) + window_lines(g) + "\n" + g.at("caution").get<std::string>() + "\n";
 }
 
 }  // namespace isohypse

@@ -1,7 +1,6 @@
 #include "stages/classify/window_statistics.hpp"
 
 #include <algorithm>
-#include <cmath>
 #include <string>
 
 #include "isohypse/base/error.hpp"
@@ -34,10 +33,6 @@ WindowStatistics window_statistics(const RegimeModel& model, const ClassifyConfi
       s.windows.push_back(window_summary(tracks, s.n_states, first, std::min(last, s.last_offset)));
   s.current_age = current_age(tracks, s.n_states, 0, s.last_offset);
   s.lasting = lasting_probability(tracks, s.n_states, {3, 5, 7});
-  s.lasting_climatological.set_size(static_cast<arma::uword>(s.n_states), s.lasting.horizons.size());
-  for (int st = 0; st < s.n_states; ++st)
-    for (std::size_t h = 0; h < s.lasting.horizons.size(); ++h)
-      s.lasting_climatological(st, h) = std::pow(model.transition(st, st), s.lasting.horizons[h]);
   return s;
 }
 

@@ -1,7 +1,8 @@
 // Classify, step 4: compute the window statistics. From the members' daily
 // regimes: the regime probabilities of each valid day, the summary of each
 // lead window (expected days, dominance, transitions), and persistence (how
-// old the current regime is, and the chance that it lasts).
+// old the current regime is, and the chance that the spell under way at the
+// issue date lasts; its climatology is persistence_climatology's).
 #pragma once
 
 #include <armadillo>
@@ -18,13 +19,10 @@ struct WindowStatistics {
   std::vector<DayProbabilities> daily;        // days 0..last_offset that a member covers
   std::vector<WindowSummary> windows;         // cfg.windows starting by last_offset, cut at it
   std::vector<AgeDistribution> current_age;   // days 0..last_offset that a member covers
-  LastingProbability lasting;                 // horizons 3, 5 and 7 days
-  // n_states x the horizons: the chance of staying in a state for that many
-  // days from the model's climatological transitions, p(s, s)^n.
-  arma::mat lasting_climatological;
+  LastingProbability lasting;                 // the spell under way at the issue date; 3, 5 and 7 days
 };
 
-// Throws InputError from ensemble_stats when a track is invalid;
+// Throws InternalError from ensemble_stats when a track is invalid;
 // InternalError when the model's transition matrix does not have n_states
 // rows (a bug).
 WindowStatistics window_statistics(const RegimeModel& model, const ClassifyConfig& cfg,
