@@ -10,7 +10,8 @@ using namespace isohypse;
 namespace {
 
 // A guidance document with just what guidance_text reads: two regimes, two
-// windows, the second without any member covering enough of it.
+// windows, the second without any member covering enough of it, and no
+// day or observation for the persistence line.
 nlohmann::json two_windows() {
   using json = nlohmann::json;
   json g = {{"issue_date", "2026-01-15"},
@@ -18,7 +19,8 @@ nlohmann::json two_windows() {
             {"regimes", json::array({{{"id", "R1"}, {"name", "ridge"}}, {{"id", "R2"}, {"name", "trough"}}})},
             {"ensemble", {{"members", 32}, {"lag", 4}, {"weights", "exp:3"}}},
             {"bias_correction", {{"applied", true}}},
-            {"persistence", {{"observed", nullptr}}}};
+            {"persistence", {{"observed", nullptr}}},
+            {"daily", json::array()}};  // no lead 0 and no observation: no persistence line
   g["windows"] = json::array();
   g["windows"].push_back({{"first_lead_days", 29}, {"last_lead_days", 45}, {"from", "2026-02-13"},
                           {"to", "2026-03-01"}, {"dominance", {{"R1", 0.25}, {"R2", 0.625}, {"no_regime", 0.125}}},

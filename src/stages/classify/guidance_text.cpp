@@ -21,9 +21,11 @@ std::string ensemble_lines(const json& g) {
   o << (g.at("bias_correction").at("applied").get<bool>() ? "Model drift removed with reforecasts.\n"
                                                            : "No reforecasts: model drift NOT removed.\n");
   const json& obs = g.at("persistence").at("observed");
-  if (!obs.is_null())
-    o << "Observed regime " << obs.at("regime").get<std::string>() << " for " << obs.at("age_days").get<int>()
-      << " days as of " << obs.at("as_of").get<std::string>() << " (" << obs.at("source").get<std::string>() << ")\n";
+  if (!obs.is_null()) {
+    const int age = obs.at("age_days").get<int>();
+    o << "Observed regime " << obs.at("regime").get<std::string>() << " for " << age << (age == 1 ? " day" : " days")
+      << " as of " << obs.at("as_of").get<std::string>() << " (" << obs.at("source").get<std::string>() << ")\n";
+  }
   return o.str();
 }
 
@@ -45,8 +47,9 @@ std::string persistence_lines(const json& g) {
   if (!p.at("observed").is_null()) st = p.at("observed").at("regime").get<std::string>();
   for (const auto& d : g.at("daily"))
     if (st.empty() && d.at("lead_days").get<int>() == 0) st = d.at("most_likely").get<std::string>();
+  if (st.empty()) return "";
   const json& l = p.at("lasting");
-  if (st.empty() || !l.at("forecast").contains(st)) return "";
+  if (!l.at("forecast").contains(st)) return "";
   std::string hz, age;
   for (const auto& h : l.at("horizons_days")) hz += (hz.empty() ? "" : "/") + std::to_string(h.get<int>());
   for (const auto& a : l.at("climatological_age_days").at(st))
