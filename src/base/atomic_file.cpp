@@ -19,8 +19,13 @@ namespace fs = std::filesystem;
 static std::string make_temp_name(const std::string& target) {
   static std::atomic<unsigned> counter{0};
   fs::path p(target);
-  std::string name = "." + p.filename().string() + ".tmp." + std::to_string(::getpid()) + "." +
-                     std::to_string(counter++);
+  // Appended piece by piece: GCC 12 flags "." + std::string&& with a false -Wrestrict.
+  std::string name = ".";
+  name += p.filename().string();
+  name += ".tmp.";
+  name += std::to_string(::getpid());
+  name += ".";
+  name += std::to_string(counter++);
   return (p.parent_path() / name).string();
 }
 

@@ -16,11 +16,11 @@ LAG = 4
 INITIALISATIONS = 60
 
 
-def make_daily_season(tmp):
-    """Builds the season under tmp; returns (model, archive folder, observed analysis glob, issue count)."""
+def small_world_model(tmp, *world_args):
+    """The small invented world (isohypse-demo-world --size small, plus world_args) under tmp/world and a quick
+    4-regime model of its reanalysis; returns (world folder, derive config file, model file)."""
     world = os.path.join(tmp, "world")
-    r = run([os.path.join(BUILD, "isohypse-demo-world"), "--out", world, "--size", "small",
-             "--forecasts", str(INITIALISATIONS)])
+    r = run([os.path.join(BUILD, "isohypse-demo-world"), "--out", world, "--size", "small", *world_args])
     assert r.returncode == 0, r.stderr
     cfg = os.path.join(tmp, "derive.json")
     json.dump({"regimes": {"classifiability_runs": 4, "surrogates": 4, "restarts": 20}}, open(cfg, "w"))
@@ -28,6 +28,12 @@ def make_daily_season(tmp):
     r = run([BIN, "derive", "--config", cfg, "--input", f"{world}/reanalysis/*.nc", "--domain", "20,80,170,-40",
              "--k", "4", "--out", model])
     assert r.returncode == 0, r.stderr
+    return world, cfg, model
+
+
+def make_daily_season(tmp):
+    """Builds the season under tmp; returns (model, archive folder, observed analysis glob, issue count)."""
+    world, _, model = small_world_model(tmp, "--forecasts", str(INITIALISATIONS))
     archive = os.path.join(tmp, "archive")
     os.makedirs(archive, exist_ok=True)
     first = datetime.date(2025, 12, 1) + datetime.timedelta(days=LAG - 1)

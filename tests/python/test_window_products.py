@@ -23,7 +23,8 @@ import netCDF4
 import numpy as np
 from sklearn.metrics import brier_score_loss, roc_auc_score
 
-from common import BIN, BUILD, check, finish, run, scratch
+from common import BIN, check, finish, run, scratch
+from daily_season import small_world_model
 
 tmp = scratch()
 # The season verified: by default a small world made here (daily issues, lag 3, so that issues overlap, as
@@ -35,15 +36,7 @@ if DEMO:
     model = os.path.join(DEMO, "out", "regimes.nc")
     analysis = os.path.join(DEMO, "demo", "data", "analysis", "*.nc")
 else:
-    world = os.path.join(tmp, "world")
-    r = run([os.path.join(BUILD, "isohypse-demo-world"), "--out", world, "--size", "small"])
-    assert r.returncode == 0, r.stderr
-    cfg = os.path.join(tmp, "derive.json")
-    json.dump({"regimes": {"classifiability_runs": 4, "surrogates": 4, "restarts": 20}}, open(cfg, "w"))
-    model = os.path.join(tmp, "model.nc")
-    r = run([BIN, "derive", "--config", cfg, "--input", f"{world}/reanalysis/*.nc", "--domain", "20,80,170,-40",
-             "--k", "4", "--out", model])
-    assert r.returncode == 0, r.stderr
+    world, _, model = small_world_model(tmp)
     archive = os.path.join(tmp, "archive")
     os.makedirs(archive)
     for f in sorted(glob.glob(f"{world}/forecasts/*.nc"))[2:]:

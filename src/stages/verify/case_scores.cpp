@@ -120,6 +120,10 @@ json reliability_json(const Cases& cases, const std::vector<std::size_t>& idx, s
       p(j) = cases.list[i].p(s);
       o(j) = cases.list[i].observed == static_cast<int>(s);
     }
+  return reliability_bins_json(p, o, config);
+}
+
+json reliability_bins_json(const arma::vec& p, const arma::vec& o, const VerifyConfig& config) {
   json bins = json::array();
   for (const auto& b : reliability_diagram_with_bars(p, o, config.reliability_bins, kConsistencyResamples,
                                                      config.confidence, config.seed))

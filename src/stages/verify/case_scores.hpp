@@ -49,6 +49,12 @@ nlohmann::json state_scores_json(const Cases& cases, const std::vector<std::size
 // Resamples behind each consistency bar of the reliability diagram.
 inline constexpr int kConsistencyResamples = 1000;
 
+// The reliability-diagram bins with consistency bars (Broecker & Smith 2007)
+// of probabilities p against outcomes o (0 or 1), in config.reliability_bins
+// bins at config.confidence: lower, upper, mean_forecast, observed_frequency,
+// count, consistency_lower, consistency_upper (NaN as null).
+nlohmann::json reliability_bins_json(const arma::vec& p, const arma::vec& o, const VerifyConfig& config);
+
 // Reliability diagram of every state's probabilities pooled, in
 // config.reliability_bins bins: per bin its edges, mean forecast, observed
 // frequency, count, and the consistency bar (consistency_lower,

@@ -172,13 +172,7 @@ json dominance_reliability(const std::vector<WindowCase>& cases, const std::vect
       p(j) = cases[i].dominance(s);
       o(j) = cases[i].observed.dominant == static_cast<int>(s);
     }
-  json bins = json::array();
-  for (const auto& b : reliability_diagram_with_bars(p, o, config.reliability_bins, kConsistencyResamples,
-                                                     config.confidence, config.seed))
-    bins.push_back({{"lower", b.lower}, {"upper", b.upper}, {"mean_forecast", num(b.mean_forecast)},
-                    {"observed_frequency", num(b.observed_frequency)}, {"count", b.count},
-                    {"consistency_lower", num(b.bar_lower)}, {"consistency_upper", num(b.bar_upper)}});
-  return bins;
+  return reliability_bins_json(p, o, config);
 }
 
 json dominance_json(const WindowGroup& g, const arma::vec& clim, const std::vector<std::string>& states,
