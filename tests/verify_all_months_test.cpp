@@ -15,6 +15,7 @@
 #include "stages/verify/episodes.hpp"
 #include "stages/verify/state_climatology.hpp"
 #include "stages/verify/verification_cases.hpp"
+#include "verify_fixtures.hpp"
 
 using namespace isohypse;
 using namespace isohypse::verification;
@@ -142,18 +143,8 @@ TEST_CASE("all months: the catch rule compares with the valid month's climatolog
 
 TEST_CASE("all months: out-of-season days are kept and still counted") {
   // An issue of 2026-03-30 with leads 0..4: two March days in a Nov-Mar season, three April days.
-  GuidanceSet guidance;
-  GuidanceIssue issue{"a.json", make_date(2026, 3, 30, kReal), {}};
-  for (int lead = 0; lead <= 4; ++lead)
-    issue.daily.push_back({add_days(issue.issue, lead), lead, arma::vec{0.5, 0.3, 0.2}, 0});
-  guidance.issues.push_back(issue);
-  ObservedSequence observed;
-  observed.source = "analysis files";
-  for (int d = 0; d <= 4; ++d) {
-    observed.dates.push_back(add_days(issue.issue, d));
-    observed.labels.push_back(1);
-  }
-  const std::vector<int> season = {11, 12, 1, 2, 3};
+  const auto [guidance, observed] = fixtures::march_april_issue(1);
+  const std::vector<int>& season = fixtures::kNovemberToMarch;
   VerifyConfig config;
   config.all_months = true;
   const Cases cases = build_cases(guidance, observed, 3, config, season);

@@ -7,6 +7,7 @@
 #include "stages/verify/episodes.hpp"
 #include "stages/verify/false_alarms.hpp"
 #include "stages/verify/verification_cases.hpp"
+#include "verify_fixtures.hpp"
 
 using namespace isohypse;
 using namespace isohypse::verification;
@@ -198,18 +199,8 @@ TEST_CASE("verify steps: cases pair guidance with the observed day inside the pe
 TEST_CASE("verify steps: days outside the model's season are counted and not scored") {
   // An issue of 2026-03-30 with leads 0..4: 30 and 31 March in a Nov-Mar
   // season, 1..3 April outside it (issue 12: no April case in the scores).
-  GuidanceSet guidance;
-  GuidanceIssue issue{"a.json", make_date(2026, 3, 30, kReal), {}};
-  for (int lead = 0; lead <= 4; ++lead)
-    issue.daily.push_back({add_days(issue.issue, lead), lead, arma::vec{0.5, 0.3, 0.2}, 0});
-  guidance.issues.push_back(issue);
-  ObservedSequence observed;
-  observed.source = "analysis files";
-  for (int d = 0; d <= 4; ++d) {
-    observed.dates.push_back(add_days(issue.issue, d));
-    observed.labels.push_back(0);
-  }
-  const std::vector<int> season = {11, 12, 1, 2, 3};
+  const auto [guidance, observed] = fixtures::march_april_issue(0);
+  const std::vector<int>& season = fixtures::kNovemberToMarch;
   const Cases cases = build_cases(guidance, observed, 3, VerifyConfig{}, season);
   REQUIRE(cases.list.size() == 2);
   CHECK(cases.list[1].month == 3);

@@ -1,6 +1,7 @@
 """Invented forecast files and a small regime model for the `isohypse classify`
 tests and benchmark, and the import of the numpy reference (bench/classify_reference.py)."""
 import datetime
+import json
 import os
 import sys
 
@@ -102,3 +103,19 @@ def planted_forecast(model, init, calendar, members, leads, rng, amp=(0.4, 1.6),
 
 def classify(*args):
     return run([BIN, "classify", *args])
+
+
+def classify_and_validate(what, out, validator, *args):
+    """Runs classify with args (which write the guidance to out); checks it exits 0 and that the guidance
+    validates against config/guidance.schema.json (validator). Returns (guidance or None when classify failed,
+    the finished process)."""
+    r = classify(*args)
+    check(r.returncode == 0, f"{what}: classify exits 0 ({r.stderr.strip()[-400:]})")
+    if r.returncode != 0:
+        return None, r
+    with open(out) as f:
+        g = json.load(f)
+    errors = sorted(validator.iter_errors(g), key=str)
+    check(not errors, f"{what}: guidance validates against config/guidance.schema.json"
+          + (f" (first error: {errors[0].message} at {list(errors[0].absolute_path)})" if errors else ""))
+    return g, r

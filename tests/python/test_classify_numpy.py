@@ -27,7 +27,7 @@ import numpy as np
 from jsonschema import Draft202012Validator
 
 from common import SOURCE, check, finish, scratch
-from classify_data import classify, planted_forecast, reference, small_model, write_forecast
+from classify_data import classify, classify_and_validate, planted_forecast, reference, small_model, write_forecast
 
 tmp = scratch()
 lat = np.arange(20.0, 80.1, 5.0)
@@ -80,15 +80,9 @@ def run_case(what, model_path, calendar, inits, weights, issue=None):
             "--csv", os.path.join(folder, "csv"), "--out", out]
     if issue:
         args += ["--issue-date", issue.isoformat()]
-    r = classify(*args)
-    check(r.returncode == 0, f"{what}: classify exits 0 ({r.stderr.strip()[-400:]})")
-    if r.returncode != 0:
+    g, _ = classify_and_validate(what, out, validator, *args)
+    if g is None:
         return
-    with open(out) as f:
-        g = json.load(f)
-    errors = sorted(validator.iter_errors(g), key=str)
-    check(not errors, f"{what}: guidance validates against config/guidance.schema.json"
-          + (f" (first error: {errors[0].message} at {list(errors[0].absolute_path)})" if errors else ""))
 
     ref = reference.classify_files(model, paths, issue=issue, scheme=weights)
     counts = np.bincount(ref["labels"].ravel(), minlength=model.k + 1)

@@ -27,7 +27,7 @@ import numpy as np
 from jsonschema import Draft202012Validator
 
 from common import SOURCE, check, finish, scratch
-from classify_data import classify, reference, small_model, write_forecast
+from classify_data import classify_and_validate, reference, small_model, write_forecast
 
 tmp = scratch()
 lat = np.arange(20.0, 80.1, 5.0)
@@ -100,16 +100,10 @@ def run_case(what, model_path, inits, record):
         write_forecast(os.path.join(folder, "fc_%04d%02d%02d.nc" % init),
                        planted_runs(model, init, rng), lat, lon, init, "standard")
     out = os.path.join(folder, "guidance.json")
-    r = classify("--model", model_path, "--forecasts", os.path.join(folder, "fc_*.nc"), "--members",
-                 "--weights", "linear", "--out", out)
-    check(r.returncode == 0, f"{what}: classify exits 0 ({r.stderr.strip()[-400:]})")
-    if r.returncode != 0:
+    g, r = classify_and_validate(what, out, validator, "--model", model_path, "--forecasts",
+                                 os.path.join(folder, "fc_*.nc"), "--members", "--weights", "linear", "--out", out)
+    if g is None:
         return
-    with open(out) as f:
-        g = json.load(f)
-    errors = sorted(validator.iter_errors(g), key=str)
-    check(not errors, f"{what}: guidance validates against config/guidance.schema.json"
-          + (f" (first error: {errors[0].message} at {list(errors[0].absolute_path)})" if errors else ""))
     states = g["states"]
     k = len(states) - 1
     lasting = g["persistence"]["lasting"]
