@@ -176,17 +176,25 @@ def year_position(d):
 
 
 def model_climate(model, reforecasts, init, n_leads, window_days=7, smoothing_days=5):
-    """The model's own climate by lead (n_leads, points): the mean of every
-    member of the reforecasts initialised within +-window_days of the year of
-    `init` (and at least n_leads long), smoothed with a centred running mean
-    along lead. reforecasts: [(init as cftime, heights (members, leads, points))]."""
+    """What a forecast initialised on `init` is compared with (n_leads,
+    points): the regime model's climatology C at its valid dates plus the
+    model's mean drift, the mean over every member of the reforecasts
+    initialised within +-window_days of the year of `init` (and at least
+    n_leads long) of [F - C(the reforecast's valid date)], smoothed with a
+    centred running mean along lead (../shared/METHODS.md §8, mean-drift
+    removal that keeps the reference climate; include/isohypse/numerics/
+    model_drift.hpp for the sign of the bracket). reforecasts: [(init as
+    cftime, heights (members, leads, points))]."""
     pos = year_position(init)
-    near = [z[:, :n_leads] for i, z in reforecasts
-            if min(abs(year_position(i) - pos), 365 - abs(year_position(i) - pos)) <= window_days
-            and z.shape[1] >= n_leads]
+    near = []
+    for i, z in reforecasts:
+        if min(abs(year_position(i) - pos), 365 - abs(year_position(i) - pos)) <= window_days and z.shape[1] >= n_leads:
+            valid = [i + datetime.timedelta(days=lead) for lead in range(n_leads)]
+            near.append(z[:, :n_leads] - model.climatology(valid)[None])
     if not near:
         raise ValueError(f"no reforecast within {window_days} days of the year of {init}")
-    return running_mean(np.concatenate(near).mean(axis=0), smoothing_days)
+    valid = [init + datetime.timedelta(days=lead) for lead in range(n_leads)]
+    return model.climatology(valid) + running_mean(np.concatenate(near).mean(axis=0), smoothing_days)
 
 
 def init_weights(ages, scheme):

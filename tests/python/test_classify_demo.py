@@ -159,7 +159,7 @@ check(shares["uncorrected"] > planted_share + 0.05 and
       abs(shares["corrected"] - planted_share) < abs(shares["uncorrected"] - planted_share),
       f"leads 25-45: members in the drift's regime {model_of[drift_regime]}: planted {planted_share:.3f}, "
       f"uncorrected {shares['uncorrected']:.3f}, corrected {shares['corrected']:.3f}")
-# The correction itself against numpy (bench/classify_reference.py, model_climate: the mean of the reforecast
+# The correction itself against numpy (bench/classify_reference.py, model_climate: the climatology plus the mean drift of the reforecast
 # members initialised within +-7 days of the year, by lead, 5-day running mean in lead, ../shared/METHODS.md §4;
 # scipy's RegularGridInterpolator regrids the 2-degree files onto the model's 5-degree grid).
 model = reference.Model(model_path)

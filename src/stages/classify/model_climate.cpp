@@ -11,6 +11,7 @@
 #include "isohypse/base/error.hpp"
 #include "isohypse/io/reader.hpp"
 #include "isohypse/numerics/climatology.hpp"
+#include "isohypse/numerics/model_drift.hpp"
 
 namespace isohypse {
 
@@ -28,11 +29,12 @@ int circular_day_distance(const Date& a, const Date& b) {
   return std::min(d, 365 - d);
 }
 
-// The members of one reforecast initialisation summed: n_model_points x n_leads.
-struct MemberSum {
-  arma::fmat total;
-  std::size_t members = 0;
-};
+// The model-calendar valid dates of an initialisation's first `leads` lead days.
+std::vector<Date> lead_dates(const Initialisation& in, int leads) {
+  std::vector<Date> d;
+  for (int l = 0; l < leads; ++l) d.push_back(in.valid_model(l));
+  return d;
+}
 
 // Reforecast initialisations within the window of days of the year of `in`
 // with at least its lead days.
@@ -61,55 +63,41 @@ std::vector<const Initialisation*> reforecasts_needed(const std::vector<Initiali
   return needed;
 }
 
-// The member sum of each needed reforecast initialisation, each read once.
+// The drift sum of each needed reforecast initialisation (its members minus
+// the regime model's climatology at their valid dates), each read once.
 // Threads share the initialisations (reads under a lock: netCDF-C is not
 // thread-safe); each sums its members in order, so the result does not
 // depend on the threads.
-std::vector<MemberSum> sum_members(const std::vector<const Initialisation*>& needed, const Regridder& regrid,
-                                   const ClassifyConfig& cfg, const ClassifyProgress& report) {
+std::vector<DriftSum> sum_members(const RegimeModel& model, const std::vector<const Initialisation*>& needed,
+                                  const Regridder& regrid, const ClassifyConfig& cfg, const ClassifyProgress& report) {
   EnsembleReader reader(needed, regrid, cfg.variable);
   std::vector<std::size_t> first_slot(needed.size() + 1, reader.size());
   for (std::size_t k = reader.size(); k-- > 0;) first_slot[reader.slot(k).init] = k;
   std::mutex netcdf;
   detail::StatePool<EnsembleReader::Work> buffers([] { return std::make_unique<EnsembleReader::Work>(); });
-  std::vector<MemberSum> sums(needed.size());
+  std::vector<DriftSum> sums(needed.size());
   report("reforecasts", 0, static_cast<int>(needed.size()));
   detail::parallel_for(
       needed.size(), cfg.threads,
       [&](std::size_t u) {
         const auto w = buffers.lease();
-        MemberSum& s = sums[u];
+        const arma::fmat climate = model.climatology.evaluate(lead_dates(*needed[u], needed[u]->n_leads));
         for (std::size_t k = first_slot[u]; k < reader.size() && reader.slot(k).init == u; ++k) {
           reader.fetch(k, netcdf, *w);
-          if (s.total.is_empty()) s.total.zeros(w->heights.n_rows, w->heights.n_cols);
-          s.total += w->heights;
-          ++s.members;
+          add_member(sums[u], w->heights, climate);
         }
       },
       [&](std::size_t done, std::size_t n) { report("reforecasts", static_cast<int>(done), static_cast<int>(n)); });
   return sums;
 }
 
-// The model climate of `in`: the mean of the near reforecasts' members by
-// lead, smoothed in lead.
-arma::fmat climate_of(const Initialisation& in, const std::vector<const Initialisation*>& near,
-                      const std::map<std::string, MemberSum>& sums, arma::uword n_points, int smoothing_days) {
-  arma::fmat sum(n_points, static_cast<arma::uword>(in.n_leads), arma::fill::zeros);
-  std::size_t n = 0;
-  for (const auto* r : near) {
-    const MemberSum& s = sums.at(r->id());
-    if (s.total.n_rows != n_points || s.total.n_cols < static_cast<arma::uword>(in.n_leads))
-      throw InternalError("model climate of " + in.id() + ": the member sum of reforecast " + r->id() + " is " +
-                          std::to_string(s.total.n_rows) + " x " + std::to_string(s.total.n_cols) + ", expected " +
-                          std::to_string(n_points) + " points x at least " + std::to_string(in.n_leads) + " leads");
-    sum += s.total.cols(0, static_cast<arma::uword>(in.n_leads) - 1);
-    n += s.members;
-  }
-  sum /= static_cast<float>(n);
-  std::vector<Date> leads;  // consecutive days: a plain centred running mean in lead
-  for (int l = 0; l < in.n_leads; ++l) leads.push_back(in.valid_model(l));
-  running_mean(sum, leads, smoothing_days);
-  return sum;
+// The mean drift of `in`'s near reforecasts by lead, smoothed in lead
+// (numerics/model_drift.hpp).
+arma::fmat drift_of(const RegimeModel& model, const Initialisation& in, const std::vector<const Initialisation*>& near,
+                    const std::map<std::string, DriftSum>& sums, int smoothing_days) {
+  std::vector<const DriftSum*> parts;
+  for (const auto* r : near) parts.push_back(&sums.at(r->id()));
+  return mean_drift(parts, model.grid.n_points(), lead_dates(in, in.n_leads), smoothing_days);
 }
 
 }  // namespace
@@ -140,15 +128,15 @@ ModelClimate build_model_climate(const RegimeModel& model, const ClassifyConfig&
   }
   const int window = cfg.reforecast_window_days;
   const std::vector<const Initialisation*> needed = reforecasts_needed(reforecasts, ensemble.chosen, window);
-  std::vector<MemberSum> sums = sum_members(needed, ensemble.regrid, cfg, report);
-  std::map<std::string, MemberSum> by_id;
+  std::vector<DriftSum> sums = sum_members(model, needed, ensemble.regrid, cfg, report);
+  std::map<std::string, DriftSum> by_id;
   for (std::size_t u = 0; u < needed.size(); ++u) {
     for (const auto& f : needed[u]->files) c.reforecast_files_read.push_back(f);
     by_id.emplace(needed[u]->id(), std::move(sums[u]));
   }
   // Initialisations with the same near reforecasts and the same lead days
-  // share one climate (the lead days count: the running mean in lead ends at
-  // the last lead).
+  // share one drift (the lead days count: the running mean in lead ends at
+  // the last lead); each adds the climatology of its own valid dates.
   std::map<std::string, arma::fmat> shared;
   for (const auto* in : ensemble.chosen) {
     const std::vector<const Initialisation*> near = near_reforecasts(reforecasts, *in, window);
@@ -156,8 +144,8 @@ ModelClimate build_model_climate(const RegimeModel& model, const ClassifyConfig&
     for (const auto* r : near) key += r->id() + ";";
     auto it = shared.find(key);
     if (it == shared.end())
-      it = shared.emplace(key, climate_of(*in, near, by_id, model.grid.n_points(), cfg.lead_smoothing_days)).first;
-    c.by_initialisation.push_back(it->second);
+      it = shared.emplace(key, drift_of(model, *in, near, by_id, cfg.lead_smoothing_days)).first;
+    c.by_initialisation.push_back(model.climatology.evaluate(lead_dates(*in, in->n_leads)) + it->second);
   }
   return c;
 }

@@ -1,8 +1,10 @@
 // Classify, step 2: the model climate from reforecasts. A forecast model
-// drifts with lead time; anomalies against the mean of reforecasts started
-// near the same day of the year, lead day by lead day, remove that drift
-// (bias correction). Without reforecasts the anomalies are taken against the
-// regime model's reanalysis climatology instead, and the drift stays.
+// drifts with lead time; the mean drift of reforecasts started near the same
+// day of the year, lead day by lead day, is removed while the regime model's
+// own climatology stays the reference (numerics/model_drift.hpp), so that a
+// difference between the reforecast years and the model's record does not
+// leak into the anomalies. Without reforecasts the anomalies are taken
+// against the regime model's reanalysis climatology, and the drift stays.
 #pragma once
 
 #include <armadillo>
@@ -29,11 +31,12 @@ struct ModelClimate {
   std::vector<std::string> reforecast_files_read;  // the files of every reforecast initialisation read
 };
 
-// The model climate of each chosen initialisation: the mean of the members
-// of every reforecast initialised within +-cfg.reforecast_window_days of its
-// day of the year (on a 365-day year) with at least its lead days, by lead
-// day, smoothed with a centred running mean of cfg.lead_smoothing_days in
-// lead. Each reforecast initialisation is read once, on cfg.threads threads
+// The model climate of each chosen initialisation: the regime model's
+// climatology at its valid dates plus the mean drift (members minus the
+// climatology at their valid dates) of every reforecast initialised within
+// +-cfg.reforecast_window_days of its day of the year (on a 365-day year)
+// with at least its lead days, by lead day, the drift smoothed with a
+// centred running mean of cfg.lead_smoothing_days in lead. Each reforecast initialisation is read once, on cfg.threads threads
 // (report("reforecasts", done, total)); the result does not depend on the
 // threads. With no reforecasts: the regime model's climatology at the
 // model-calendar valid dates. Throws InputError when a chosen initialisation
