@@ -4,6 +4,7 @@
 #include <array>
 #include <cctype>
 #include <cmath>
+#include <cstdlib>
 #include <cstdio>
 #include <sstream>
 
@@ -369,6 +370,16 @@ Instant decode_time(double value, const TimeUnits& units) {
   double days = std::floor(total / 86400.0);
   double sod = total - days * 86400.0;
   return Instant{add_days(units.epoch, static_cast<std::int64_t>(days)), sod};
+}
+
+int days_apart_in_year(const Date& a, const Date& b) {
+  auto position = [](const Date& d) {
+    int pos = 0;
+    for (int m = 1; m < d.month; ++m) pos += days_in_month(2001, m, Calendar::NoLeap);
+    return pos + std::min(d.day, days_in_month(2001, d.month, Calendar::NoLeap)) - 1;
+  };
+  const int d = std::abs(position(a) - position(b));
+  return std::min(d, 365 - d);
 }
 
 }  // namespace isohypse

@@ -8,6 +8,7 @@ namespace isohypse::cli {
 
 void add_inspect(CLI::App& app);
 void add_derive(CLI::App& app);
+void add_calibrate(CLI::App& app);
 void add_classify(CLI::App& app);
 void add_verify(CLI::App& app);
 void add_serve(CLI::App& app);

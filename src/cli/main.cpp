@@ -25,6 +25,7 @@ int main(int argc, char** argv) {
   using namespace isohypse;
   cli::add_inspect(app);
   cli::add_derive(app);
+  cli::add_calibrate(app);
   cli::add_classify(app);
   cli::add_verify(app);
   cli::add_serve(app);

@@ -52,6 +52,11 @@ Date add_months(const Date& d, std::int64_t months);  // day clamped to month en
 std::int64_t days_between(const Date& a, const Date& b);
 // 1-based day of the year (1..360/365/366).
 int day_of_year(const Date& d);
+// Days apart in the year, ignoring the years: both dates placed on a
+// 365-day year by month and day (29 February shares 28 February's place),
+// the shorter way round (0..182). Reforecasts "near the same day of the
+// year" are chosen with it.
+int days_apart_in_year(const Date& a, const Date& b);
 // Strict weak order within one calendar (compares year, month, day).
 bool operator<(const Date& a, const Date& b);
 

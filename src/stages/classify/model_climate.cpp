@@ -17,18 +17,6 @@ namespace isohypse {
 
 namespace {
 
-// Position of a date on a 365-day year (29 February shares 28 February's).
-int year_position(const Date& d) {
-  int pos = 0;
-  for (int m = 1; m < d.month; ++m) pos += days_in_month(2001, m, Calendar::NoLeap);
-  return pos + std::min(d.day, days_in_month(2001, d.month, Calendar::NoLeap)) - 1;
-}
-
-int circular_day_distance(const Date& a, const Date& b) {
-  int d = std::abs(year_position(a) - year_position(b));
-  return std::min(d, 365 - d);
-}
-
 // The model-calendar valid dates of an initialisation's first `leads` lead days.
 std::vector<Date> lead_dates(const Initialisation& in, int leads) {
   std::vector<Date> d;
@@ -42,7 +30,7 @@ std::vector<const Initialisation*> near_reforecasts(const std::vector<Initialisa
                                                     const Initialisation& in, int window_days) {
   std::vector<const Initialisation*> near;
   for (const auto& r : reforecasts)
-    if (circular_day_distance(r.init, in.init) <= window_days && r.n_leads >= in.n_leads) near.push_back(&r);
+    if (days_apart_in_year(r.init, in.init) <= window_days && r.n_leads >= in.n_leads) near.push_back(&r);
   if (near.empty())
     throw InputError("no reforecast initialised within " + std::to_string(window_days) + " days of the year of " +
                      in.id() + " with at least " + std::to_string(in.n_leads) + " lead days (reforecasts run from " +

@@ -1,0 +1,59 @@
+// Recalibration of regime probabilities (../shared/METHODS.md §8):
+//
+// - Blend with the climatological frequencies (common practice; a
+//   one-parameter recalibration): p_cal = c + a (p_raw - c). The least
+//   mean multi-category Brier score over the cases i has the closed form
+//     a = sum_i (p_i - c_i).(o_i - c_i) / sum_i |p_i - c_i|^2,
+//   clipped to [0, 1] (a = 1 keeps the raw probabilities, a = 0 is
+//   climatology). METHODS.md §8 check: a = 0.926606.
+// - Multinomial logistic regression (common practice for calibrating
+//   category probabilities; the reference library in the tests is
+//   scikit-learn's LogisticRegression, multinomial, L2): one weight vector
+//   and intercept per state, minimising
+//     sum_i -log p(o_i | x_i) + |W|^2 / (2 C)
+//   (the intercepts unpenalised), as scikit-learn does with penalty "l2"
+//   and C. Solved by Newton's method to a gradient of 1e-9 per case; the
+//   intercepts sum to zero (the softmax leaves their common shift free).
+//   Features: the log raw probabilities with half a member added to each
+//   state, log((p m + 1/2) / (m + S/2)) for m members and S states, and the
+//   log climatological frequencies.
+#pragma once
+
+#include <armadillo>
+#include <string>
+#include <vector>
+
+namespace isohypse {
+
+// The closed-form blend coefficient over the cases (rows of p and c, one
+// column per state; observed: the observed state of each case, 0..S-1),
+// clipped to [0, 1]. NaN when there is no case or every p equals its c (no
+// information). Throws InternalError when the sizes differ or a state is
+// out of range.
+double blend_coefficient(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed);
+
+// c + a (p - c), row by row (the rows still sum to 1 when p's and c's do).
+arma::mat blend_probabilities(const arma::mat& p, const arma::mat& c, double a);
+
+// The features of the logistic method: rows = cases; columns: S log raw
+// probabilities (half a member added to each state, `members` per case),
+// then S log climatological frequencies (each floored at 1e-6).
+arma::mat logistic_features(const arma::mat& p, const arma::vec& members, const arma::mat& c);
+
+struct LogisticModel {
+  arma::mat weights;     // S x n_features
+  arma::vec intercepts;  // S, summing to 0
+  double penalty_c = 1.0;
+  int iterations = 0;    // Newton steps taken
+};
+
+// Fits the model (n_states >= 2 states, y in 0..n_states-1, X rows = cases).
+// Throws InputError when there is no case or C <= 0; NumericalError when
+// Newton's method does not converge in 100 steps.
+LogisticModel fit_multinomial_logistic(const arma::mat& X, const std::vector<int>& y, int n_states,
+                                       double penalty_c);
+
+// Probabilities (rows = cases, S columns) of a fitted model.
+arma::mat logistic_probabilities(const LogisticModel& model, const arma::mat& X);
+
+}  // namespace isohypse

@@ -1,0 +1,170 @@
+#include "stages/calibrate/calibration_fit.hpp"
+
+#include <algorithm>
+#include <cmath>
+
+#include "isohypse/numerics/scores.hpp"
+
+namespace isohypse {
+
+namespace {
+
+std::vector<int> pick(const std::vector<int>& v, const arma::uvec& rows) {
+  std::vector<int> out;
+  for (arma::uword r : rows) out.push_back(v[r]);
+  return out;
+}
+
+// NaN entries take the nearest finite value (1 when there is none: the raw probabilities).
+arma::vec fill_gaps(arma::vec a) {
+  const arma::uvec finite = arma::find_finite(a);
+  for (arma::uword i = 0; i < a.n_elem; ++i) {
+    if (std::isfinite(a(i))) continue;
+    if (finite.is_empty()) {
+      a(i) = 1.0;
+      continue;
+    }
+    arma::uword best = finite(0);
+    for (arma::uword f : finite)
+      if (std::abs(double(f) - double(i)) < std::abs(double(best) - double(i))) best = f;
+    a(i) = a(best);
+  }
+  return a;
+}
+
+// The blend fit on the cases `use` (a mask). Smoothed in lead by pooling:
+// a(L) is the closed form over the cases of the leads in a centred window
+// of coefficient_smoothing_days around L, the least-squares fit of those
+// leads together (averaging per-lead values instead would carry their
+// clipping at 1 into the neighbours).
+void fit_blend(const CalibrationCases& cs, const arma::uvec& use, Calibration& c) {
+  const int L = cs.n_leads, days = std::max(c.coefficient_smoothing_days, 1);
+  c.blend_unsmoothed.set_size(static_cast<arma::uword>(L));
+  c.blend.set_size(static_cast<arma::uword>(L));
+  c.cases.assign(static_cast<std::size_t>(L), 0);
+  std::vector<std::vector<arma::uword>> by_lead(static_cast<std::size_t>(L));
+  for (arma::uword i = 0; i < use.n_elem; ++i)
+    if (use(i)) by_lead[static_cast<std::size_t>(cs.lead[i])].push_back(i);
+  auto fit_rows = [&](const std::vector<arma::uword>& r) {
+    const arma::uvec rows(r);
+    return rows.n_elem >= kMinCasesPerLead
+               ? blend_coefficient(cs.p.rows(rows), cs.c.rows(rows), pick(cs.observed, rows))
+               : arma::datum::nan;
+  };
+  for (int l = 0; l < L; ++l) {
+    const auto& own = by_lead[static_cast<std::size_t>(l)];
+    c.cases[static_cast<std::size_t>(l)] = own.size();
+    c.blend_unsmoothed(l) = fit_rows(own);
+    std::vector<arma::uword> pooled;
+    for (int u = std::max(0, l - (days - 1) / 2); u <= std::min(L - 1, l + days / 2); ++u)
+      pooled.insert(pooled.end(), by_lead[static_cast<std::size_t>(u)].begin(),
+                    by_lead[static_cast<std::size_t>(u)].end());
+    c.blend(l) = fit_rows(pooled);
+  }
+  c.blend = fill_gaps(c.blend);
+}
+
+arma::uvec in_window(const CalibrationCases& cs, const LeadWindow& w) {
+  arma::uvec m(cs.lead.size());
+  for (std::size_t i = 0; i < cs.lead.size(); ++i) m(i) = cs.lead[i] >= w.first && cs.lead[i] <= w.second;
+  return m;
+}
+
+void fit_logistic(const CalibrationCases& cs, const arma::uvec& use, Calibration& c) {
+  c.logistic.clear();
+  const arma::mat X = logistic_features(cs.p, cs.members, cs.c);
+  for (const auto& w : c.windows) {
+    const arma::uvec rows = arma::find(use && in_window(cs, w));
+    if (rows.is_empty()) {  // no case in the window: the model of the nearest fitted one follows
+      c.logistic.push_back(c.logistic.empty() ? LogisticModel{} : c.logistic.back());
+      continue;
+    }
+    c.logistic.push_back(
+        fit_multinomial_logistic(X.rows(rows), pick(cs.observed, rows), static_cast<int>(cs.p.n_cols), c.penalty_c));
+  }
+}
+
+void fit(const CalibrationCases& cs, const arma::uvec& use, Calibration& c) {
+  fit_blend(cs, use, c);
+  if (c.method == CalibrationMethod::Logistic) fit_logistic(cs, use, c);
+}
+
+CalibrationScores score_window(const CalibrationCases& cs, const arma::mat& calibrated, const LeadWindow& w) {
+  CalibrationScores s;
+  s.first = w.first;
+  s.last = w.second;
+  const arma::uvec rows = arma::find(in_window(cs, w));
+  s.cases = rows.n_elem;
+  if (rows.is_empty()) {
+    const double nan = arma::datum::nan;
+    s.brier_raw = s.brier_calibrated = s.brier_climatology = s.skill_raw = s.skill_calibrated = nan;
+    s.reliability_raw = s.reliability_calibrated = s.resolution_raw = s.resolution_calibrated = nan;
+    s.hit_rate_raw = s.hit_rate_calibrated = nan;
+    return s;
+  }
+  const std::vector<int> o = pick(cs.observed, rows);
+  const arma::mat raw = cs.p.rows(rows), cal = calibrated.rows(rows), clim = cs.c.rows(rows);
+  s.brier_raw = mean_multicategory_brier(raw, o);
+  s.brier_calibrated = mean_multicategory_brier(cal, o);
+  s.brier_climatology = mean_multicategory_brier(clim, o);
+  s.skill_raw = skill_score(s.brier_raw, s.brier_climatology);
+  s.skill_calibrated = skill_score(s.brier_calibrated, s.brier_climatology);
+  double hit_raw = 0, hit_cal = 0;
+  for (arma::uword i = 0; i < rows.n_elem; ++i) {
+    hit_raw += raw.row(i).index_max() == arma::uword(o[i]);
+    hit_cal += cal.row(i).index_max() == arma::uword(o[i]);
+  }
+  s.hit_rate_raw = hit_raw / rows.n_elem;
+  s.hit_rate_calibrated = hit_cal / rows.n_elem;
+  for (arma::uword k = 0; k < raw.n_cols; ++k) {
+    arma::vec happened(rows.n_elem);
+    for (arma::uword i = 0; i < rows.n_elem; ++i) happened(i) = o[i] == int(k) ? 1.0 : 0.0;
+    const BrierParts r = binned_brier_decomposition(raw.col(k), happened, 10);
+    const BrierParts b = binned_brier_decomposition(arma::clamp(cal.col(k), 0.0, 1.0), happened, 10);
+    s.reliability_raw += r.reliability;
+    s.reliability_calibrated += b.reliability;
+    s.resolution_raw += r.resolution;
+    s.resolution_calibrated += b.resolution;
+  }
+  return s;
+}
+
+}  // namespace
+
+arma::mat apply_calibration(const Calibration& c, const CalibrationCases& cs, const arma::uvec& rows) {
+  arma::mat out(rows.n_elem, cs.p.n_cols);
+  if (c.method == CalibrationMethod::Blend) {
+    for (arma::uword i = 0; i < rows.n_elem; ++i) {
+      const arma::uword r = rows(i);
+      out.row(i) = cs.c.row(r) + c.blend_at(cs.lead[r]) * (cs.p.row(r) - cs.c.row(r));
+    }
+    return out;
+  }
+  const arma::mat X = logistic_features(cs.p.rows(rows), cs.members.elem(rows), cs.c.rows(rows));
+  for (arma::uword i = 0; i < rows.n_elem; ++i) {
+    const int w = c.window_of(cs.lead[rows(i)]);
+    out.row(i) = logistic_probabilities(c.logistic[static_cast<std::size_t>(w)], X.row(i));
+  }
+  return out;
+}
+
+void fit_calibration(const CalibrationCases& cs, const std::vector<int>& years, const std::vector<LeadWindow>& windows,
+                     Calibration& c, const CalibrateProgress& report) {
+  c.windows = windows;
+  arma::mat cross(cs.p.n_rows, cs.p.n_cols);
+  for (std::size_t y = 0; y < years.size(); ++y) {
+    report("fit", static_cast<int>(y), static_cast<int>(years.size()));
+    arma::uvec held(cs.year.size());
+    for (std::size_t i = 0; i < cs.year.size(); ++i) held(i) = cs.year[i] == years[y];
+    Calibration without = c;
+    fit(cs, held == 0, without);
+    const arma::uvec rows = arma::find(held);
+    if (!rows.is_empty()) cross.rows(rows) = apply_calibration(without, cs, rows);
+  }
+  report("fit", static_cast<int>(years.size()), static_cast<int>(years.size()));
+  fit(cs, arma::ones<arma::uvec>(cs.year.size()), c);
+  c.scores.clear();
+  for (const auto& w : windows) c.scores.push_back(score_window(cs, cross, w));
+}
+
+}  // namespace isohypse
