@@ -20,11 +20,12 @@ int main(int argc, char** argv) {
       ->required();
   app.add_option("--size", options.size,
                  "full: the README demo (30 reanalysis years at 2.5 degrees, 90 forecasts of 8 members, "
-                 "20 years of reforecasts, and a system without skill: 7 forecasts, 10 years of reforecasts); small: for the "
-                 "test suite (8 years at 5 degrees, 20 forecasts of 4 members, 6 years of reforecasts; without skill "
-                 "the last 4 forecasts and the same reforecasts); bench: only the reanalysis, 1991-2020 at 1 degree over "
-                 "the sector, for the benchmark; tiny: the reanalysis 2011-2020 at 5 degrees over the sector and "
-                 "the truth (labels, patterns, truth.json), for tests of the choice of k")
+                 "20 years of reforecasts, and a system without skill: 7 forecasts, 10 years of reforecasts); "
+                 "small: for the test suite (8 years at 5 degrees, 20 forecasts of 4 members, 6 years of "
+                 "reforecasts; without skill the last 4 forecasts and the same reforecasts); bench: only the "
+                 "reanalysis, 1991-2020 at 1 degree over the sector, for the benchmark; tiny: the reanalysis "
+                 "2011-2020 at 5 degrees over the sector and the truth (labels, patterns, truth.json), for tests "
+                 "of the choice of k")
       ->check(CLI::IsMember({"full", "small", "bench", "tiny"}))
       ->capture_default_str();
   app.add_option("--step", options.step,
