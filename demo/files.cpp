@@ -194,9 +194,9 @@ void write_analysis(const World& world, const Date& first, const Date& last, dou
 
 Points forecast_points() { return Points::product(forecast_lat(), forecast_lon()); }
 
-std::vector<Trajectory> model_run(const World& world, const Date& init, int members) {
+std::vector<Trajectory> model_run(const World& world, const Date& init, int members, ModelSystem system) {
   std::vector<Trajectory> runs;
-  for (int m = 0; m < members; ++m) runs.push_back(world.member(init, m));
+  for (int m = 0; m < members; ++m) runs.push_back(world.member(init, m, system));
   return runs;
 }
 

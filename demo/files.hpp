@@ -38,12 +38,14 @@ void write_reanalysis_year(const World& world, const Surface& surface, const std
 void write_analysis(const World& world, const isohypse::Date& first, const isohypse::Date& last, double step,
                     const std::string& path);
 
-// The forecast grid shared by sets C and D: 2 degrees, 16N-84N, 164E-326E.
+// The forecast grid shared by sets C and D (and the no-skill system's C' and
+// D'): 2 degrees, 16N-84N, 164E-326E.
 Points forecast_points();
 
-// The planted trajectories of members 0..members-1 started from the truth
-// of `init` (a real date).
-std::vector<Trajectory> model_run(const World& world, const isohypse::Date& init, int members);
+// The planted trajectories of members 0..members-1 of `system` initialised
+// on `init` (a real date).
+std::vector<Trajectory> model_run(const World& world, const isohypse::Date& init, int members,
+                                  ModelSystem system = ModelSystem::skilful);
 
 // Sets C and D: the members of `runs` (from model_run, same init), `gh`
 // (number, time, latitude, longitude) in metres on the noleap calendar,

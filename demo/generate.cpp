@@ -37,6 +37,13 @@ struct Plan {
   Date rf_season_first, rf_season_last;  // Mondays and Thursdays of this span...
   int rf_year_first, rf_year_last;       // ...on the same month-day of these years
   int rf_members;
+  // The no-skill system: reforecasts on the same schedule and members in
+  // these years; forecasts from ns_fc_first (or the last ns_fc_count of the
+  // forecasts when ns_fc_at_end).
+  int ns_rf_year_first = 0, ns_rf_year_last = 0;
+  Date ns_fc_first{};
+  int ns_fc_count = 0, ns_fc_members = 0;
+  bool ns_fc_at_end = false;
 };
 
 Plan plan_for(const std::string& size, double step) {
@@ -47,7 +54,19 @@ Plan plan_for(const std::string& size, double step) {
   else if (size == "small")
     p = {2013, 2020, 5.0, false, false, true, day(2025, 12, 1), day(2026, 3, 31), 5.0, day(2025, 12, 1), 20, 4,
          day(2025, 12, 1), day(2026, 1, 31), 2015, 2020, 3};
-  else if (size == "bench")
+  if (size == "full") {
+    p.ns_rf_year_first = 2011;  // half the reforecast years, to keep the demo's size down
+    p.ns_rf_year_last = 2020;
+    p.ns_fc_first = day(2026, 1, 9);
+    p.ns_fc_count = 7;
+    p.ns_fc_members = 8;
+  } else if (size == "small") {
+    p.ns_rf_year_first = p.rf_year_first;
+    p.ns_rf_year_last = p.rf_year_last;
+    p.ns_fc_count = 4;
+    p.ns_fc_members = p.fc_members;
+    p.ns_fc_at_end = true;
+  } else if (size == "bench")
     p = {1991, 2020, 1.0, true, true, false, {}, {}, 0, {}, 0, 0, {}, {}, 0, 0, 0};
   else if (size == "tiny")
     p = {2011, 2020, 5.0, true, true, true, {}, {}, 0, {}, 0, 0, {}, {}, 0, 0, 0};
@@ -92,7 +111,7 @@ public:
   json finish(const std::string& what) {
     double s = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0_).count();
     char line[256];
-    std::snprintf(line, sizeof line, "  %-12s %5zu files %9.1f MB %6.1f s  %s%s%s\n", what.c_str(), files_.size(),
+    std::snprintf(line, sizeof line, "  %-19s %5zu files %9.1f MB %6.1f s  %s%s%s\n", what.c_str(), files_.size(),
                   static_cast<double>(bytes_) / 1e6, s, files_.empty() ? "" : files_.front().c_str(), files_.size() > 1 ? " .. " : "",
                   files_.size() > 1 ? fs::path(files_.back()).filename().c_str() : "");
     log_ << line << std::flush;
@@ -175,14 +194,67 @@ void write_reanalysis(const World& world, const Plan& plan, const Options& optio
   rean["fill_values"] = json::array();
   for (const auto& h : realities.holes)
     rean["fill_values"].push_back({{"date", isohypse::to_string(h.day)}, {"lat", h.lat}, {"lon", h.lon}});
-  tally.log() << "               planted: " << realities.missing_days.size() << " days missing ("
+  tally.log() << "                      planted: " << realities.missing_days.size() << " days missing ("
               << isohypse::to_string(realities.missing_days.front()) << ".."
               << isohypse::to_string(realities.missing_days.back()) << "), " << realities.holes.size()
               << " values of " << realities.holes.front().day.year << " written as _FillValue\n";
 }
 
+struct Run {
+  Date init;
+  std::string rel;
+};
+
+// Writes the runs of one system (files in parallel) and its member table
+// truth/<table>; returns the file list.
+json write_runs(const World& world, const Surface& model_grid, const std::vector<Run>& runs, int members,
+                ModelSystem system, const std::string& table, const std::string& what, const Options& options,
+                Tally& tally) {
+  tally.start();
+  run_in_processes(runs.size(), options.processes, [&](std::size_t i) {
+    write_model_run(model_grid, runs[i].init, model_run(world, runs[i].init, members, system), tally.path(runs[i].rel));
+  });
+  // The planted members again (cheap), for the truth tables.
+  std::string csv = "init_date,member,lead,valid_date,regime\n";
+  for (const Run& r : runs) {
+    append_members(csv, r.init, model_run(world, r.init, members, system));
+    tally.add(r.rel);
+  }
+  isohypse::write_file_atomically(tally.path("truth/" + table), csv);
+  return tally.finish(what);
+}
+
+std::vector<Run> daily_runs(const Date& first, int count, const std::string& folder) {
+  std::vector<Run> runs;
+  for (int i = 0; i < count; ++i) {
+    Date init = isohypse::add_days(first, i);
+    runs.push_back({init, folder + "/fc_" + compact(init) + ".nc"});
+  }
+  return runs;
+}
+
+// Mondays and Thursdays of the plan's reforecast season on the same month-day of year_first..year_last.
+std::vector<Run> reforecast_runs(const Plan& plan, int year_first, int year_last, const std::string& folder) {
+  std::vector<Date> inits;
+  for (Date s = plan.rf_season_first; !(plan.rf_season_last < s); s = isohypse::add_days(s, 1))
+    if (monday_or_thursday(s))
+      for (int y = year_first; y <= year_last; ++y) inits.push_back(day(y, s.month, s.day));
+  std::sort(inits.begin(), inits.end());
+  std::vector<Run> runs;
+  for (const Date& init : inits) runs.push_back({init, folder + "/rf_" + compact(init) + ".nc"});
+  return runs;
+}
+
+std::string schedule(const Plan& plan, int year_first, int year_last) {
+  return "Mondays and Thursdays of " + isohypse::to_string(plan.rf_season_first) + ".." +
+         isohypse::to_string(plan.rf_season_last) + " on the same month-day of " + std::to_string(year_first) + ".." +
+         std::to_string(year_last);
+}
+
 // B, C and D: the analysis, forecasts and reforecasts (one model on one grid),
-// with the member tables truth/forecast_members.csv and truth/reforecast_members.csv.
+// with the member tables truth/forecast_members.csv and truth/reforecast_members.csv;
+// then C' and D', the no-skill system's forecasts and reforecasts (the same
+// model, members diverged at lead 0), with truth/*_members_noskill.csv.
 void write_model_sets(const World& world, const Plan& plan, const Options& options, Tally& tally, json& truth) {
   tally.start();
   const std::string ana = "analysis/hgt_levels_2025-2026.nc";
@@ -193,49 +265,38 @@ void write_model_sets(const World& world, const Plan& plan, const Options& optio
                        {"last", isohypse::to_string(plan.ana_last)},
                        {"step_deg", plan.ana_step}};
 
-  const Surface model_grid(world, forecast_points());
-  struct Run {
-    Date init;
-    std::string rel;
-  };
-  auto write_runs = [&](const std::vector<Run>& runs, int members, const std::string& what) {
-    tally.start();
-    run_in_processes(runs.size(), options.processes, [&](std::size_t i) {
-      write_model_run(model_grid, runs[i].init, model_run(world, runs[i].init, members), tally.path(runs[i].rel));
-    });
-    // The planted members again (cheap), for the truth tables.
-    std::string csv = "init_date,member,lead,valid_date,regime\n";
-    for (const Run& r : runs) {
-      append_members(csv, r.init, model_run(world, r.init, members));
-      tally.add(r.rel);
-    }
-    isohypse::write_file_atomically(tally.path("truth/" + what + "_members.csv"), csv);
-    return tally.finish(what + "s");
-  };
-
-  std::vector<Run> forecasts;
-  for (int i = 0; i < plan.fc_count; ++i) {
-    Date init = isohypse::add_days(plan.fc_first, i);
-    forecasts.push_back({init, "forecasts/fc_" + compact(init) + ".nc"});
-  }
-  truth["forecasts"] = {{"files", write_runs(forecasts, plan.fc_members, "forecast")},
+  const Surface grid(world, forecast_points());
+  const auto skilful = ModelSystem::skilful, no_skill = ModelSystem::no_skill;
+  truth["forecasts"] = {{"files", write_runs(world, grid, daily_runs(plan.fc_first, plan.fc_count, "forecasts"),
+                                             plan.fc_members, skilful, "forecast_members.csv", "forecasts", options,
+                                             tally)},
                         {"members", plan.fc_members},
                         {"leads", kLeads}};
+  truth["reforecasts"] = {
+      {"files", write_runs(world, grid, reforecast_runs(plan, plan.rf_year_first, plan.rf_year_last, "reforecasts"),
+                           plan.rf_members, skilful, "reforecast_members.csv", "reforecasts", options, tally)},
+      {"members", plan.rf_members},
+      {"leads", kLeads},
+      {"schedule", schedule(plan, plan.rf_year_first, plan.rf_year_last)}};
 
-  std::vector<Date> rf_inits;
-  for (Date s = plan.rf_season_first; !(plan.rf_season_last < s); s = isohypse::add_days(s, 1))
-    if (monday_or_thursday(s))
-      for (int y = plan.rf_year_first; y <= plan.rf_year_last; ++y) rf_inits.push_back(day(y, s.month, s.day));
-  std::sort(rf_inits.begin(), rf_inits.end());
-  std::vector<Run> reforecasts;
-  for (const Date& init : rf_inits) reforecasts.push_back({init, "reforecasts/rf_" + compact(init) + ".nc"});
-  truth["reforecasts"] = {{"files", write_runs(reforecasts, plan.rf_members, "reforecast")},
-                          {"members", plan.rf_members},
-                          {"leads", kLeads},
-                          {"schedule", "Mondays and Thursdays of " + isohypse::to_string(plan.rf_season_first) + ".." +
-                                           isohypse::to_string(plan.rf_season_last) + " on the same month-day of " +
-                                           std::to_string(plan.rf_year_first) + ".." +
-                                           std::to_string(plan.rf_year_last)}};
+  const Date ns_first = plan.ns_fc_at_end ? isohypse::add_days(plan.fc_first, plan.fc_count - plan.ns_fc_count)
+                                          : plan.ns_fc_first;
+  truth["forecasts_noskill"] = {
+      {"files", write_runs(world, grid, daily_runs(ns_first, plan.ns_fc_count, "forecasts_noskill"),
+                           plan.ns_fc_members, no_skill, "forecast_members_noskill.csv", "forecasts_noskill",
+                           options, tally)},
+      {"members", plan.ns_fc_members},
+      {"leads", kLeads},
+      {"system", "no skill: every member diverged from the truth at lead 0 (world.members_noskill)"}};
+  truth["reforecasts_noskill"] = {
+      {"files", write_runs(world, grid,
+                           reforecast_runs(plan, plan.ns_rf_year_first, plan.ns_rf_year_last, "reforecasts_noskill"),
+                           plan.rf_members, no_skill, "reforecast_members_noskill.csv", "reforecasts_noskill",
+                           options, tally)},
+      {"members", plan.rf_members},
+      {"leads", kLeads},
+      {"schedule", schedule(plan, plan.ns_rf_year_first, plan.ns_rf_year_last)},
+      {"system", "no skill: every member diverged from the truth at lead 0 (world.members_noskill)"}};
 }
 
 // E: the planted truth: labels.csv, patterns.nc and truth.json (the member
@@ -249,7 +310,8 @@ void write_truth(const World& world, const Plan& plan, Tally& tally, json& truth
   json files = {"truth/truth.json", "truth/patterns.nc", "truth/labels.csv"};
   tally.add("truth/labels.csv");
   if (!plan.only_reanalysis)
-    for (const char* rel : {"truth/forecast_members.csv", "truth/reforecast_members.csv"}) {
+    for (const char* rel : {"truth/forecast_members.csv", "truth/reforecast_members.csv",
+                            "truth/forecast_members_noskill.csv", "truth/reforecast_members_noskill.csv"}) {
       tally.add(rel);
       files.push_back(rel);
     }
@@ -276,11 +338,13 @@ void generate(const Options& options, std::ostream& log) {
     if (plan.only_reanalysis)
       throw isohypse::InputError("--forecasts: size " + options.size + " writes no forecasts");
     plan.fc_count = options.forecasts;
+    if (plan.ns_fc_at_end) plan.ns_fc_count = std::min(plan.ns_fc_count, plan.fc_count);
   }
   options.world.validate();
   const auto t_start = std::chrono::steady_clock::now();
   std::error_code ec;
-  for (const char* sub : {"reanalysis", "analysis", "forecasts", "reforecasts", "truth"}) {
+  for (const char* sub :
+       {"reanalysis", "analysis", "forecasts", "reforecasts", "forecasts_noskill", "reforecasts_noskill", "truth"}) {
     const std::string name = sub;
     if (plan.only_reanalysis && name != "reanalysis" && !(plan.truth && name == "truth")) continue;
     fs::create_directories(fs::path(options.out) / sub, ec);
@@ -309,7 +373,8 @@ void generate(const Options& options, std::ostream& log) {
 
   double s = std::chrono::duration<double>(std::chrono::steady_clock::now() - t_start).count();
   char line[160];
-  std::snprintf(line, sizeof line, "  total        %5zu files %9.1f MB %6.1f s\n", tally.total_files(), tally.total_mb(), s);
+  std::snprintf(line, sizeof line, "  total               %5zu files %9.1f MB %6.1f s\n", tally.total_files(),
+                tally.total_mb(), s);
   log << line;
 }
 

@@ -20,7 +20,8 @@ struct Options {
 };
 
 // Writes the world under options.out (reanalysis/, analysis/, forecasts/,
-// reforecasts/, truth/; bench writes reanalysis/ only, tiny reanalysis/ and
+// reforecasts/, the no-skill system's forecasts_noskill/ and
+// reforecasts_noskill/, truth/; bench writes reanalysis/ only, tiny reanalysis/ and
 // truth/ without the member tables) and prints one line per set, then the
 // total, to `log`. Throws isohypse::InputError for an unknown size, a step
 // that does not divide 30 degrees, forecasts asked of a size without them

@@ -13,16 +13,19 @@
 
 int main(int argc, char** argv) {
   CLI::App app{"isohypse-demo-world: writes an invented world of 500 hPa heights with planted circulation regimes "
-               "(four by default; reanalysis, analysis, forecasts, reforecasts and the planted truth)."};
+               "(four by default; reanalysis, analysis, forecasts, reforecasts, the forecasts and reforecasts of a "
+               "system without skill, and the planted truth)."};
   demo::Options options;
   app.add_option("--out", options.out, "Folder to write into (created if missing); files already there are replaced")
       ->required();
   app.add_option("--size", options.size,
                  "full: the README demo (30 reanalysis years at 2.5 degrees, 90 forecasts of 8 members, "
-                 "20 years of reforecasts); small: for the test suite (8 years at 5 degrees, 20 forecasts of "
-                 "4 members, 6 years of reforecasts); bench: only the reanalysis, 1991-2020 at 1 degree over "
-                 "the sector, for the benchmark; tiny: the reanalysis 2011-2020 at 5 degrees over the sector and "
-                 "the truth (labels, patterns, truth.json), for tests of the choice of k")
+                 "20 years of reforecasts, and a system without skill: 7 forecasts, 10 years of reforecasts); "
+                 "small: for the test suite (8 years at 5 degrees, 20 forecasts of 4 members, 6 years of "
+                 "reforecasts; without skill the last 4 forecasts and the same reforecasts); bench: only the "
+                 "reanalysis, 1991-2020 at 1 degree over the sector, for the benchmark; tiny: the reanalysis "
+                 "2011-2020 at 5 degrees over the sector and the truth (labels, patterns, truth.json), for tests "
+                 "of the choice of k")
       ->check(CLI::IsMember({"full", "small", "bench", "tiny"}))
       ->capture_default_str();
   app.add_option("--step", options.step,

@@ -81,7 +81,8 @@ constexpr double kSquashLow = 4850.0, kSquashHigh = 5950.0, kSquashWidth = 120.0
 
 // Random stream identifiers (derive_seed).
 enum Stream : std::uint64_t {
-  kBlobStream = 1, kChainStream = 2, kNoiseStream = 3, kMemberStream = 4, kSmallBlobStream = 5, kSmallNoiseStream = 6
+  kBlobStream = 1, kChainStream = 2, kNoiseStream = 3, kMemberStream = 4, kSmallBlobStream = 5, kSmallNoiseStream = 6,
+  kNoSkillMemberStream = 7
 };
 
 double great_circle_deg(double lat1, double lon1, double lat2, double lon2) {
@@ -276,6 +277,15 @@ int World::next_state(int from, double u) const {
   return static_cast<int>(row.size()) - 1;
 }
 
+int World::stationary_state(double u) const {
+  double acc = 0.0;
+  for (std::size_t j = 0; j < stationary_.size(); ++j) {
+    acc += stationary_[j];
+    if (u < acc) return static_cast<int>(j);
+  }
+  return static_cast<int>(stationary_.size()) - 1;  // -1 without regimes; rounding of the sum otherwise
+}
+
 std::size_t World::n_terms() const { return kRegime0 + regimes_.size() + 1 + blobs_.size(); }
 
 arma::mat World::terms(const Points& points) const {
@@ -335,11 +345,25 @@ arma::vec World::truth_coefs(const Date& real) const {
   return c;
 }
 
-Trajectory World::member(const Date& init, int member) const {
-  const Date model_init = isohypse::make_date(init.year, init.month, init.day, Calendar::NoLeap);
-  Rng rng(derive_seed(seed_, {kMemberStream, static_cast<std::uint64_t>(isohypse::day_number(init)),
+Trajectory World::member(const Date& init, int member, ModelSystem system) const {
+  const std::uint64_t stream = system == ModelSystem::skilful ? kMemberStream : kNoSkillMemberStream;
+  Rng rng(derive_seed(seed_, {stream, static_cast<std::uint64_t>(isohypse::day_number(init)),
                               static_cast<std::uint64_t>(member)}));
-  const double divergence = -kDivergenceMean * std::log(1.0 - rng.uniform());
+  if (system == ModelSystem::skilful) {
+    const double divergence = -kDivergenceMean * std::log(1.0 - rng.uniform());
+    return trajectory(init, rng, divergence, truth_regime(init), true);
+  }
+  // No skill: nothing of the truth's day enters, neither its regime nor its
+  // noise; the start is a draw of the climate the chain settles to.
+  const int start = stationary_state(rng.uniform());
+  return trajectory(init, rng, 0.0, start, false);
+}
+
+// The draws come in the order the skilful members always took them (their
+// divergence before this call, then the own noise, then per lead a chain step
+// after divergence and the noise innovations), so their files stay the same.
+Trajectory World::trajectory(const Date& init, Rng& rng, double divergence, int start, bool truth_noise) const {
+  const Date model_init = isohypse::make_date(init.year, init.month, init.day, Calendar::NoLeap);
   const std::size_t nb = blobs_.size();
   const double innovation = std::sqrt(1.0 - kNoiseLag1 * kNoiseLag1);
   arma::vec own(nb), mixed(nb);
@@ -347,7 +371,7 @@ Trajectory World::member(const Date& init, int member) const {
 
   Trajectory tr;
   tr.coefs.set_size(n_terms(), kLeads);
-  int state = truth_regime(init);
+  int state = start;
   for (int lead = 0; lead < kLeads; ++lead) {
     Date valid = isohypse::add_days(model_init, lead);
     Date real = isohypse::make_date(valid.year, valid.month, valid.day, Calendar::Standard);
@@ -356,8 +380,12 @@ Trajectory World::member(const Date& init, int member) const {
       state = lead < divergence ? states_[j] : next_state(state, rng.uniform());
       for (auto& e : own) e = kNoiseLag1 * e + innovation * rng.normal();
     }
-    double r = std::exp(-lead / kNoiseMemory);
-    mixed = r * noise_.col(j) + std::sqrt(1.0 - r * r) * own;
+    if (truth_noise) {
+      double r = std::exp(-lead / kNoiseMemory);
+      mixed = r * noise_.col(j) + std::sqrt(1.0 - r * r) * own;
+    } else {
+      mixed = own;
+    }
     fill_coefs(tr.coefs.colptr(static_cast<arma::uword>(lead)), real, state, 1.0 - std::exp(-lead / kDriftEfold),
                mixed.memptr());
     tr.regime.push_back(state);
@@ -385,6 +413,23 @@ nlohmann::json World::small_noise_json() const {
       {"sector_mean_point_std_m", spec_.small_noise_std},
       {"lag1", kNoiseLag1},
       {"latitude_envelope", "as the large-scale noise's"}};
+}
+
+nlohmann::json World::members_json(ModelSystem system) const {
+  if (system == ModelSystem::skilful)
+    return {{"divergence_lead", "exponential with mean divergence_mean_days; lead 0 is always the truth"},
+            {"divergence_mean_days", kDivergenceMean},
+            {"regime", "truth's state for lead < divergence lead, then the member's own Markov chain"},
+            {"noise", "r * truth + sqrt(1 - r^2) * own AR(1), r = exp(-lead / memory_days)"},
+            {"noise_memory_days", kNoiseMemory},
+            {"calendar", "noleap; a model day maps to the real day with the same year-month-day"}};
+  return {{"divergence_lead", 0},
+          {"regime", "the member's own Markov chain (the world's matrix) from lead 0, its lead-0 state drawn from "
+                     "the chain's stationary distribution, independent of the truth"},
+          {"noise", "the member's own AR(1) from lead 0 (unit variance at lead 0), none of the truth's"},
+          {"drift", "as the skilful members': D(x) * (1 - exp(-lead / efold_days))"},
+          {"random_stream", "its own (seed, stream 7, init, member): the skilful system's files do not move"},
+          {"calendar", "noleap; a model day maps to the real day with the same year-month-day"}};
 }
 
 nlohmann::json World::describe() const {
@@ -422,12 +467,8 @@ nlohmann::json World::describe() const {
                 {"resembles_regime", spec_.noise_only ? json(nullptr) : json(0)}};
   j["noise"] = noise_json();
   if (spec_.small_noise_std > 0.0) j["small_scale_noise"] = small_noise_json();
-  j["members"] = {{"divergence_lead", "exponential with mean divergence_mean_days; lead 0 is always the truth"},
-                  {"divergence_mean_days", kDivergenceMean},
-                  {"regime", "truth's state for lead < divergence lead, then the member's own Markov chain"},
-                  {"noise", "r * truth + sqrt(1 - r^2) * own AR(1), r = exp(-lead / memory_days)"},
-                  {"noise_memory_days", kNoiseMemory},
-                  {"calendar", "noleap; a model day maps to the real day with the same year-month-day"}};
+  j["members"] = members_json(ModelSystem::skilful);
+  j["members_noskill"] = members_json(ModelSystem::no_skill);
   j["climatology"] = {
       {"zonal_mean_winter_m", "5845 (subtropics) to 5230 (pole)"},
       {"zonal_mean_summer_m", "5885 (subtropics) to 5550 (pole)"},

@@ -22,6 +22,7 @@
 #include <vector>
 
 #include "isohypse/base/calendar.hpp"
+#include "base/random.hpp"
 
 namespace demo {
 
@@ -61,6 +62,15 @@ struct Trajectory {
   std::vector<isohypse::Date> valid;     // model (noleap) valid dates
   arma::mat coefs;                       // n_terms x kLeads
 };
+
+// The demo's two forecast systems, the same model (grid, members' drift,
+// calendar, files): `skilful` members start from the truth and follow its
+// regime up to a random divergence lead (forecasts/, reforecasts/);
+// `no_skill` members diverge at lead 0 (forecasts_noskill/,
+// reforecasts_noskill/): their regime is their own Markov chain from a state
+// drawn from the chain's stationary distribution, their noise their own
+// AR(1) from day 0.
+enum class ModelSystem { skilful, no_skill };
 
 // What is planted: 3, 4 or 5 regimes (3: the first three of the four; 5: the
 // four and a block), or none (a noise-only world: the same climatology and
@@ -105,10 +115,11 @@ public:
   // Labelled regime: the truth's state in the cold season, -1 outside it.
   int label(const isohypse::Date& real) const;
 
-  // A model member started from the truth of `init` (a real day that also
+  // A model member of `system` initialised on `init` (a real day that also
   // exists on the noleap calendar). Members are independent random streams
-  // keyed by (seed, init, member), so any subset can be generated alone.
-  Trajectory member(const isohypse::Date& init, int member) const;
+  // keyed by (seed, system, init, member), so any subset can be generated
+  // alone and the no-skill system moves nothing of the skilful one.
+  Trajectory member(const isohypse::Date& init, int member, ModelSystem system = ModelSystem::skilful) const;
 
   // Everything planted, for truth.json: patterns, Markov matrix, drift,
   // noise, climatology.
@@ -121,6 +132,14 @@ private:
                   const double* noise) const;
 
   int next_state(int from, double u) const;
+  // The state at which the stationary distribution's cumulative sum passes u (-1 without regimes).
+  int stationary_state(double u) const;
+  // The member's columns: `start` at lead 0, the truth's regime while lead <
+  // divergence, then its own chain; its noise the truth's damped toward its
+  // own when truth_noise, else its own alone.
+  Trajectory trajectory(const isohypse::Date& init, isohypse::detail::Rng& rng, double divergence, int start,
+                        bool truth_noise) const;
+  nlohmann::json members_json(ModelSystem system) const;  // how members are made, for describe()
   nlohmann::json noise_json() const;        // the large-scale noise, for describe()
   nlohmann::json small_noise_json() const;  // the small-scale noise, for describe()
   void plant_noise(std::uint64_t stream, int lattice_points, double radius_min, double radius_max, double std);

@@ -124,7 +124,7 @@ def main():
 
 def check_files_listed(world, truth):
     listed = set()
-    for key in ("reanalysis", "analysis", "forecasts", "reforecasts"):
+    for key in ("reanalysis", "analysis", "forecasts", "reforecasts", "forecasts_noskill", "reforecasts_noskill"):
         listed |= set(truth[key]["files"])
     listed |= set(truth["truth_files"])
     found = {os.path.relpath(p, world) for p in glob.glob(os.path.join(world, "*", "*"))}
@@ -429,7 +429,8 @@ def check_identical(w1, w2):
     check(not differ, f"same seed gives byte-identical data in all {len(files)} netCDF files (--jobs 1 vs 2)"
           + (f"; differ: {differ[:5]}" if differ else ""))
     same = all(open(os.path.join(w1, "truth", f), "rb").read() == open(os.path.join(w2, "truth", f), "rb").read()
-               for f in ("labels.csv", "forecast_members.csv", "reforecast_members.csv", "truth.json"))
+               for f in ("labels.csv", "forecast_members.csv", "reforecast_members.csv", "forecast_members_noskill.csv",
+                         "reforecast_members_noskill.csv", "truth.json"))
     check(same, "same seed gives identical truth tables and truth.json")
 
 

@@ -27,7 +27,9 @@ Checks:
   - the default is today's world: --regimes 4 given or not gives identical
     files, and --size small at seed 8 gives the same data (sha256 of the z
     values of two reanalysis years and of labels.csv) as the generator before
-    these options (values recorded from that generator on 2026-12-02).
+    these options (values recorded from that generator on 2026-12-02), and
+    the same forecasts, reforecasts, analysis and member tables as the
+    generator before the no-skill system (recorded from commit 079445d).
 """
 import datetime
 import hashlib
@@ -53,6 +55,17 @@ TODAY_SHA256 = {
     "reanalysis/hgt500_2013.nc:z": "f4158ea7fd0652c2f297a1bc00575a067ac5efe92e585dd92d046352a7c34528",
     "reanalysis/hgt500_2020.nc:z": "9603c37b3caa3c17223348a417a72056ccee56b1353e4122619e791db52cd8af",
     "truth/labels.csv": "f14aaffde96980467c59dc8cb3609296bc71ab1f74f94f9924600ba772972ffa",
+}
+# Recorded from the generator before the no-skill system existed (commit 079445d, --size small --seed 8): the
+# skilful system's runs, the analysis and the member tables must not move when another system is added.
+BEFORE_NOSKILL_SHA256 = {
+    "forecasts/fc_20251201.nc:gh": "f9a873a597172c2018a712a5aef66501b0b92f5de9ad55d02cc51f90c9f61c33",
+    "forecasts/fc_20251220.nc:gh": "5f721687294fe05ce5cf137709cb39c3094a04661434cf208c9b0297f99143bf",
+    "reforecasts/rf_20150101.nc:gh": "c505301cd85069d50843d7bb06220679fe858791c7b8ae9a24f6e9cb265431a9",
+    "reforecasts/rf_20201229.nc:gh": "3b13a347d5d45512d868fe4f3bf4ccb6c0708bd43426588e97574e11078d788e",
+    "analysis/hgt_levels_2025-2026.nc:hgt": "2c0f7d4df7a1d322058e6a2dd2c62c73281a92849395e68ffb9493a031e6316e",
+    "truth/forecast_members.csv": "f012bdcd314b8fc56e857710b16ab21a2cb76917fc7d1ac721186ce24d85084f",
+    "truth/reforecast_members.csv": "dde825a478ec5808459887c25b945a80518c9582ee0453c348dee234718aefd6",
 }
 
 
@@ -250,6 +263,10 @@ def check_default(root):
     for key, want in TODAY_SHA256.items():
         got = sha_of(a, key)
         check(got == want, f"default world: {key} sha256 {got[:16]} equals the pre-option generator's {want[:16]}")
+    for key, want in BEFORE_NOSKILL_SHA256.items():
+        got = sha_of(a, key)
+        check(got == want, f"default world: {key} sha256 {got[:16]} equals the generator's before the no-skill "
+              f"system {want[:16]}")
     same = all(sha_of(a, k) == sha_of(b, k) for k in ("reanalysis/hgt500_2016.nc:z", "forecasts/fc_20251201.nc:gh",
                                                        "truth/labels.csv", "truth/forecast_members.csv"))
     check(same, "--regimes 4 gives the same data as the default")
