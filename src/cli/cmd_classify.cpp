@@ -38,6 +38,8 @@ void add_config_options(CLI::App* sub, ClassifyConfig& cfg) {
       ->required();
   sub->add_option("--reforecasts", cfg.reforecasts, "Reforecast files or globs: remove the model's drift with lead");
   sub->add_option("--analysis", cfg.analysis, "Analysis files or globs: the latest observed regime and its age");
+  sub->add_option("--calibration", cfg.calibration,
+                  "Calibration file (isohypse calibrate): calibrated probabilities as the headline, raw beside them");
   sub->add_option("--lag", cfg.lag, "Use the latest N initialisations up to the issue date (default: all)");
   add_weights_option(sub, cfg.weights);
   add_date_option(sub, "--issue-date", cfg.issue_date, "YYYY-MM-DD (default: the latest initialisation)");
@@ -117,7 +119,9 @@ void run_classify(const ClassifyConfig& cfg, const Outputs& o) {
   if (o.timings) print_timings(tm, cmd, !o.csv.empty());
   if (!o.quiet) {
     std::cout << guidance_text(g) << "\nguidance written to " << o.out << "\n";
-    if (!o.csv.empty()) std::cout << "CSV written to " << o.csv << "/daily.csv and " << o.csv << "/windows.csv\n";
+    if (!o.csv.empty())
+      std::cout << "CSV written to " << o.csv << "/daily.csv and " << o.csv << "/windows.csv"
+                << (cfg.calibration.empty() ? "" : " (calibrated), daily_raw.csv and windows_raw.csv (raw)") << "\n";
   }
 }
 

@@ -26,13 +26,16 @@ namespace isohypse {
 
 // 2: transition matrices carry their states and counts; 3: window dominance counts members covering 80 % of the
 // window (members, member_weight, initialisations, min_coverage) and persistence.lasting is the spell under way at
-// the issue date beside the record's climatology and the Markov p_ii^n.
-inline constexpr int kGuidanceFormatVersion = 3;
+// the issue date beside the record's climatology and the Markov p_ii^n; 4: with --calibration, raw and calibrated
+// probabilities side by side (raw_probabilities, calibrated_probabilities; raw_/calibrated_ dominance and expected
+// days), the headline ones under the former keys, and a "calibration" object saying which the headline uses.
+inline constexpr int kGuidanceFormatVersion = 4;
 
 struct ClassifyConfig {
   std::vector<std::string> forecasts;     // files or globs (all are scanned; only the chosen are read)
   std::vector<std::string> reforecasts;   // empty: no bias correction
   std::vector<std::string> analysis;      // optional: the latest observed regime and its age
+  std::string calibration;                // optional: a calibration file (isohypse calibrate); headline calibrated
   std::string variable;                   // empty: automatic
   int lag = 0;                            // latest N initialisations up to the issue date; 0 = all given
   Weighting weights;                      // equal | linear | exp:DAYS

@@ -12,7 +12,10 @@ namespace isohypse {
 // p_dominant_STATE and expected_days_STATE for each state, then members,
 // member_weight and initialisations: the members counted for dominance, the
 // sum of their weights and the initialisations they come from), each atomically;
-// a missing value (JSON null) is an empty field. Creates DIR. `guidance` is a
+// a missing value (JSON null) is an empty field. When the guidance is
+// calibrated (its "calibration" says applied), these hold the calibrated
+// (headline) values and DIR/daily_raw.csv and DIR/windows_raw.csv the raw
+// ones, with the same columns. Creates DIR. `guidance` is a
 // document from classify_forecasts. Throws InputError when DIR cannot be
 // created or a file cannot be written.
 void write_guidance_csv(const nlohmann::json& guidance, const std::string& dir);

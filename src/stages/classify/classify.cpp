@@ -7,6 +7,7 @@
 #include "base/blas_threads.hpp"
 #include "isohypse/base/error.hpp"
 #include "isohypse/base/stopwatch.hpp"
+#include "stages/classify/calibrated_guidance.hpp"
 #include "stages/classify/guidance_document.hpp"
 #include "stages/classify/lagged_ensemble.hpp"
 #include "stages/classify/member_labels.hpp"
@@ -47,6 +48,9 @@ nlohmann::json classify_forecasts(const RegimeModel& model, const ClassifyConfig
   ClassifyTimings& time = timings ? *timings : unused;
   Stopwatch clock;
 
+  // A calibration for another model is refused before any forecast is read.
+  std::optional<Calibration> calibration;
+  if (!cfg.calibration.empty()) calibration = load_calibration(model, cfg.calibration);
   const LaggedEnsemble ensemble = choose_lagged_ensemble(model, cfg, report);
   const std::vector<Initialisation> reforecasts = scan_reforecasts(model, cfg, ensemble, report);
   time.scan_s = clock.lap();
@@ -65,10 +69,12 @@ nlohmann::json classify_forecasts(const RegimeModel& model, const ClassifyConfig
   const WindowStatistics statistics = window_statistics(model, cfg, labels.tracks);
   const std::optional<ObservedRegime> observed = latest_observed_regime(model, cfg, ensemble.issue);
   const PersistenceClimatology persistence = persistence_climatology(model, observed, ensemble.issue);
+  std::optional<CalibratedGuidance> calibrated;
+  if (calibration) calibrated = calibrated_guidance(model, std::move(*calibration), ensemble, statistics);
   time.statistics_s = clock.lap();
 
   nlohmann::json guidance =
-      guidance_document(model, cfg, {ensemble, climate, labels, statistics, observed, persistence});
+      guidance_document(model, cfg, {ensemble, climate, labels, statistics, observed, persistence, calibrated});
   time.document_s = clock.lap();
   time.total_s = clock.total();
   return guidance;

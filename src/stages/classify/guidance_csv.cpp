@@ -2,6 +2,8 @@
 
 #include <filesystem>
 #include <sstream>
+#include <utility>
+#include <vector>
 
 #include "isohypse/base/atomic_file.hpp"
 #include "isohypse/base/error.hpp"
@@ -21,7 +23,8 @@ std::string csv_number(const json& v) {
   return o.str();
 }
 
-std::string daily_csv(const json& g) {
+// prefix: "" for the headline probabilities, "raw_" for the raw ones of a calibrated guidance.
+std::string daily_csv(const json& g, const std::string& prefix) {
   const json& states = g.at("states");
   std::ostringstream d;
   d << "valid_date,lead_days";
@@ -29,13 +32,13 @@ std::string daily_csv(const json& g) {
   d << "\n";
   for (const auto& e : g.at("daily")) {
     d << e.at("valid_date").get<std::string>() << "," << e.at("lead_days").get<int>();
-    for (const auto& s : states) d << "," << csv_number(e.at("probabilities").at(s.get<std::string>()));
+    for (const auto& s : states) d << "," << csv_number(e.at(prefix + "probabilities").at(s.get<std::string>()));
     d << "\n";
   }
   return d.str();
 }
 
-std::string windows_csv(const json& g) {
+std::string windows_csv(const json& g, const std::string& prefix) {
   const json& states = g.at("states");
   std::ostringstream w;
   w << "first_lead_days,last_lead_days,from,to";
@@ -45,8 +48,8 @@ std::string windows_csv(const json& g) {
   for (const auto& e : g.at("windows")) {
     w << e.at("first_lead_days").get<int>() << "," << e.at("last_lead_days").get<int>() << ","
       << e.at("from").get<std::string>() << "," << e.at("to").get<std::string>();
-    for (const auto& s : states) w << "," << csv_number(e.at("dominance").at(s.get<std::string>()));
-    for (const auto& s : states) w << "," << csv_number(e.at("expected_days").at(s.get<std::string>()));
+    for (const auto& s : states) w << "," << csv_number(e.at(prefix + "dominance").at(s.get<std::string>()));
+    for (const auto& s : states) w << "," << csv_number(e.at(prefix + "expected_days").at(s.get<std::string>()));
     w << "," << e.at("members").get<int>() << "," << csv_number(e.at("member_weight")) << ","
       << e.at("initialisations").get<int>() << "\n";
   }
@@ -59,9 +62,15 @@ void write_guidance_csv(const json& g, const std::string& dir) {
   std::error_code ec;
   std::filesystem::create_directories(dir, ec);
   if (ec) throw InputError(dir + ": cannot create the folder: " + ec.message());
-  const std::string daily = daily_csv(g), windows = windows_csv(g);
-  write_file_atomically((std::filesystem::path(dir) / "daily.csv").string(), daily);
-  write_file_atomically((std::filesystem::path(dir) / "windows.csv").string(), windows);
+  const bool calibrated = g.contains("calibration") && g.at("calibration").value("applied", false);
+  // Every table is made before any is written: a malformed document leaves no file.
+  std::vector<std::pair<std::string, std::string>> files = {{"daily.csv", daily_csv(g, "")},
+                                                            {"windows.csv", windows_csv(g, "")}};
+  if (calibrated) {
+    files.emplace_back("daily_raw.csv", daily_csv(g, "raw_"));
+    files.emplace_back("windows_raw.csv", windows_csv(g, "raw_"));
+  }
+  for (const auto& [name, text] : files) write_file_atomically((std::filesystem::path(dir) / name).string(), text);
 }
 
 }  // namespace isohypse

@@ -62,23 +62,32 @@ json bias_correction_json(const ModelClimate& climate, const ClassifyConfig& cfg
             {"note", "no reforecasts given: anomalies are against the regime model's reanalysis climatology, "
                      "so the model's own drift with lead is not removed"}};
   return {{"applied", true},
-          {"method", "anomalies against the mean of reforecasts initialised within +-" +
+          {"method", "the model's mean drift removed: anomalies against the regime model's climatology plus the mean "
+                     "of [reforecast - climatology] of reforecasts initialised within +-" +
                          std::to_string(cfg.reforecast_window_days) + " days of the year, by lead day, smoothed " +
                          "with a " + std::to_string(cfg.lead_smoothing_days) + "-day running mean in lead"},
           {"reforecast_files", climate.reforecast_files_read.size()}};
 }
 
-// Each valid day's probabilities; the latest initialisation's model-calendar date where it reaches the day.
-json daily_json(const WindowStatistics& s, const LaggedEnsemble& e, const std::vector<std::string>& states) {
+// Each valid day's probabilities (the headline: calibrated when a
+// calibration is applied, with both beside it); the latest initialisation's
+// model-calendar date where it reaches the day.
+json daily_json(const WindowStatistics& s, const LaggedEnsemble& e, const std::vector<std::string>& states,
+                const std::optional<CalibratedGuidance>& cal) {
   json daily = json::array();
-  for (const auto& d : s.daily) {
+  for (std::size_t i = 0; i < s.daily.size(); ++i) {
+    const DayProbabilities& d = s.daily[i];
     const int lead_latest = d.offset + e.ages.back();
     json entry = {{"valid_date", to_string(add_days(e.issue, d.offset))},
                   {"lead_days", d.offset},
-                  {"probabilities", by_state(states, d.probability)},
-                  {"most_likely", state_name(states, d.most_likely)},
+                  {"probabilities", by_state(states, cal ? cal->daily[i] : d.probability)},
+                  {"most_likely", state_name(states, cal ? cal->daily_most_likely[i] : d.most_likely)},
                   {"members", d.members},
                   {"weight_sum", d.weight_sum}};
+    if (cal) {
+      entry["raw_probabilities"] = by_state(states, d.probability);
+      entry["calibrated_probabilities"] = entry["probabilities"];
+    }
     if (lead_latest >= 0 && lead_latest < e.latest().n_leads)
       entry["model_valid_date"] = to_string(e.latest().valid_model(lead_latest));
     daily.push_back(entry);
@@ -86,21 +95,61 @@ json daily_json(const WindowStatistics& s, const LaggedEnsemble& e, const std::v
   return daily;
 }
 
-json windows_json(const WindowStatistics& s, const Date& issue, const std::vector<std::string>& states) {
+json windows_json(const WindowStatistics& s, const Date& issue, const std::vector<std::string>& states,
+                  const std::optional<CalibratedGuidance>& cal) {
   json windows = json::array();
-  for (const auto& w : s.windows)
-    windows.push_back({{"first_lead_days", w.first},
-                       {"last_lead_days", w.last},
-                       {"from", to_string(add_days(issue, w.first))},
-                       {"to", to_string(add_days(issue, w.last))},
-                       {"expected_days", by_state(states, w.expected_days)},
-                       {"dominance", by_state(states, w.dominance)},
-                       {"members", w.members},
-                       {"member_weight", w.member_weight},
-                       {"initialisations", w.initialisations},
-                       {"min_coverage", kDominanceMinCoverage},
-                       {"transitions", transition_json(states, w.transition, w.transition_counts)}});
+  for (std::size_t i = 0; i < s.windows.size(); ++i) {
+    const WindowSummary& w = s.windows[i];
+    const CalibratedWindow* c = cal ? &cal->windows[i] : nullptr;
+    json entry = {{"first_lead_days", w.first},
+                  {"last_lead_days", w.last},
+                  {"from", to_string(add_days(issue, w.first))},
+                  {"to", to_string(add_days(issue, w.last))},
+                  {"expected_days", by_state(states, c ? c->expected_days : w.expected_days)},
+                  {"dominance", by_state(states, c ? c->dominance : w.dominance)},
+                  {"members", w.members},
+                  {"member_weight", w.member_weight},
+                  {"initialisations", w.initialisations},
+                  {"min_coverage", kDominanceMinCoverage},
+                  {"transitions", transition_json(states, w.transition, w.transition_counts)}};
+    if (c) {
+      entry["raw_expected_days"] = by_state(states, w.expected_days);
+      entry["raw_dominance"] = by_state(states, w.dominance);
+      entry["calibrated_expected_days"] = entry["expected_days"];
+      entry["calibrated_dominance"] = entry["dominance"];
+      entry["calibration_coefficient"] = c->coefficient;
+      entry["climatological_dominance"] = by_state(states, c->climatology.dominance);
+      entry["climatological_expected_days"] = by_state(states, c->climatology.expected_days);
+      entry["climatology_month"] = c->climatology.whole_season ? json(nullptr) : json(c->month);
+    }
+    windows.push_back(entry);
+  }
   return windows;
+}
+
+// Which probabilities the headline keys hold, and the calibration behind them.
+json calibration_json(const std::optional<CalibratedGuidance>& cal, const std::vector<std::string>& states) {
+  if (!cal) return {{"applied", false}, {"headline", "raw"}};
+  const Calibration& c = cal->calibration;
+  json skill = json::array();
+  for (const auto& s : c.scores)
+    skill.push_back({{"first_lead_days", s.first}, {"last_lead_days", s.last}, {"cases", s.cases},
+                     {"skill_raw", number_or_null(s.skill_raw)}, {"skill_calibrated", number_or_null(s.skill_calibrated)},
+                     {"reliability_raw", number_or_null(s.reliability_raw)},
+                     {"reliability_calibrated", number_or_null(s.reliability_calibrated)}});
+  json j = {{"applied", true},
+            {"headline", "calibrated"},
+            {"file", c.path},
+            {"sha256", c.sha256},
+            {"format_version", c.format_version},
+            {"method", calibration_method_name(c.method)},
+            {"regime_model_file", c.model_file},
+            {"reforecast_years", c.years},
+            {"reforecast_ensemble_members", c.ensemble_members},
+            {"cross_validated_skill", skill},
+            {"states", states}};
+  if (!cal->ensemble_note.empty()) j["note"] = cal->ensemble_note;
+  return j;
 }
 
 // The chance of lasting 3, 5, 7 days: the ensemble's for the spell under way
@@ -175,8 +224,9 @@ json guidance_document(const RegimeModel& model, const ClassifyConfig& cfg, cons
   g["states"] = states;
   g["ensemble"] = ensemble_json(e, cfg);
   g["bias_correction"] = bias_correction_json(parts.climate, cfg);
-  g["daily"] = daily_json(parts.statistics, e, states);
-  g["windows"] = windows_json(parts.statistics, e.issue, states);
+  g["calibration"] = calibration_json(parts.calibrated, states);
+  g["daily"] = daily_json(parts.statistics, e, states, parts.calibrated);
+  g["windows"] = windows_json(parts.statistics, e.issue, states, parts.calibrated);
   g["persistence"] = persistence_json(parts, e.issue, states);
   g["transitions"] = {
       {"climatological",

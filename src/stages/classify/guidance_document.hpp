@@ -9,6 +9,7 @@
 #include <optional>
 
 #include "isohypse/stages/classify.hpp"
+#include "stages/classify/calibrated_guidance.hpp"
 #include "stages/classify/lagged_ensemble.hpp"
 #include "stages/classify/member_labels.hpp"
 #include "stages/classify/model_climate.hpp"
@@ -26,6 +27,7 @@ struct GuidanceParts {
   const WindowStatistics& statistics;
   const std::optional<ObservedRegime>& observed;
   const PersistenceClimatology& persistence;  // the climatological chances of lasting
+  const std::optional<CalibratedGuidance>& calibrated;  // with --calibration
 };
 
 // provenance.created is the time of the call (UTC). Throws InternalError

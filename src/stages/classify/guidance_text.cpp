@@ -20,6 +20,14 @@ std::string ensemble_lines(const json& g) {
     << " initialisations (weights " << g.at("ensemble").at("weights").get<std::string>() << ")\n";
   o << (g.at("bias_correction").at("applied").get<bool>() ? "Model drift removed with reforecasts.\n"
                                                            : "No reforecasts: model drift NOT removed.\n");
+  if (g.contains("calibration") && g.at("calibration").value("applied", false)) {
+    const json& c = g.at("calibration");
+    o << "Probabilities calibrated (" << c.at("method").get<std::string>() << ", fitted on reforecasts of "
+      << c.at("reforecast_years").size() << " years; raw ones beside them in the JSON and *_raw.csv).\n";
+    if (c.contains("note")) o << "Note: " << c.at("note").get<std::string>() << ".\n";
+  } else {
+    o << "Probabilities raw (no --calibration): weighted member fractions, often over-confident at long leads.\n";
+  }
   const json& obs = g.at("persistence").at("observed");
   if (!obs.is_null()) {
     const int age = obs.at("age_days").get<int>();
