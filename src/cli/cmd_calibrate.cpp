@@ -9,6 +9,7 @@
 #include "cli/options.hpp"
 #include "isohypse/io/calibration_file.hpp"
 #include "isohypse/io/regime_model_file.hpp"
+#include "isohypse/base/atomic_file.hpp"
 #include "isohypse/base/stopwatch.hpp"
 #include "isohypse/stages/calibrate.hpp"
 
@@ -17,7 +18,7 @@ namespace isohypse::cli {
 namespace {
 
 struct Outputs {
-  std::string model, out, method = "blend";
+  std::string model, out, cases, method = "blend";
   bool quiet = false, timings = false;
 };
 
@@ -71,13 +72,18 @@ void run_calibrate(CalibrateConfig cfg, const Outputs& o) {
   const double model_s = clock.lap();
   const bool tty = ::isatty(STDERR_FILENO) && !o.quiet;
   CalibrateTimings t;
-  const Calibration c = calibrate_reforecasts(model, cfg, terminal_progress(tty), &t);
+  std::string cases;
+  const Calibration c = calibrate_reforecasts(model, cfg, terminal_progress(tty), &t, o.cases.empty() ? nullptr : &cases);
   if (tty) std::cerr << "\r" << std::string(60, ' ') << "\r";
   clock.lap();
   write_calibration(c, o.out);
+  if (!o.cases.empty()) write_file_atomically(o.cases, cases);
   const double write_s = clock.lap();
   if (o.timings) print_timings(t, model_s, write_s);
-  if (!o.quiet) std::cout << calibration_text(c) << "calibration written to " << o.out << "\n";
+  if (!o.quiet) {
+    std::cout << calibration_text(c) << "calibration written to " << o.out << "\n";
+    if (!o.cases.empty()) std::cout << "cases (raw, cross-validated calibrated, climatology) written to " << o.cases << "\n";
+  }
 }
 
 }  // namespace
@@ -89,6 +95,7 @@ void add_calibrate(CLI::App& app) {
       "calibrate", "Fit a calibration of the regime probabilities on reforecasts, cross-validated by year");
   sub->add_option("--model", outputs->model, "Regime model file written by derive")->required();
   sub->add_option("--out", outputs->out, "Calibration file to write (NetCDF-4)")->required();
+  sub->add_option("--cases", outputs->cases, "Also write every case (raw, cross-validated calibrated, climatology) as CSV");
   add_config_options(sub, *cfg, *outputs);
   sub->add_flag("--quiet", outputs->quiet, "Print nothing but errors");
   sub->add_flag("--timings", outputs->timings, "Print where the time went (to standard error)");

@@ -5,7 +5,9 @@
 #include <iostream>
 
 #include "cli/commands.hpp"
+#include "isohypse/io/calibration_file.hpp"
 #include "isohypse/io/regime_model_file.hpp"
+#include "isohypse/stages/calibrate.hpp"
 #include "isohypse/io/dataset.hpp"
 #include "isohypse/stages/derive.hpp"
 #include "isohypse/base/error.hpp"
@@ -24,7 +26,7 @@ void add_inspect(CLI::App& app) {
   };
   auto args = std::make_shared<Args>();
   CLI::App* sub = app.add_subcommand(
-      "inspect", "Describe height files (variables, grid, levels, time, packing, gaps) or a regime model");
+      "inspect", "Describe height files (variables, grid, levels, time, packing, gaps), a regime model or a calibration");
   sub->add_option("files", args->files, "Files or quoted globs (e.g. 'data/hgt500_*.nc')")->required();
   sub->add_option("--variable", args->variable, "Height variable to describe (default: found automatically)");
   sub->add_option("--level", args->level, "Pressure level in hPa")->capture_default_str();
@@ -49,6 +51,26 @@ void add_inspect(CLI::App& app) {
                       << summary_text(m) << "\n";
         } catch (const Error& ex) {
           j = {{"path", p}, {"kind", "regime model"}, {"error", ex.what()}, {"error_kind", "data"}};
+          ++failures;
+          last_failure = j;
+          if (!args->json && paths.size() > 1) std::cout << p << ": " << ex.what() << "\n\n";
+        }
+        if (args->json) all.push_back(j);
+        continue;
+      }
+      if (is_calibration_file(p)) {
+        nlohmann::json j;
+        try {
+          const Calibration c = read_calibration(p);
+          j = calibration_summary(c);
+          if (!args->json)
+            std::cout << p << ": isohypse calibration, format version " << c.format_version << ", SHA-256 "
+                      << c.sha256 << "\n  for the regime model " << c.model_file << " (SHA-256 " << c.model_sha256
+                      << ")\n  forecast system: " << c.forecast_grid << ", " << c.calendar << " calendar; fitted "
+                      << c.created << " on " << c.observed << "\n"
+                      << calibration_text(c) << "\n";
+        } catch (const Error& ex) {
+          j = {{"path", p}, {"kind", "calibration"}, {"error", ex.what()}, {"error_kind", "data"}};
           ++failures;
           last_failure = j;
           if (!args->json && paths.size() > 1) std::cout << p << ": " << ex.what() << "\n\n";

@@ -12,6 +12,7 @@
 #pragma once
 
 #include <functional>
+#include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
 
@@ -63,11 +64,21 @@ using CalibrateProgress = std::function<void(const std::string& stage, int done,
 // message says how many are needed), when the observed sequence does not
 // cover the reforecasts' valid dates in season, or the reforecasts' grid
 // does not cover the model's domain; DataError for bad data.
+// cases_csv, if given, receives every case as CSV (issue_date, valid_date,
+// lead_days, season_year, members, observed, then raw_STATE,
+// calibrated_STATE (cross-validated: fitted without the case's season year)
+// and climatology_STATE for each state), for checking the fit outside.
 Calibration calibrate_reforecasts(const RegimeModel& model, const CalibrateConfig& config,
-                                  const CalibrateProgress& progress = {}, CalibrateTimings* timings = nullptr);
+                                  const CalibrateProgress& progress = {}, CalibrateTimings* timings = nullptr,
+                                  std::string* cases_csv = nullptr);
 
 // The terminal summary: the cross-validated scores by window, raw against
 // calibrated, and the coefficients.
 std::string calibration_text(const Calibration& c);
+
+// What `isohypse inspect` says of a calibration file: its method, identity
+// (regime model, forecast grid, calendar, members, reforecast years and
+// files), coefficients by lead and cross-validated scores by window.
+nlohmann::json calibration_summary(const Calibration& c);
 
 }  // namespace isohypse

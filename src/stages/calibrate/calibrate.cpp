@@ -49,6 +49,23 @@ void fill_identity(const RegimeModel& model, const CalibrateConfig& cfg, const R
   c.tool_version = ISOHYPSE_VERSION;
 }
 
+std::string cases_table(const CalibrationCases& cs, const arma::mat& cross, const std::vector<std::string>& states) {
+  std::ostringstream o;
+  o.precision(17);
+  o << "issue_date,valid_date,lead_days,season_year,members,observed";
+  for (const char* what : {"raw_", "calibrated_", "climatology_"})
+    for (const auto& s : states) o << "," << what << s;
+  o << "\n";
+  for (std::size_t i = 0; i < cs.lead.size(); ++i) {
+    o << to_string(cs.issue[i]) << "," << to_string(add_days(cs.issue[i], cs.lead[i])) << "," << cs.lead[i] << ","
+      << cs.year[i] << "," << cs.members(i) << "," << states.at(static_cast<std::size_t>(cs.observed[i]));
+    for (const arma::mat* m : {&cs.p, &cross, &cs.c})
+      for (arma::uword k = 0; k < m->n_cols; ++k) o << "," << (*m)(i, k);
+    o << "\n";
+  }
+  return o.str();
+}
+
 }  // namespace
 
 void CalibrateConfig::validate() const {
@@ -75,7 +92,8 @@ void CalibrateConfig::validate() const {
 }
 
 Calibration calibrate_reforecasts(const RegimeModel& model, const CalibrateConfig& cfg,
-                                  const CalibrateProgress& progress, CalibrateTimings* timings) {
+                                  const CalibrateProgress& progress, CalibrateTimings* timings,
+                                  std::string* cases_csv) {
   cfg.validate();
   const detail::ScopedBlasThreads one_blas_thread(1);
   const CalibrateProgress report = progress ? progress : [](const std::string&, int, int) {};
@@ -97,10 +115,40 @@ Calibration calibrate_reforecasts(const RegimeModel& model, const CalibrateConfi
   c.coefficient_smoothing_days = cfg.coefficient_smoothing_days;
   c.penalty_c = cfg.penalty_c;
   fill_identity(model, cfg, set, cases, observed, c);
-  fit_calibration(cases, set.years, cfg.windows, c, report);
+  const arma::mat cross = fit_calibration(cases, set.years, cfg.windows, c, report);
+  if (cases_csv) *cases_csv = cases_table(cases, cross, c.states);
   time.fit_s = clock.lap();
   time.total_s = clock.total();
   return c;
+}
+
+nlohmann::json calibration_summary(const Calibration& c) {
+  nlohmann::json scores = nlohmann::json::array();
+  for (const auto& s : c.scores)
+    scores.push_back({{"first_lead_days", s.first}, {"last_lead_days", s.last}, {"cases", s.cases},
+                      {"skill_raw", number_or_null(s.skill_raw)}, {"skill_calibrated", number_or_null(s.skill_calibrated)},
+                      {"reliability_raw", number_or_null(s.reliability_raw)},
+                      {"reliability_calibrated", number_or_null(s.reliability_calibrated)},
+                      {"hit_rate_raw", number_or_null(s.hit_rate_raw)},
+                      {"hit_rate_calibrated", number_or_null(s.hit_rate_calibrated)}});
+  nlohmann::json blend = nlohmann::json::array();
+  for (double a : c.blend) blend.push_back(number_or_null(a));
+  return {{"kind", "calibration"},
+          {"path", c.path},
+          {"sha256", c.sha256},
+          {"format_version", c.format_version},
+          {"method", calibration_method_name(c.method)},
+          {"states", c.states},
+          {"regime_model", {{"file", c.model_file}, {"sha256", c.model_sha256}}},
+          {"forecast_system",
+           {{"grid", c.forecast_grid}, {"calendar", c.calendar}, {"members_per_initialisation", {c.members_min, c.members_max}},
+            {"lagged_ensemble_members", c.ensemble_members}, {"reforecast_years", c.years},
+            {"reforecast_files", c.files.size()}, {"lag_days", c.lag_days}, {"weights", c.weights}}},
+          {"observed", c.observed},
+          {"blend_coefficient_by_lead", blend},
+          {"cross_validated_scores", scores},
+          {"created", c.created},
+          {"tool_version", c.tool_version}};
 }
 
 std::string calibration_text(const Calibration& c) {

@@ -88,6 +88,7 @@ CalibrationCases calibration_cases(const RegimeModel& model, const ReforecastSet
       out.observed.push_back(it->second);
       out.lead.push_back(day.offset);
       out.year.push_back(is.season_year);
+      out.issue.push_back(is.issue);
       out.n_leads = std::max(out.n_leads, day.offset + 1);
     }
   }

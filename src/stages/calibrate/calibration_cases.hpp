@@ -21,6 +21,7 @@ struct CalibrationCases {
   arma::mat c;              // cases x states: climatological frequencies of the valid month
   arma::vec members;        // members behind each case's p
   std::vector<int> observed, lead, year;
+  std::vector<Date> issue;  // real calendar
   int n_leads = 0;          // leads 0..n_leads-1 occur
   std::size_t unobserved = 0;  // in-season case days left out: no observed state (past the record's end)
 };

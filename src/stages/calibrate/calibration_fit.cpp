@@ -148,7 +148,7 @@ arma::mat apply_calibration(const Calibration& c, const CalibrationCases& cs, co
   return out;
 }
 
-void fit_calibration(const CalibrationCases& cs, const std::vector<int>& years, const std::vector<LeadWindow>& windows,
+arma::mat fit_calibration(const CalibrationCases& cs, const std::vector<int>& years, const std::vector<LeadWindow>& windows,
                      Calibration& c, const CalibrateProgress& report) {
   c.windows = windows;
   arma::mat cross(cs.p.n_rows, cs.p.n_cols);
@@ -165,6 +165,7 @@ void fit_calibration(const CalibrationCases& cs, const std::vector<int>& years, 
   fit(cs, arma::ones<arma::uvec>(cs.year.size()), c);
   c.scores.clear();
   for (const auto& w : windows) c.scores.push_back(score_window(cs, cross, w));
+  return cross;
 }
 
 }  // namespace isohypse

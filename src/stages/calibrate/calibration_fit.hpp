@@ -14,8 +14,9 @@ namespace isohypse {
 
 // Fills c.blend, c.blend_unsmoothed, c.cases, c.windows, c.logistic and
 // c.scores from the cases (c.method, c.coefficient_smoothing_days and
-// c.penalty_c set by the caller). report("fit", year, years).
-void fit_calibration(const CalibrationCases& cases, const std::vector<int>& years,
+// c.penalty_c set by the caller). report("fit", year, years). Returns the
+// cross-validated calibrated probabilities of every case (cases x states).
+arma::mat fit_calibration(const CalibrationCases& cases, const std::vector<int>& years,
                      const std::vector<LeadWindow>& windows, Calibration& c, const CalibrateProgress& report);
 
 // The calibrated probabilities of the cases `rows` with the fitted c
