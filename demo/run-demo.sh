@@ -9,7 +9,7 @@ DATA=demo/data
 OUT=${ISOHYPSE_DEMO_OUT:-out}
 mkdir -p "$OUT"
 
-if [[ ! -f "$DATA/truth/truth.json" ]]; then
+if [[ ! -f "$DATA/truth/truth.json" || ! -d "$DATA/reforecasts_noskill" ]]; then
   echo "== generating the synthetic demo world in $DATA/ (invented data, no real place or organisation)"
   build/isohypse-demo-world --out "$DATA" --size full
 fi
@@ -23,10 +23,20 @@ echo "== isohypse derive: the regimes of 30 cold seasons"
 "$BIN" derive --config config/derive-example.json --out "$OUT/regimes.nc" --summary "$OUT/regimes-summary.json"
 
 echo
-echo "== isohypse classify: this morning's guidance (issue date 2026-01-15, the latest 4 initialisations)"
+echo "== isohypse calibrate: how far to trust the raw probabilities, learnt from 20 winters of reforecasts"
+echo "   (cross-validated: each season year scored by a fit made without it)"
+"$BIN" calibrate --model "$OUT/regimes.nc" --reforecasts "$DATA/reforecasts/*.nc" --lag 4 --weights exp:3 \
+  --out "$OUT/calibration.nc"
+echo
+echo "== the same for the demo's no-skill system (its members leave the truth at once): calibrated = climatology"
+"$BIN" calibrate --model "$OUT/regimes.nc" --reforecasts "$DATA/reforecasts_noskill/*.nc" --lag 4 --weights exp:3 \
+  --out "$OUT/calibration-noskill.nc" --cases "$OUT/calibration-noskill-cases.csv"
+
+echo
+echo "== isohypse classify: this morning's guidance (issue date 2026-01-15, the latest 4 initialisations, calibrated)"
 "$BIN" classify --model "$OUT/regimes.nc" --forecasts "$DATA/forecasts/*.nc" --reforecasts "$DATA/reforecasts/*.nc" \
   --analysis "$DATA/analysis/*.nc" --lag 4 --weights exp:3 --issue-date 2026-01-15 \
-  --csv "$OUT/csv" --out "$OUT/guidance-2026-01-15.json"
+  --calibration "$OUT/calibration.nc" --csv "$OUT/csv" --out "$OUT/guidance-2026-01-15.json"
 
 echo
 echo "== a season of guidance: one issue a day, 2025-12-04 to 2026-02-26, into $OUT/archive/"
@@ -41,7 +51,8 @@ season_days() {
 }
 issue() {
   "$BIN" classify --quiet --threads 1 --model "$OUT/regimes.nc" --forecasts "$DATA/forecasts/*.nc" \
-    --reforecasts "$DATA/reforecasts/*.nc" --lag 4 --weights exp:3 --issue-date "$1" --out "$OUT/archive/$1.json"
+    --reforecasts "$DATA/reforecasts/*.nc" --calibration "$OUT/calibration.nc" --lag 4 --weights exp:3 \
+    --issue-date "$1" --out "$OUT/archive/$1.json"
 }
 export -f issue
 export BIN OUT DATA
@@ -57,7 +68,8 @@ echo "== done. Outputs:"
 echo "   $OUT/regimes.nc                 the regime model (NetCDF-4; open with ncdump -h, h5py or xarray)"
 echo "   $OUT/regimes-summary.json       the summary table as JSON"
 echo "   $OUT/guidance-2026-01-15.json   the guidance of 2026-01-15 (schema: config/guidance.schema.json)"
-echo "   $OUT/csv/daily.csv, windows.csv for impact models"
+echo "   $OUT/calibration.nc             the calibration (isohypse inspect describes it)"
+echo "   $OUT/csv/daily.csv, windows.csv for impact models (calibrated; daily_raw.csv, windows_raw.csv raw)"
 echo "   $OUT/archive/                   a season of daily guidance"
 echo "   $OUT/verification.json, .html   the post-mortem (open the .html in a browser)"
 echo "

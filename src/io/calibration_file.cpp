@@ -37,7 +37,9 @@ std::vector<std::pair<std::string, double CalibrationScores::*>> score_members()
           {"resolution_raw", &CalibrationScores::resolution_raw},
           {"resolution_calibrated", &CalibrationScores::resolution_calibrated},
           {"hit_rate_raw", &CalibrationScores::hit_rate_raw},
-          {"hit_rate_calibrated", &CalibrationScores::hit_rate_calibrated}};
+          {"hit_rate_calibrated", &CalibrationScores::hit_rate_calibrated},
+          {"departure_raw", &CalibrationScores::departure_raw},
+          {"departure_calibrated", &CalibrationScores::departure_calibrated}};
 }
 
 std::string score_long_name(const std::string& name) {
@@ -45,6 +47,8 @@ std::string score_long_name(const std::string& name) {
   if (name.rfind("skill", 0) == 0) return "multi-category Brier skill against the monthly climatology, cross-validated";
   if (name.rfind("reliability", 0) == 0) return "binned reliability term (10 bins) summed over the states, cross-validated";
   if (name.rfind("resolution", 0) == 0) return "binned resolution term (10 bins) summed over the states, cross-validated";
+  if (name.rfind("departure", 0) == 0)
+    return "largest |probability - climatological frequency| of any state and case, cross-validated";
   return "share of cases whose most likely state was observed, cross-validated";
 }
 

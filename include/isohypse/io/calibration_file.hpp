@@ -39,6 +39,10 @@ struct CalibrationScores {
   double reliability_raw = 0, reliability_calibrated = 0;
   double resolution_raw = 0, resolution_calibrated = 0;
   double hit_rate_raw = 0, hit_rate_calibrated = 0;  // the most likely state observed
+  // The largest |p - c| of any state and case: how far from the
+  // climatological frequencies the probabilities go (near 0 calibrated
+  // where the forecast has no skill).
+  double departure_raw = 0, departure_calibrated = 0;
 };
 
 struct Calibration {

@@ -130,7 +130,9 @@ nlohmann::json calibration_summary(const Calibration& c) {
                       {"reliability_raw", number_or_null(s.reliability_raw)},
                       {"reliability_calibrated", number_or_null(s.reliability_calibrated)},
                       {"hit_rate_raw", number_or_null(s.hit_rate_raw)},
-                      {"hit_rate_calibrated", number_or_null(s.hit_rate_calibrated)}});
+                      {"hit_rate_calibrated", number_or_null(s.hit_rate_calibrated)},
+                      {"departure_raw", number_or_null(s.departure_raw)},
+                      {"departure_calibrated", number_or_null(s.departure_calibrated)}});
   nlohmann::json blend = nlohmann::json::array();
   for (double a : c.blend) blend.push_back(number_or_null(a));
   return {{"kind", "calibration"},
@@ -164,21 +166,22 @@ std::string calibration_text(const Calibration& c) {
     << ".\n"
     << "Cross-validated, one season year left out at a time (the drift and the fit), multi-category Brier skill "
        "against the record's monthly frequencies:\n";
-  std::snprintf(line, sizeof line, "  %-7s %6s  %9s %9s  %9s %9s  %8s %8s  %7s\n", "leads", "cases", "skill raw",
-                "calibr.", "REL raw", "calibr.", "hit raw", "calibr.", "a(L)");
+  std::snprintf(line, sizeof line, "  %-7s %6s  %9s %9s  %9s %9s  %8s %8s  %7s  %9s %7s\n", "leads", "cases",
+                "skill raw", "calibr.", "REL raw", "calibr.", "hit raw", "calibr.", "a(L)", "|p-c| raw", "calibr.");
   o << line;
   for (const auto& s : c.scores) {
     double a = 0;
     int n = 0;
     for (int l = s.first; l <= s.last && l < c.n_leads(); ++l) a += c.blend(static_cast<arma::uword>(l)), ++n;
-    std::snprintf(line, sizeof line, "  %-7s %6zu  %9.3f %9.3f  %9.4f %9.4f  %8.3f %8.3f  %7.2f\n",
+    std::snprintf(line, sizeof line, "  %-7s %6zu  %9.3f %9.3f  %9.4f %9.4f  %8.3f %8.3f  %7.2f  %9.2f %7.3f\n",
                   (std::to_string(s.first) + "-" + std::to_string(s.last)).c_str(), s.cases, s.skill_raw,
                   s.skill_calibrated, s.reliability_raw, s.reliability_calibrated, s.hit_rate_raw,
-                  s.hit_rate_calibrated, n ? a / n : arma::datum::nan);
+                  s.hit_rate_calibrated, n ? a / n : arma::datum::nan, s.departure_raw, s.departure_calibrated);
     o << line;
   }
   o << "REL: binned reliability (10 bins) summed over the states; a(L): the blend's mean coefficient in the window "
-       "(1 keeps the raw probabilities, 0 is climatology).\n";
+       "(1 keeps the raw probabilities, 0 is climatology); |p-c|: the largest distance of any probability from the "
+       "climatological frequency.\n";
   return o.str();
 }
 

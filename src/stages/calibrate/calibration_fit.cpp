@@ -99,7 +99,7 @@ CalibrationScores score_window(const CalibrationCases& cs, const arma::mat& cali
     const double nan = arma::datum::nan;
     s.brier_raw = s.brier_calibrated = s.brier_climatology = s.skill_raw = s.skill_calibrated = nan;
     s.reliability_raw = s.reliability_calibrated = s.resolution_raw = s.resolution_calibrated = nan;
-    s.hit_rate_raw = s.hit_rate_calibrated = nan;
+    s.hit_rate_raw = s.hit_rate_calibrated = s.departure_raw = s.departure_calibrated = nan;
     return s;
   }
   const std::vector<int> o = pick(cs.observed, rows);
@@ -114,6 +114,8 @@ CalibrationScores score_window(const CalibrationCases& cs, const arma::mat& cali
     hit_raw += raw.row(i).index_max() == arma::uword(o[i]);
     hit_cal += cal.row(i).index_max() == arma::uword(o[i]);
   }
+  s.departure_raw = arma::abs(raw - clim).max();
+  s.departure_calibrated = arma::abs(cal - clim).max();
   s.hit_rate_raw = hit_raw / rows.n_elem;
   s.hit_rate_calibrated = hit_cal / rows.n_elem;
   for (arma::uword k = 0; k < raw.n_cols; ++k) {
