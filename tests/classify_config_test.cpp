@@ -112,7 +112,9 @@ TEST_CASE("classify steps: results that do not fit together are an internal erro
     statistics.n_states = 3;
     const std::optional<ObservedRegime> observed;
     const PersistenceClimatology persistence;
-    CHECK_THROWS_AS(guidance_document(model, cfg, {ensemble, climate, labels, statistics, observed, persistence}),
-                    InternalError);
+    const std::optional<CalibratedGuidance> calibrated;
+    CHECK_THROWS_AS(
+        guidance_document(model, cfg, {ensemble, climate, labels, statistics, observed, persistence, calibrated}),
+        InternalError);
   }
 }

@@ -370,6 +370,18 @@ std::string out_of_season_note(const json& rep) {
   return o.str();
 }
 
+// Which probabilities the headline scores use: each issue's headline, and
+// how many issues are calibrated (reports before calibration: raw ones).
+std::string headline_note(const json& rep) {
+  if (!rep.contains("raw_versus_calibrated"))
+    return "<p>The scores use the guidance's raw probabilities: no issue of the archive is calibrated.</p>";
+  const json& n = rep["raw_versus_calibrated"]["issues"];
+  return "<p>The scores use each issue's headline probabilities: the calibrated ones for the " +
+         std::to_string(n["calibrated"].get<int>()) + " calibrated issues, the raw ones for the " +
+         std::to_string(n["raw"].get<int>()) + " issues without calibration. The table below compares the raw and "
+         "the calibrated probabilities of the calibrated issues over the same cases.</p>";
+}
+
 // The title, the caution and what was verified against what.
 std::string summary_section(const json& rep) {
   std::ostringstream o;
@@ -380,7 +392,7 @@ std::string summary_section(const json& rep) {
     << " forecast-observation pairs; observations from " << esc(rep["observations"]["source"].get<std::string>())
     << ". Intervals: " << fmt(json(100 * rep["bootstrap"]["confidence"].get<double>()), "%.0f")
     << "% " << esc(block_summary(rep)) << ".</p>";
-  o << out_of_season_note(rep);
+  o << out_of_season_note(rep) << headline_note(rep);
   return o.str();
 }
 
@@ -404,6 +416,42 @@ std::string window_scores_table(const json& rep) {
     o << "<tr><td>" << w["first_lead_days"] << "&ndash;" << w["last_lead_days"] << "</td><td>" << w["cases"]
       << "</td><td>" << interval_text(w["hit_rate"]) << "</td><td>" << interval_text(w["heidke"]) << "</td><td>"
       << interval_text(w["multicategory_brier_skill"]) << "</td></tr>";
+  o << "</table>";
+  return o.str();
+}
+
+// The calibrated issues' raw probabilities against their calibrated ones, per
+// lead window and per window product (reports without calibration: nothing).
+std::string raw_versus_calibrated_table(const json& rep) {
+  if (!rep.contains("raw_versus_calibrated")) return {};
+  const json& rc = rep["raw_versus_calibrated"];
+  std::ostringstream o;
+  o << "<h2>Raw against calibrated</h2><table><tr><th rowspan=\"2\">lead days</th><th rowspan=\"2\">cases</th>"
+       "<th colspan=\"2\">multi-category Brier skill vs climatology</th><th rowspan=\"2\">calibrated &minus; raw</th>"
+       "<th colspan=\"2\">reliability (summed over the states)</th><th colspan=\"2\">hit rate of the most likely"
+       "</th></tr><tr><th>raw</th><th>calibrated</th><th>raw</th><th>calibrated</th><th>raw</th><th>calibrated</th>"
+       "</tr>";
+  for (const auto& w : rc["windows"])
+    o << "<tr><td>" << w["first_lead_days"] << "&ndash;" << w["last_lead_days"] << "</td><td>" << w["cases"]
+      << "</td><td>" << interval_text(w["raw"]["multicategory_brier_skill"]) << "</td><td>"
+      << interval_text(w["calibrated"]["multicategory_brier_skill"]) << "</td><td>"
+      << interval_text(w["skill_difference"]) << "</td><td>" << fmt(w["raw"]["reliability"], "%.4f") << "</td><td>"
+      << fmt(w["calibrated"]["reliability"], "%.4f") << "</td><td>" << fmt(w["raw"]["hit_rate"]) << "</td><td>"
+      << fmt(w["calibrated"]["hit_rate"]) << "</td></tr>";
+  o << "</table>";
+  if (rc["window_products"].empty()) return o.str();
+  o << "<table><tr><th rowspan=\"2\">window products, lead days</th><th rowspan=\"2\">windows</th>"
+       "<th colspan=\"2\">dominance: multi-category Brier skill</th><th colspan=\"2\">dominance: reliability</th>"
+       "<th colspan=\"2\">expected days: skill of the absolute error</th></tr><tr><th>raw</th><th>calibrated</th>"
+       "<th>raw</th><th>calibrated</th><th>raw</th><th>calibrated</th></tr>";
+  for (const auto& g : rc["window_products"])
+    o << "<tr><td>" << g["first_lead_days"] << "&ndash;" << g["last_lead_days"] << "</td><td>" << g["cases"]
+      << "</td><td>" << interval_text(g["raw"]["dominance_multicategory_brier_skill"]) << "</td><td>"
+      << interval_text(g["calibrated"]["dominance_multicategory_brier_skill"]) << "</td><td>"
+      << fmt(g["raw"]["dominance_reliability"], "%.4f") << "</td><td>"
+      << fmt(g["calibrated"]["dominance_reliability"], "%.4f") << "</td><td>"
+      << interval_text(g["raw"]["expected_days_skill"]) << "</td><td>"
+      << interval_text(g["calibrated"]["expected_days_skill"]) << "</td></tr>";
   o << "</table>";
   return o.str();
 }
@@ -623,8 +671,8 @@ std::string window_products_text(const json& rep) {
 std::string verification_html(const json& rep) {
   const States states = rep["states"].get<States>();
   return page_head(rep) + summary_section(rep) + regimes_table(rep, states) + window_scores_table(rep) +
-         window_products_section(rep, states) + chart_sections(rep, states) + episodes_table(rep, states) +
-         frequency_bias_table(rep, states) + page_footer(rep);
+         raw_versus_calibrated_table(rep) + window_products_section(rep, states) + chart_sections(rep, states) +
+         episodes_table(rep, states) + frequency_bias_table(rep, states) + page_footer(rep);
 }
 
 // Per window and state, the share of the Brier score that is reliability
@@ -657,6 +705,35 @@ std::string reliability_share_text(const json& rep, const std::vector<std::strin
   return o.str();
 }
 
+// The calibrated issues' raw against calibrated skill, one line per window
+// (reports without calibration: nothing).
+std::string raw_versus_calibrated_text(const json& rep) {
+  if (!rep.contains("raw_versus_calibrated")) return {};
+  const json& rc = rep["raw_versus_calibrated"];
+  std::ostringstream o;
+  o << "\nraw against calibrated (" << rc["issues"]["calibrated"] << " calibrated issues, " << rc["issues"]["raw"]
+    << " without; the scores above use each issue's headline)\n"
+       "lead days   cases  Brier skill raw  calibrated  reliability raw  calibrated  hit rate raw  calibrated\n";
+  char line[200];
+  auto e = [](const json& v) { return v.is_number() ? v.get<double>() : NAN; };
+  for (const auto& w : rc["windows"]) {
+    std::snprintf(line, sizeof line, "%3d-%-3d   %7d  %15.2f  %10.2f  %15.4f  %10.4f  %12.2f  %10.2f\n",
+                  w["first_lead_days"].get<int>(), w["last_lead_days"].get<int>(), w["cases"].get<int>(),
+                  e(w["raw"]["multicategory_brier_skill"]["estimate"]),
+                  e(w["calibrated"]["multicategory_brier_skill"]["estimate"]), e(w["raw"]["reliability"]),
+                  e(w["calibrated"]["reliability"]), e(w["raw"]["hit_rate"]), e(w["calibrated"]["hit_rate"]));
+    o << line;
+  }
+  for (const auto& g : rc["window_products"]) {
+    std::snprintf(line, sizeof line, "window %d-%d dominance Brier skill: raw %.2f, calibrated %.2f (%d windows)\n",
+                  g["first_lead_days"].get<int>(), g["last_lead_days"].get<int>(),
+                  e(g["raw"]["dominance_multicategory_brier_skill"]["estimate"]),
+                  e(g["calibrated"]["dominance_multicategory_brier_skill"]["estimate"]), g["cases"].get<int>());
+    o << line;
+  }
+  return o.str();
+}
+
 std::string verification_text(const json& rep) {
   std::ostringstream o;
   char line[200];
@@ -679,6 +756,7 @@ std::string verification_text(const json& rep) {
   o << "intervals (" << 100 * rep["bootstrap"]["confidence"].get<double>() << " %) in the report: " << block_summary(rep)
     << "\n";
   o << reliability_share_text(rep, rep["states"].get<std::vector<std::string>>());
+  o << raw_versus_calibrated_text(rep);
   o << window_products_text(rep);
   o << "\nepisodes of " << rep["episodes"]["min_days"] << "+ days: caught " << rep["episodes"]["caught"] << ", missed "
     << rep["episodes"]["missed"] << "; false alarms " << rep["episodes"]["false_alarms"];

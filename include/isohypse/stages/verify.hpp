@@ -3,7 +3,8 @@
 //   (files or the model's record) | build cases (issue date, lead,
 //   probabilities, observed) | score by lead | score by window, with
 //   intervals from moving blocks of consecutive issue dates | frequency bias by month | score the window
-//   products (dominance probability, expected days) | find episodes (caught, missed) | find false alarms |
+//   products (dominance probability, expected days) | raw against calibrated (the calibrated issues' raw and
+//   calibrated probabilities over the same cases) | find episodes (caught, missed) | find false alarms |
 //   report JSON [| HTML: render/report_page.hpp]
 // Scores follow Wilks (2011), Statistical Methods in the Atmospheric
 // Sciences, 3rd ed.; see scores.hpp for each formula's source.

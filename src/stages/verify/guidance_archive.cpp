@@ -76,22 +76,40 @@ int lead_value(const json& v, const std::string& file, const std::string& owner,
   return v.get<int>();
 }
 
+// The by-state probabilities under `key` of a daily entry; a null reads as 0.
+arma::vec daily_probabilities(const json& e, const std::string& key, const std::string& file,
+                              const std::string& owner, const std::vector<std::string>& states) {
+  const json& probabilities = member(e, key, file, owner);
+  if (!probabilities.is_object())
+    bad_guidance(file, owner + ": " + key + " is " + type_of(probabilities) + ", not an object");
+  arma::vec p(states.size());
+  const std::string what = key == "probabilities" ? "probability" : key;
+  for (std::size_t s = 0; s < states.size(); ++s) {
+    const json& x = member(probabilities, states[s], file, owner + " " + key);
+    if (!x.is_null() && !x.is_number())
+      bad_guidance(file, owner + ": " + what + " of '" + states[s] + "' is " + type_of(x) + ", not a number");
+    p(s) = x.is_null() ? 0.0 : x.get<double>();
+  }
+  return p;
+}
+
+// A key a calibrated issue must give beside its headline.
+void require_raw(const json& e, const std::string& key, const std::string& file, const std::string& owner) {
+  if (!e.contains(key)) bad_guidance(file, owner + " has no '" + key + "' (its calibration is applied)");
+}
+
 DailyGuidance parse_daily(const json& e, std::size_t index, const std::string& file,
-                          const std::vector<std::string>& states) {
+                          const std::vector<std::string>& states, bool calibrated) {
   const std::string owner = "daily[" + std::to_string(index) + "]";
   if (!e.is_object()) bad_guidance(file, owner + " is " + type_of(e) + ", not an object");
   DailyGuidance d;
   d.valid = date_value(member(e, "valid_date", file, owner), file, owner + ": valid_date");
   d.lead = lead_value(member(e, "lead_days", file, owner), file, owner);
-  const json& probabilities = member(e, "probabilities", file, owner);
-  if (!probabilities.is_object())
-    bad_guidance(file, owner + ": probabilities is " + type_of(probabilities) + ", not an object");
-  d.p.set_size(states.size());
-  for (std::size_t s = 0; s < states.size(); ++s) {
-    const json& x = member(probabilities, states[s], file, owner + " probabilities");
-    if (!x.is_null() && !x.is_number())
-      bad_guidance(file, owner + ": probability of '" + states[s] + "' is " + type_of(x) + ", not a number");
-    d.p(s) = x.is_null() ? 0.0 : x.get<double>();
+  d.p = daily_probabilities(e, "probabilities", file, owner, states);
+  if (calibrated) {
+    require_raw(e, "raw_probabilities", file, owner);
+    d.raw_p = daily_probabilities(e, "raw_probabilities", file, owner, states);
+    d.raw_most_likely = static_cast<int>(d.raw_p.index_max());  // the first of equal highest, as classify's
   }
   const json& most_likely = member(e, "most_likely", file, owner);
   auto it = most_likely.is_string() ? std::find(states.begin(), states.end(), most_likely.get<std::string>())
@@ -123,8 +141,29 @@ arma::vec by_state_values(const json& object, const std::string& key, bool proba
   return v;
 }
 
+// A window's dominance under `key`: empty when null or null for every state
+// (no member covers enough of the window); null for some states only is a broken file.
+arma::vec dominance_values(const json& e, const std::string& key, const std::string& file, const std::string& owner,
+                           const std::vector<std::string>& states) {
+  const json& dominance = member(e, key, file, owner);
+  if (dominance.is_null()) return {};
+  arma::vec v = by_state_values(dominance, key, true, file, owner, states);
+  auto is_null = [](double x) { return std::isnan(x); };
+  const auto nulls = static_cast<std::size_t>(std::count_if(v.begin(), v.end(), is_null));
+  if (nulls == states.size()) v.reset();
+  if (nulls > 0 && nulls < states.size())
+    bad_guidance(file, owner + ": " + key + " is null for some states and not for others");
+  return v;
+}
+
+arma::vec expected_days_values(const json& e, const std::string& key, const std::string& file,
+                               const std::string& owner, const std::vector<std::string>& states) {
+  arma::vec v = by_state_values(member(e, key, file, owner), key, false, file, owner, states);
+  return v.replace(arma::datum::nan, 0.0);
+}
+
 WindowGuidance parse_window(const json& e, std::size_t index, const std::string& file,
-                            const std::vector<std::string>& states) {
+                            const std::vector<std::string>& states, bool calibrated) {
   const std::string owner = "windows[" + std::to_string(index) + "]";
   if (!e.is_object()) bad_guidance(file, owner + " is " + type_of(e) + ", not an object");
   WindowGuidance w;
@@ -138,17 +177,14 @@ WindowGuidance parse_window(const json& e, std::size_t index, const std::string&
                            std::to_string(span) + " days, not the " + std::to_string(w.last_lead - w.first_lead + 1) +
                            " of lead days " + std::to_string(w.first_lead) + "-" + std::to_string(w.last_lead));
   w.members = lead_value(member(e, "members", file, owner), file, owner, "members");
-  const json& dominance = member(e, "dominance", file, owner);
-  if (!dominance.is_null()) w.dominance = by_state_values(dominance, "dominance", true, file, owner, states);
-  // All null: no member covers enough of the window. Some null: a broken file.
-  auto is_null = [](double x) { return std::isnan(x); };
-  const auto nulls = static_cast<std::size_t>(std::count_if(w.dominance.begin(), w.dominance.end(), is_null));
-  if (nulls == states.size()) w.dominance.reset();
-  if (nulls > 0 && nulls < states.size())
-    bad_guidance(file, owner + ": dominance is null for some states and not for others");
-  const json& expected_days = member(e, "expected_days", file, owner);
-  w.expected_days = by_state_values(expected_days, "expected_days", false, file, owner, states);
-  w.expected_days.replace(arma::datum::nan, 0.0);
+  w.dominance = dominance_values(e, "dominance", file, owner, states);
+  w.expected_days = expected_days_values(e, "expected_days", file, owner, states);
+  if (calibrated) {
+    require_raw(e, "raw_dominance", file, owner);
+    require_raw(e, "raw_expected_days", file, owner);
+    w.raw_dominance = dominance_values(e, "raw_dominance", file, owner, states);
+    w.raw_expected_days = expected_days_values(e, "raw_expected_days", file, owner, states);
+  }
   return w;
 }
 
@@ -173,20 +209,32 @@ int lag_span_value(const json& g, const std::string& file) {
   return inits.empty() ? 1 : oldest - newest + 1;
 }
 
+// "calibration.applied" of format version 4; false without a "calibration" object (older versions).
+bool calibration_applied(const json& g, const std::string& file) {
+  auto c = g.find("calibration");
+  if (c == g.end()) return false;
+  if (!c->is_object()) bad_guidance(file, "calibration is " + type_of(*c) + ", not an object");
+  const json& applied = member(*c, "applied", file, "calibration");
+  if (!applied.is_boolean()) bad_guidance(file, "calibration: applied is " + type_of(applied) + ", not a boolean");
+  return applied.get<bool>();
+}
+
 GuidanceIssue parse_issue(const json& g, const std::string& file, const std::vector<std::string>& states) {
   GuidanceIssue issue;
   issue.file = file;
   issue.issue = date_value(member(g, "issue_date", file, "guidance"), file, "issue_date");
+  issue.calibrated = calibration_applied(g, file);
   auto daily = g.find("daily");
   if (daily == g.end() || !daily->is_array()) bad_guidance(file, "guidance has no 'daily' list");
-  for (std::size_t i = 0; i < daily->size(); ++i) issue.daily.push_back(parse_daily((*daily)[i], i, file, states));
+  for (std::size_t i = 0; i < daily->size(); ++i)
+    issue.daily.push_back(parse_daily((*daily)[i], i, file, states, issue.calibrated));
   issue.lag_span_days = lag_span_value(g, file);
   auto windows = g.find("windows");
   if (windows != g.end() && !windows->is_array())
     bad_guidance(file, "windows is " + type_of(*windows) + ", not a list");
   if (windows != g.end())
     for (std::size_t i = 0; i < windows->size(); ++i)
-      issue.windows.push_back(parse_window((*windows)[i], i, file, states));
+      issue.windows.push_back(parse_window((*windows)[i], i, file, states, issue.calibrated));
   return issue;
 }
 

@@ -18,6 +18,11 @@ struct DailyGuidance {
   int lead = 0;         // lead in days ("lead_days")
   arma::vec p;          // probability of each state in the model's order; a null probability reads as 0
   int most_likely = 0;  // index of the most likely state in the model's order
+  // A calibrated issue's raw (uncalibrated) probabilities ("raw_probabilities",
+  // guidance format version 4), null read as 0, and the first state of the
+  // highest among them; empty and -1 for an issue without calibration.
+  arma::vec raw_p;
+  int raw_most_likely = -1;
 };
 
 // One lead window of one issue's guidance (the file's "windows" list).
@@ -33,6 +38,10 @@ struct WindowGuidance {
   // enough of the window): the window cannot be scored.
   arma::vec dominance;
   arma::vec expected_days;            // per state: sum of the daily probabilities, days (>= 0); null reads as 0
+  // A calibrated issue's raw products ("raw_dominance", "raw_expected_days"),
+  // read as dominance and expected_days; both empty for an issue without
+  // calibration, raw_dominance also when every state is null.
+  arma::vec raw_dominance, raw_expected_days;
 };
 
 // One issue: a guidance file.
@@ -47,6 +56,11 @@ struct GuidanceIssue {
   // In the file's order; empty when the file has no "windows" list (guidance
   // written by hand or by other tools: the window products are then not scored).
   std::vector<WindowGuidance> windows;
+  // "calibration": {"applied": true} (format version 4): the headline
+  // probabilities and products are the calibrated ones and the raw ones are
+  // read beside them. False for an issue without calibration or written
+  // before format version 4 (no "calibration" object).
+  bool calibrated = false;
 };
 
 // The archive verified: one issue per file, in the order the files were named
@@ -69,6 +83,11 @@ std::vector<std::string> guidance_files(const std::vector<std::string>& paths);
 // age_days is a string, not a whole number", "windows[2]: dominance of 'R3' is
 // 1.5, not a probability in 0..1", "windows[0]: from 2025-12-05 to 2025-12-08
 // spans 4 days, not the 3 of lead days 1-3"). A "windows" list is optional.
+// A calibrated issue ("calibration.applied" true) must give
+// raw_probabilities in every daily entry and raw_dominance and
+// raw_expected_days in every window ("daily[0] has no 'raw_probabilities'
+// (its calibration is applied)"); "calibration" that is not an object, or
+// whose "applied" is not a boolean, is a DataError too.
 GuidanceSet load_guidance(const RegimeModel& model, const std::vector<std::string>& states,
                           const std::vector<std::string>& paths);
 

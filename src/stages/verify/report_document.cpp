@@ -121,6 +121,7 @@ json report_document(const RegimeModel& model, const VerifyConfig& config, const
   rep["by_lead"] = found.by_lead;
   rep["windows"] = found.windows;
   rep["window_products"] = found.window_products;
+  if (!found.raw_versus_calibrated.is_null()) rep["raw_versus_calibrated"] = found.raw_versus_calibrated;
   rep["frequency_bias_by_month"] = found.by_month;
   rep["episodes"] = episodes_json(found, config);
   rep["sequence"] = sequence_json(climatology, guidance, cases);

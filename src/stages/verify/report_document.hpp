@@ -19,6 +19,7 @@ namespace isohypse::verification {
 struct Findings {
   nlohmann::json by_lead, windows, by_month;  // lead_scores.hpp, window_scores.hpp, month_bias.hpp
   nlohmann::json window_products;             // window_products.hpp
+  nlohmann::json raw_versus_calibrated;       // raw_versus_calibrated.hpp; null: no calibrated issue
   Episodes episodes;
   FalseAlarms false_alarms;
 };
@@ -27,7 +28,8 @@ struct Findings {
 // guidance and observations used, the pairs outside the model's season and
 // season_filter ("model season": not scored; "all months, monthly
 // climatology": scored, with monthly_climatology, the reference of each
-// valid month used), the scores, episodes, the observed sequence against the
+// valid month used), the scores, raw_versus_calibrated (only when an issue
+// is calibrated), episodes, the observed sequence against the
 // guidance's most likely states, the bootstrap settings and provenance
 // (created now, UTC). observations_source: ObservedSequence::source.
 nlohmann::json report_document(const RegimeModel& model, const VerifyConfig& config,

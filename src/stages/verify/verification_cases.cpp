@@ -88,7 +88,7 @@ Cases build_cases(const GuidanceSet& guidance, const ObservedSequence& observed,
         throw InternalError("verify: " + std::to_string(d.p.n_elem) + " probabilities for " +
                             std::to_string(n_states) + " states in " + guidance.issues[g].file);
       cases.list.push_back({static_cast<int>(g), d.lead, dn, d.valid.month, d.p, d.most_likely, it->second,
-                            day_number(guidance.issues[g].issue)});
+                            day_number(guidance.issues[g].issue), d.raw_p, d.raw_most_likely});
       cases.lag_span_days = std::max(cases.lag_span_days, guidance.issues[g].lag_span_days);
       cases.max_lead = std::max(cases.max_lead, d.lead);
     }

@@ -29,6 +29,11 @@ struct Case {
   int most_likely = 0;
   int observed = 0;
   std::int64_t issue_day = 0;  // day number of the issue date, real calendar (the bootstrap's blocks)
+  // A calibrated issue's raw probabilities and their most likely state
+  // (DailyGuidance::raw_p, raw_most_likely); empty and -1 otherwise. p and
+  // most_likely are always the issue's headline.
+  arma::vec raw_p;
+  int raw_most_likely = -1;
 };
 
 // Every pair, and the period they cover.

@@ -9,6 +9,7 @@
 #include "stages/verify/guidance_archive.hpp"
 #include "stages/verify/lead_scores.hpp"
 #include "stages/verify/month_bias.hpp"
+#include "stages/verify/raw_versus_calibrated.hpp"
 #include "stages/verify/report_document.hpp"
 #include "stages/verify/verification_cases.hpp"
 #include "stages/verify/window_products.hpp"
@@ -81,6 +82,9 @@ nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& con
   found.windows = scores_by_window(cases, climatology, config);
   found.by_month = frequency_bias_by_month(cases, climatology.states);
   found.window_products = score_window_products(guidance, observed, model, climatology, config, model.months);
+  found.raw_versus_calibrated =
+      raw_versus_calibrated(guidance, cases, climatology, config,
+                            compare_window_products(guidance, observed, model, climatology, config, model.months));
   const CatchRule rule{config.catch_margin, config.catch_excess, climatology};
   found.episodes = find_episodes(model, climatology, cases, guidance, config.min_episode_days, rule);
   found.false_alarms = find_false_alarms(climatology, guidance, cases, config.min_episode_days, rule);

@@ -29,6 +29,7 @@ struct WindowCase {
   arma::vec dominance;         // forecast, per state
   arma::vec expected_days;     // forecast, per state
   WindowOutcome observed;
+  arma::vec raw_dominance, raw_expected_days;  // a calibrated issue's raw products; empty otherwise
 };
 
 // Windows counted but not scored, by reason.
@@ -87,7 +88,8 @@ std::map<std::pair<int, int>, WindowGroup> collect_windows(const GuidanceSet& gu
       }
       std::vector<int> labels;
       for (std::int64_t d = day_number(w.from); d <= day_number(w.to); ++d) labels.push_back(observed.at(d));
-      g.cases.push_back({day_number(issue.issue), w.dominance, w.expected_days, observed_window(labels, n_states)});
+      g.cases.push_back({day_number(issue.issue), w.dominance, w.expected_days, observed_window(labels, n_states),
+                         w.raw_dominance, w.raw_expected_days});
       g.lag_span_days = std::max(g.lag_span_days, issue.lag_span_days);
     }
   return groups;
@@ -270,14 +272,70 @@ json group_json(const WindowGroup& g, const RegimeModel& model, const StateClima
           {"expected_days", expected_days_json(g, clim_days, climatology.states, config)}};
 }
 
+// The raw or the calibrated products of one version of a group: the scores
+// dominance_json and expected_days_json give the headline.
+json version_json(const WindowGroup& v, const arma::vec& clim_dominance, const arma::vec& clim_days,
+                  const std::vector<std::string>& states, const VerifyConfig& config) {
+  const json d = dominance_json(v, clim_dominance, states, config);
+  const json e = expected_days_json(v, clim_days, states, config);
+  double reliability = 0;
+  for (const auto& [state, scores] : d["regimes"].items()) reliability += scores["reliability"].get<double>();
+  return {{"dominance_cases", d["cases"]},
+          {"dominance_multicategory_brier", d["multicategory_brier"]},
+          {"dominance_multicategory_brier_skill", d["multicategory_brier_skill"]},
+          {"dominance_reliability", d["regimes"].empty() ? json(nullptr) : num(reliability)},
+          {"expected_days_mae", e["mae"]},
+          {"expected_days_skill", e["skill"]}};
+}
+
+// The windows of calibrated issues in a group, raw against calibrated; null without any.
+json group_versions(const WindowGroup& g, const RegimeModel& model, const StateClimatology& climatology,
+                    const VerifyConfig& config) {
+  WindowGroup calibrated = g;
+  calibrated.cases.clear();
+  for (const auto& c : g.cases)
+    if (!c.raw_dominance.is_empty() && !c.raw_expected_days.is_empty()) calibrated.cases.push_back(c);
+  if (calibrated.cases.empty()) return nullptr;
+  WindowGroup raw = calibrated;
+  for (auto& c : raw.cases) {
+    c.dominance = c.raw_dominance;
+    c.expected_days = c.raw_expected_days;
+  }
+  const int days = g.last - g.first + 1;
+  const arma::vec clim_dominance = climatological_dominance(model, days);
+  const arma::vec clim_days = static_cast<double>(days) * climatology.frequency;
+  return {{"first_lead_days", g.first},
+          {"last_lead_days", g.last},
+          {"cases", calibrated.cases.size()},
+          {"raw", version_json(raw, clim_dominance, clim_days, climatology.states, config)},
+          {"calibrated", version_json(calibrated, clim_dominance, clim_days, climatology.states, config)}};
+}
+
+std::map<std::int64_t, int> observed_days(const ObservedSequence& observed) {
+  std::map<std::int64_t, int> observed_by_day;
+  for (std::size_t t = 0; t < observed.dates.size() && t < observed.labels.size(); ++t)
+    observed_by_day[day_number(observed.dates[t])] = observed.labels[t];
+  return observed_by_day;
+}
+
 }  // namespace
+
+json compare_window_products(const GuidanceSet& guidance, const ObservedSequence& observed, const RegimeModel& model,
+                             const StateClimatology& climatology, const VerifyConfig& config,
+                             const std::vector<int>& season_months) {
+  json out = json::array();
+  for (const auto& [range, group] :
+       collect_windows(guidance, observed_days(observed), climatology.states.size(), config, season_months)) {
+    json entry = group_versions(group, model, climatology, config);
+    if (!entry.is_null()) out.push_back(entry);
+  }
+  return out;
+}
 
 json score_window_products(const GuidanceSet& guidance, const ObservedSequence& observed, const RegimeModel& model,
                            const StateClimatology& climatology, const VerifyConfig& config,
                            const std::vector<int>& season_months) {
-  std::map<std::int64_t, int> observed_by_day;
-  for (std::size_t t = 0; t < observed.dates.size() && t < observed.labels.size(); ++t)
-    observed_by_day[day_number(observed.dates[t])] = observed.labels[t];
+  const std::map<std::int64_t, int> observed_by_day = observed_days(observed);
   std::size_t without = 0;
   for (const auto& issue : guidance.issues) without += issue.windows.empty();
   json windows = json::array();

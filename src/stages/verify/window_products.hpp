@@ -52,4 +52,17 @@ nlohmann::json score_window_products(const GuidanceSet& guidance, const Observed
                                      const RegimeModel& model, const StateClimatology& climatology,
                                      const VerifyConfig& config, const std::vector<int>& season_months);
 
+// The windows of calibrated issues (those with raw products) that
+// score_window_products scores, their raw products against their
+// calibrated ones: one entry per (first_lead_days, last_lead_days) with at
+// least one, ordered by them: first_lead_days, last_lead_days, cases, and
+// for "raw" and "calibrated": dominance_cases (without the tied windows),
+// dominance_multicategory_brier, dominance_multicategory_brier_skill
+// (interval, as score_window_products'), dominance_reliability (the binned
+// reliability term summed over the states), expected_days_mae and
+// expected_days_skill (interval). Empty when no issue is calibrated.
+nlohmann::json compare_window_products(const GuidanceSet& guidance, const ObservedSequence& observed,
+                                       const RegimeModel& model, const StateClimatology& climatology,
+                                       const VerifyConfig& config, const std::vector<int>& season_months);
+
 }  // namespace isohypse::verification
