@@ -24,13 +24,14 @@ echo "== isohypse derive: the regimes of 30 cold seasons"
 
 echo
 echo "== isohypse calibrate: how far to trust the raw probabilities, learnt from 20 winters of reforecasts"
-echo "   (cross-validated: each season year scored by a fit made without it)"
+echo "   (cross-validated: each season year scored by a fit made without it; --method auto keeps, per window, the"
+echo "   better of the blend with climatology and the logistic regression)"
 "$BIN" calibrate --model "$OUT/regimes.nc" --reforecasts "$DATA/reforecasts/*.nc" --lag 4 --weights exp:3 \
-  --out "$OUT/calibration.nc"
+  --method auto --out "$OUT/calibration.nc"
 echo
 echo "== the same for the demo's no-skill system (its members leave the truth at once): calibrated = climatology"
 "$BIN" calibrate --model "$OUT/regimes.nc" --reforecasts "$DATA/reforecasts_noskill/*.nc" --lag 4 --weights exp:3 \
-  --out "$OUT/calibration-noskill.nc" --cases "$OUT/calibration-noskill-cases.csv"
+  --method auto --out "$OUT/calibration-noskill.nc" --cases "$OUT/calibration-noskill-cases.csv"
 
 echo
 echo "== isohypse classify: this morning's guidance (issue date 2026-01-15, the latest 4 initialisations, calibrated)"

@@ -30,7 +30,7 @@ void add_config_options(CLI::App* sub, CalibrateConfig& cfg, Outputs& o) {
   sub->add_option("--lag-days", cfg.lag_days,
                   "Pool reforecasts initialised up to N days before each (default: lag - 1, widened to hold two)");
   add_weights_option(sub, cfg.weights);
-  sub->add_option("--method", o.method, "blend (with climatology, the default) or logistic")->capture_default_str();
+  sub->add_option("--method", o.method, "blend (with climatology, the default), logistic, or auto (per window the better of the two, cross-validated)")->capture_default_str();
   add_windows_option(sub, cfg.windows);
   add_variable_option(sub, cfg.variable);
   sub->add_option("--reforecast-window", cfg.reforecast_window_days, "The drift: reforecasts within +-N days of the year")
@@ -39,6 +39,9 @@ void add_config_options(CLI::App* sub, CalibrateConfig& cfg, Outputs& o) {
       ->capture_default_str();
   sub->add_option("--coefficient-smoothing", cfg.coefficient_smoothing_days,
                   "Running mean of the blend coefficient in lead, days")
+      ->capture_default_str();
+  sub->add_option("--shrinkage", cfg.shrinkage_z,
+                  "Blend: shrink a(L) towards 0 by max(0, 1 - (Z SE / a)^2), SE its jackknife error over years; 0 = none")
       ->capture_default_str();
   sub->add_option("--penalty-c", cfg.penalty_c, "Logistic: inverse L2 penalty (as scikit-learn's C)")
       ->capture_default_str();

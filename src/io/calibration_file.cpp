@@ -77,6 +77,12 @@ std::vector<Column> columns(const Calibration& c) {
                   arma::conv_to<std::vector<double>>::from(c.blend)});
   cols.push_back({"blend_coefficient_unsmoothed", {"lead"}, "a(L) fitted on the lead day alone", "1",
                   arma::conv_to<std::vector<double>>::from(c.blend_unsmoothed)});
+  cols.push_back({"blend_coefficient_fitted", {"lead"},
+                  "the closed form over the leads pooled for a(L), before its shrinkage and clip to [0, 1]", "1",
+                  arma::conv_to<std::vector<double>>::from(c.blend_fitted)});
+  cols.push_back({"blend_coefficient_standard_error", {"lead"},
+                  "jackknife standard error of blend_coefficient_fitted over the season years", "1",
+                  arma::conv_to<std::vector<double>>::from(c.blend_standard_error)});
   cols.push_back({"cases", {"lead"}, "reforecast cases behind a(L)", "1", cases});
   cols.push_back({"window_first", {"window"}, "first lead day of the window", "days", first});
   cols.push_back({"window_last", {"window"}, "last lead day of the window", "days", last});
@@ -86,7 +92,7 @@ std::vector<Column> columns(const Calibration& c) {
     for (const auto& s : c.scores) v.push_back(s.*member);
     cols.push_back({name, {"window"}, nullptr, "1", v});
   }
-  if (c.method == CalibrationMethod::Logistic) {
+  if (c.method != CalibrationMethod::Blend) {
     std::vector<double> w, b;
     for (const auto& m : c.logistic) {
       for (arma::uword k = 0; k < m.weights.n_rows; ++k)
@@ -107,8 +113,12 @@ void put_globals(nc::File& f, const Calibration& c) {
   f.put_att(NC_GLOBAL, "Conventions", "CF-1.10");
   f.put_att(NC_GLOBAL, kVersionAttribute, NC_INT, {double(kCalibrationFormatVersion)});
   f.put_att(NC_GLOBAL, "method", calibration_method_name(c.method));
+  std::vector<std::string> chosen;
+  for (CalibrationMethod m : c.window_methods) chosen.push_back(calibration_method_name(m));
+  f.put_att(NC_GLOBAL, "window_methods", join(chosen, ","));
   f.put_att(NC_GLOBAL, "states", join(c.states, ","));
   f.put_att(NC_GLOBAL, "coefficient_smoothing_days", NC_INT, {double(c.coefficient_smoothing_days)});
+  f.put_att(NC_GLOBAL, "blend_shrinkage_z", NC_DOUBLE, {c.shrinkage_z});
   f.put_att(NC_GLOBAL, "penalty_c", NC_DOUBLE, {c.penalty_c});
   f.put_att(NC_GLOBAL, "cross_validation", "leave one reforecast year out (the drift and the calibration)");
   f.put_att(NC_GLOBAL, "regime_model_file", c.model_file);
@@ -176,18 +186,26 @@ void read_logistic(const nc::File& f, Calibration& c, std::size_t n_windows) {
 }  // namespace
 
 std::string calibration_method_name(CalibrationMethod m) {
-  return m == CalibrationMethod::Logistic ? "logistic" : "blend";
+  return m == CalibrationMethod::Logistic ? "logistic" : m == CalibrationMethod::Auto ? "auto" : "blend";
 }
 
 CalibrationMethod parse_calibration_method(const std::string& text) {
   if (text == "blend") return CalibrationMethod::Blend;
   if (text == "logistic") return CalibrationMethod::Logistic;
-  throw InputError("method (--method): '" + text + "' is not a calibration method; use blend or logistic");
+  if (text == "auto") return CalibrationMethod::Auto;
+  throw InputError("method (--method): '" + text + "' is not a calibration method; use blend, logistic or auto");
 }
 
 double Calibration::blend_at(int lead) const {
   if (blend.is_empty()) return 1.0;
   return blend(static_cast<arma::uword>(std::clamp(lead, 0, n_leads() - 1)));
+}
+
+CalibrationMethod Calibration::method_at(int lead) const {
+  const int w = window_of(lead);
+  if (w < 0 || static_cast<std::size_t>(w) >= window_methods.size())
+    return method == CalibrationMethod::Auto ? CalibrationMethod::Blend : method;
+  return window_methods[static_cast<std::size_t>(w)];
 }
 
 int Calibration::window_of(int lead) const {
@@ -246,9 +264,10 @@ Calibration read_calibration(const std::string& path) {
   if (c.format_version > kCalibrationFormatVersion)
     throw DataError(path + ": calibration format version " + std::to_string(c.format_version) +
                     " is newer than this isohypse reads (" + std::to_string(kCalibrationFormatVersion) + ")");
-  c.method = text(f, "method") == "logistic" ? CalibrationMethod::Logistic : CalibrationMethod::Blend;
+  c.method = parse_calibration_method(text(f, "method"));
   c.states = split(text(f, "states"), ',');
   c.coefficient_smoothing_days = static_cast<int>(numbers(f, "coefficient_smoothing_days").at(0));
+  c.shrinkage_z = numbers(f, "blend_shrinkage_z").at(0);
   c.penalty_c = numbers(f, "penalty_c").at(0);
   c.model_file = text(f, "regime_model_file");
   c.model_sha256 = text(f, "regime_model_sha256");
@@ -271,6 +290,8 @@ Calibration read_calibration(const std::string& path) {
     throw DataError(path + ": the state dimension does not match the states attribute");
   c.blend = arma::vec(variable(f, "blend_coefficient", L));
   c.blend_unsmoothed = arma::vec(variable(f, "blend_coefficient_unsmoothed", L));
+  c.blend_fitted = arma::vec(variable(f, "blend_coefficient_fitted", L));
+  c.blend_standard_error = arma::vec(variable(f, "blend_coefficient_standard_error", L));
   for (double n : variable(f, "cases", L)) c.cases.push_back(static_cast<std::size_t>(n));
   const std::vector<double> first = variable(f, "window_first", W), last = variable(f, "window_last", W),
                             wcases = variable(f, "window_cases", W);
@@ -285,7 +306,17 @@ Calibration read_calibration(const std::string& path) {
     const std::vector<double> v = variable(f, name, W);
     for (std::size_t i = 0; i < W; ++i) c.scores[i].*member = v[i];
   }
-  if (c.method == CalibrationMethod::Logistic) read_logistic(f, c, W);
+  if (c.method != CalibrationMethod::Blend) read_logistic(f, c, W);
+  for (const std::string& m : split(text(f, "window_methods"), ',')) {
+    c.window_methods.push_back(parse_calibration_method(m));
+    if (c.window_methods.back() == CalibrationMethod::Auto ||
+        (c.window_methods.back() == CalibrationMethod::Logistic && c.method == CalibrationMethod::Blend))
+      throw DataError(path + ": window_methods names '" + m + "', which a " + calibration_method_name(c.method) +
+                      " calibration cannot apply");
+  }
+  if (c.window_methods.size() != W)
+    throw DataError(path + ": window_methods names " + std::to_string(c.window_methods.size()) + " methods for " +
+                    std::to_string(W) + " windows");
   f.close();
   c.path = path;
   c.sha256 = sha256_file(path);

@@ -43,18 +43,53 @@ double objective(const arma::mat& X, const std::vector<int>& y, const arma::mat&
 
 }  // namespace
 
-double blend_coefficient(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed) {
-  check_cases(p, c, observed, "blend_coefficient");
-  double num = 0, den = 0;
+BlendSums blend_sums(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed) {
+  check_cases(p, c, observed, "blend_sums");
+  BlendSums s;
+  s.cases = p.n_rows;
   for (arma::uword i = 0; i < p.n_rows; ++i) {
     const arma::rowvec d = p.row(i) - c.row(i);
     arma::rowvec oc = -c.row(i);
     oc(static_cast<arma::uword>(observed[i])) += 1.0;
-    num += arma::dot(d, oc);
-    den += arma::dot(d, d);
+    s.numerator += arma::dot(d, oc);
+    s.denominator += arma::dot(d, d);
   }
-  if (p.n_rows == 0 || den <= 0) return arma::datum::nan;
-  return std::clamp(num / den, 0.0, 1.0);
+  return s;
+}
+
+double blend_coefficient(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed) {
+  const BlendSums s = blend_sums(p, c, observed);
+  if (s.cases == 0 || s.denominator <= 0) return arma::datum::nan;
+  return std::clamp(s.numerator / s.denominator, 0.0, 1.0);
+}
+
+ShrunkBlend shrunk_blend_coefficient(const std::vector<BlendSums>& groups, double z) {
+  const double nan = arma::datum::nan;
+  double num = 0, den = 0;
+  std::vector<const BlendSums*> held;
+  for (const auto& g : groups)
+    if (g.cases > 0) num += g.numerator, den += g.denominator, held.push_back(&g);
+  if (den <= 0) return {nan, nan, nan};
+  ShrunkBlend b;
+  b.fitted = num / den;
+  b.standard_error = nan;
+  const auto G = static_cast<double>(held.size());
+  if (held.size() >= 2) {
+    std::vector<double> leave_out;
+    for (const BlendSums* g : held)
+      if (den - g->denominator > 0) leave_out.push_back((num - g->numerator) / (den - g->denominator));
+    if (leave_out.size() == held.size()) {
+      double mean = 0, ss = 0;
+      for (double a : leave_out) mean += a / G;
+      for (double a : leave_out) ss += (a - mean) * (a - mean);
+      b.standard_error = std::sqrt((G - 1.0) / G * ss);
+    }
+  }
+  double a = b.fitted;
+  if (z > 0 && std::isfinite(b.standard_error))
+    a = a <= 0 ? 0.0 : a * std::max(0.0, 1.0 - (z * b.standard_error / a) * (z * b.standard_error / a));
+  b.coefficient = std::clamp(a, 0.0, 1.0);
+  return b;
 }
 
 arma::mat blend_probabilities(const arma::mat& p, const arma::mat& c, double a) { return c + a * (p - c); }

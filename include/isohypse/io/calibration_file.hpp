@@ -21,8 +21,10 @@ namespace isohypse {
 
 inline constexpr int kCalibrationFormatVersion = 1;
 
-enum class CalibrationMethod { Blend, Logistic };
-std::string calibration_method_name(CalibrationMethod m);  // "blend", "logistic"
+// Auto: per lead window, whichever of the two has the lower cross-validated
+// multi-category Brier score (Calibration::window_methods says which).
+enum class CalibrationMethod { Blend, Logistic, Auto };
+std::string calibration_method_name(CalibrationMethod m);  // "blend", "logistic", "auto"
 // Throws InputError quoting the text and naming --method for anything else.
 CalibrationMethod parse_calibration_method(const std::string& text);
 
@@ -51,13 +53,19 @@ struct Calibration {
   std::vector<std::string> states;  // the model's regime ids, then no_regime
   // Per lead day 0..n-1: the blend coefficient a(L) smoothed in lead (the
   // blend method's daily calibration, and every window product's), the
-  // unsmoothed fit, and the cases behind it.
-  arma::vec blend, blend_unsmoothed;
+  // unsmoothed fit, the pooled fit before its shrinkage and clip, that
+  // fit's jackknife standard error over season years, and the cases
+  // behind it.
+  arma::vec blend, blend_unsmoothed, blend_fitted, blend_standard_error;
   std::vector<std::size_t> cases;
   std::vector<LeadWindow> windows;      // the scores' windows, and the logistic models'
-  std::vector<LogisticModel> logistic;  // per window with the logistic method, else empty
+  std::vector<LogisticModel> logistic;  // per window with the logistic or auto method, else empty
+  // The method applied in each window: all the same for blend and logistic;
+  // for auto, the one with the lower cross-validated Brier score there.
+  std::vector<CalibrationMethod> window_methods;
   std::vector<CalibrationScores> scores;
   int coefficient_smoothing_days = 5;
+  double shrinkage_z = 2.0;  // the blend's shrinkage: max(0, 1 - (z SE / a)^2); 0 = none
   double penalty_c = 1.0;
   // What it was fitted on.
   std::string model_file, model_sha256;
@@ -76,6 +84,8 @@ struct Calibration {
   std::string path, sha256;
 
   int n_leads() const { return static_cast<int>(blend.n_elem); }
+  // The method applied at lead day L (that of window_of(L)).
+  CalibrationMethod method_at(int lead) const;
   // The blend coefficient of lead day L (the last lead's past the end; L < 0 as lead 0).
   double blend_at(int lead) const;
   // The index of the window holding lead L, or the nearest window; -1 when there is none.

@@ -6,6 +6,14 @@
 //     a = sum_i (p_i - c_i).(o_i - c_i) / sum_i |p_i - c_i|^2,
 //   clipped to [0, 1] (a = 1 keeps the raw probabilities, a = 0 is
 //   climatology). METHODS.md §8 check: a = 0.926606.
+//   Where the cases fall into independent groups (season years), the fit's
+//   doubt is its jackknife standard error over the groups (one group left
+//   out at a time; Efron 1982, The Jackknife, the Bootstrap and Other
+//   Resampling Plans, ch. 3), and the coefficient is shrunk towards 0 by
+//   max(0, 1 - (z SE / a)^2) before the clip (a positive-part shrinkage of
+//   the James-Stein type; the form and z = 2 are our choice): a coefficient
+//   within about two standard errors of 0 is noise, and a system without
+//   skill falls back to climatology instead of keeping a tenth of its noise.
 // - Multinomial logistic regression (common practice for calibrating
 //   category probabilities; the reference library in the tests is
 //   scikit-learn's LogisticRegression, multinomial, L2): one weight vector
@@ -31,6 +39,25 @@ namespace isohypse {
 // information). Throws InternalError when the sizes differ or a state is
 // out of range.
 double blend_coefficient(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed);
+
+// The sums of the closed form over some cases (the numerator and the
+// denominator, unclipped), so that groups of cases can be combined.
+struct BlendSums {
+  double numerator = 0, denominator = 0;
+  arma::uword cases = 0;
+};
+BlendSums blend_sums(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed);
+
+// The blend coefficient of groups of cases: the closed form over all of
+// them (`fitted`, unclipped), its jackknife standard error over the groups
+// that hold cases (`standard_error`, NaN with fewer than two), and
+// `coefficient`: fitted shrunk by max(0, 1 - (z SE / fitted)^2) (none when
+// z = 0 or SE is NaN) and clipped to [0, 1]. All NaN when no group holds
+// information (denominator 0).
+struct ShrunkBlend {
+  double fitted = 0, standard_error = 0, coefficient = 0;
+};
+ShrunkBlend shrunk_blend_coefficient(const std::vector<BlendSums>& groups, double z);
 
 // c + a (p - c), row by row (the rows still sum to 1 when p's and c's do).
 arma::mat blend_probabilities(const arma::mat& p, const arma::mat& c, double a);

@@ -35,13 +35,14 @@ struct CalibrateConfig {
   int reforecast_window_days = 7;        // the drift: reforecasts within +-N days of the year
   int lead_smoothing_days = 5;           // the drift's running mean in lead
   int coefficient_smoothing_days = 5;    // the blend coefficient's running mean in lead
+  double shrinkage_z = 2.0;              // the blend's shrinkage towards 0: max(0, 1 - (z SE / a)^2); 0 = none
   double penalty_c = 1.0;                // logistic: inverse L2 penalty, as scikit-learn's C
   int threads = 0;                       // 0 = every core
   std::string model_file;                // for the identity (the model's own path when empty)
 
   // Checks every setting: reforecasts given, lag >= 1, lag_days 0..30,
   // windows as classify's, smoothing 0..15 days, reforecast window 0..60,
-  // C > 0, threads >= 0. Throws InputError naming the setting and its flag.
+  // shrinkage 0..5, C > 0, threads >= 0. Throws InputError naming the setting and its flag.
   void validate() const;
 };
 

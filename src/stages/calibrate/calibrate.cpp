@@ -81,6 +81,8 @@ void CalibrateConfig::validate() const {
   if (coefficient_smoothing_days < 0 || coefficient_smoothing_days > 15)
     bad("coefficient_smoothing_days (--coefficient-smoothing) must lie in 0..15 days; found " +
         std::to_string(coefficient_smoothing_days));
+  if (!(shrinkage_z >= 0 && shrinkage_z <= 5))
+    bad("shrinkage_z (--shrinkage) must lie in 0..5 standard errors; found " + std::to_string(shrinkage_z));
   if (!(penalty_c > 0) || !std::isfinite(penalty_c))
     bad("penalty_c (--penalty-c) must be a finite number > 0; found " + std::to_string(penalty_c));
   if (threads < 0) bad("threads (--threads) must be 0 (every core) or positive; found " + std::to_string(threads));
@@ -114,6 +116,7 @@ Calibration calibrate_reforecasts(const RegimeModel& model, const CalibrateConfi
   c.method = cfg.method;
   c.coefficient_smoothing_days = cfg.coefficient_smoothing_days;
   c.penalty_c = cfg.penalty_c;
+  c.shrinkage_z = cfg.shrinkage_z;
   fill_identity(model, cfg, set, cases, observed, c);
   const arma::mat cross = fit_calibration(cases, set.years, cfg.windows, c, report);
   if (cases_csv) *cases_csv = cases_table(cases, cross, c.states);
@@ -133,8 +136,9 @@ nlohmann::json calibration_summary(const Calibration& c) {
                       {"hit_rate_calibrated", number_or_null(s.hit_rate_calibrated)},
                       {"departure_raw", number_or_null(s.departure_raw)},
                       {"departure_calibrated", number_or_null(s.departure_calibrated)}});
-  nlohmann::json blend = nlohmann::json::array();
+  nlohmann::json blend = nlohmann::json::array(), window_methods = nlohmann::json::array();
   for (double a : c.blend) blend.push_back(number_or_null(a));
+  for (CalibrationMethod m : c.window_methods) window_methods.push_back(calibration_method_name(m));
   return {{"kind", "calibration"},
           {"path", c.path},
           {"sha256", c.sha256},
@@ -148,6 +152,8 @@ nlohmann::json calibration_summary(const Calibration& c) {
             {"reforecast_files", c.files.size()}, {"lag_days", c.lag_days}, {"weights", c.weights}}},
           {"observed", c.observed},
           {"blend_coefficient_by_lead", blend},
+          {"blend_shrinkage_z", c.shrinkage_z},
+          {"window_methods", window_methods},
           {"cross_validated_scores", scores},
           {"created", c.created},
           {"tool_version", c.tool_version}};
@@ -166,21 +172,25 @@ std::string calibration_text(const Calibration& c) {
     << ".\n"
     << "Cross-validated, one season year left out at a time (the drift and the fit), multi-category Brier skill "
        "against the record's monthly frequencies:\n";
-  std::snprintf(line, sizeof line, "  %-7s %6s  %9s %9s  %9s %9s  %8s %8s  %7s  %9s %7s\n", "leads", "cases",
-                "skill raw", "calibr.", "REL raw", "calibr.", "hit raw", "calibr.", "a(L)", "|p-c| raw", "calibr.");
+  std::snprintf(line, sizeof line, "  %-7s %6s  %9s %9s  %9s %9s  %8s %8s  %-8s %5s  %9s %7s\n", "leads", "cases",
+                "skill raw", "calibr.", "REL raw", "calibr.", "hit raw", "calibr.", "method", "a(L)", "|p-c| raw",
+                "calibr.");
   o << line;
   for (const auto& s : c.scores) {
     double a = 0;
     int n = 0;
     for (int l = s.first; l <= s.last && l < c.n_leads(); ++l) a += c.blend(static_cast<arma::uword>(l)), ++n;
-    std::snprintf(line, sizeof line, "  %-7s %6zu  %9.3f %9.3f  %9.4f %9.4f  %8.3f %8.3f  %7.2f  %9.2f %7.3f\n",
+    const std::string method = calibration_method_name(c.method_at(s.first));
+    std::snprintf(line, sizeof line, "  %-7s %6zu  %9.3f %9.3f  %9.4f %9.4f  %8.3f %8.3f  %-8s %5.2f  %9.2f %7.3f\n",
                   (std::to_string(s.first) + "-" + std::to_string(s.last)).c_str(), s.cases, s.skill_raw,
                   s.skill_calibrated, s.reliability_raw, s.reliability_calibrated, s.hit_rate_raw,
-                  s.hit_rate_calibrated, n ? a / n : arma::datum::nan, s.departure_raw, s.departure_calibrated);
+                  s.hit_rate_calibrated, method.c_str(), n ? a / n : arma::datum::nan, s.departure_raw,
+                  s.departure_calibrated);
     o << line;
   }
-  o << "REL: binned reliability (10 bins) summed over the states; a(L): the blend's mean coefficient in the window "
-       "(1 keeps the raw probabilities, 0 is climatology); |p-c|: the largest distance of any probability from the "
+  o << "REL: binned reliability (10 bins) summed over the states; method: what calibrates the window's days; a(L): "
+       "the blend's mean coefficient in the window (1 keeps the raw probabilities, 0 is climatology; the window "
+       "products' calibration whatever the method); |p-c|: the largest distance of any probability from the "
        "climatological frequency.\n";
   return o.str();
 }

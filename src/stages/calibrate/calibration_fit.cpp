@@ -36,30 +36,53 @@ arma::vec fill_gaps(arma::vec a) {
 // a(L) is the closed form over the cases of the leads in a centred window
 // of coefficient_smoothing_days around L, the least-squares fit of those
 // leads together (averaging per-lead values instead would carry their
-// clipping at 1 into the neighbours).
+// clipping at 1 into the neighbours), shrunk towards 0 by its jackknife
+// standard error over the season years (numerics/calibration.hpp), then
+// clipped.
 void fit_blend(const CalibrationCases& cs, const arma::uvec& use, Calibration& c) {
   const int L = cs.n_leads, days = std::max(c.coefficient_smoothing_days, 1);
-  c.blend_unsmoothed.set_size(static_cast<arma::uword>(L));
-  c.blend.set_size(static_cast<arma::uword>(L));
+  const auto n = static_cast<arma::uword>(L);
+  c.blend_unsmoothed.set_size(n);
+  c.blend.set_size(n);
+  c.blend_fitted.set_size(n);
+  c.blend_standard_error.set_size(n);
   c.cases.assign(static_cast<std::size_t>(L), 0);
-  std::vector<std::vector<arma::uword>> by_lead(static_cast<std::size_t>(L));
-  for (arma::uword i = 0; i < use.n_elem; ++i)
-    if (use(i)) by_lead[static_cast<std::size_t>(cs.lead[i])].push_back(i);
-  auto fit_rows = [&](const std::vector<arma::uword>& r) {
-    const arma::uvec rows(r);
-    return rows.n_elem >= kMinCasesPerLead
-               ? blend_coefficient(cs.p.rows(rows), cs.c.rows(rows), pick(cs.observed, rows))
-               : arma::datum::nan;
-  };
+  std::vector<int> years = cs.year;
+  std::sort(years.begin(), years.end());
+  years.erase(std::unique(years.begin(), years.end()), years.end());
+  // Sums of the closed form by lead and season year.
+  std::vector<std::vector<BlendSums>> sums(n, std::vector<BlendSums>(years.size()));
+  std::vector<std::vector<arma::uword>> by_lead(n);
+  for (arma::uword i = 0; i < use.n_elem; ++i) {
+    if (!use(i)) continue;
+    by_lead[static_cast<std::size_t>(cs.lead[i])].push_back(i);
+    const auto y = static_cast<std::size_t>(std::lower_bound(years.begin(), years.end(), cs.year[i]) - years.begin());
+    const arma::uvec one{i};
+    const BlendSums s = blend_sums(cs.p.rows(one), cs.c.rows(one), {cs.observed[i]});
+    BlendSums& t = sums[static_cast<std::size_t>(cs.lead[i])][y];
+    t.numerator += s.numerator, t.denominator += s.denominator, t.cases += 1;
+  }
+  const double nan = arma::datum::nan;
   for (int l = 0; l < L; ++l) {
     const auto& own = by_lead[static_cast<std::size_t>(l)];
     c.cases[static_cast<std::size_t>(l)] = own.size();
-    c.blend_unsmoothed(l) = fit_rows(own);
-    std::vector<arma::uword> pooled;
+    c.blend_unsmoothed(l) = own.size() >= kMinCasesPerLead
+                                ? blend_coefficient(cs.p.rows(arma::uvec(own)), cs.c.rows(arma::uvec(own)),
+                                                    pick(cs.observed, arma::uvec(own)))
+                                : nan;
+    std::vector<BlendSums> pooled(years.size());
+    arma::uword cases = 0;
     for (int u = std::max(0, l - (days - 1) / 2); u <= std::min(L - 1, l + days / 2); ++u)
-      pooled.insert(pooled.end(), by_lead[static_cast<std::size_t>(u)].begin(),
-                    by_lead[static_cast<std::size_t>(u)].end());
-    c.blend(l) = fit_rows(pooled);
+      for (std::size_t y = 0; y < years.size(); ++y) {
+        const BlendSums& s = sums[static_cast<std::size_t>(u)][y];
+        pooled[y].numerator += s.numerator, pooled[y].denominator += s.denominator, pooled[y].cases += s.cases;
+        cases += s.cases;
+      }
+    const ShrunkBlend b = cases >= kMinCasesPerLead ? shrunk_blend_coefficient(pooled, c.shrinkage_z)
+                                                    : ShrunkBlend{nan, nan, nan};
+    c.blend(l) = b.coefficient;
+    c.blend_fitted(l) = b.fitted;
+    c.blend_standard_error(l) = b.standard_error;
   }
   c.blend = fill_gaps(c.blend);
 }
@@ -86,7 +109,7 @@ void fit_logistic(const CalibrationCases& cs, const arma::uvec& use, Calibration
 
 void fit(const CalibrationCases& cs, const arma::uvec& use, Calibration& c) {
   fit_blend(cs, use, c);
-  if (c.method == CalibrationMethod::Logistic) fit_logistic(cs, use, c);
+  if (c.method != CalibrationMethod::Blend) fit_logistic(cs, use, c);
 }
 
 CalibrationScores score_window(const CalibrationCases& cs, const arma::mat& calibrated, const LeadWindow& w) {
@@ -135,25 +158,47 @@ CalibrationScores score_window(const CalibrationCases& cs, const arma::mat& cali
 
 arma::mat apply_calibration(const Calibration& c, const CalibrationCases& cs, const arma::uvec& rows) {
   arma::mat out(rows.n_elem, cs.p.n_cols);
-  if (c.method == CalibrationMethod::Blend) {
-    for (arma::uword i = 0; i < rows.n_elem; ++i) {
-      const arma::uword r = rows(i);
-      out.row(i) = cs.c.row(r) + c.blend_at(cs.lead[r]) * (cs.p.row(r) - cs.c.row(r));
-    }
-    return out;
-  }
-  const arma::mat X = logistic_features(cs.p.rows(rows), cs.members.elem(rows), cs.c.rows(rows));
+  const bool any_logistic = c.method != CalibrationMethod::Blend;
+  const arma::mat X = any_logistic ? logistic_features(cs.p.rows(rows), cs.members.elem(rows), cs.c.rows(rows))
+                                   : arma::mat();
   for (arma::uword i = 0; i < rows.n_elem; ++i) {
-    const int w = c.window_of(cs.lead[rows(i)]);
-    out.row(i) = logistic_probabilities(c.logistic[static_cast<std::size_t>(w)], X.row(i));
+    const arma::uword r = rows(i);
+    const int lead = cs.lead[r];
+    if (c.method_at(lead) == CalibrationMethod::Blend)
+      out.row(i) = cs.c.row(r) + c.blend_at(lead) * (cs.p.row(r) - cs.c.row(r));
+    else
+      out.row(i) = logistic_probabilities(c.logistic[static_cast<std::size_t>(c.window_of(lead))], X.row(i));
   }
   return out;
 }
 
+namespace {
+
+// Auto: per window, the method whose cross-validated probabilities have
+// the lower mean multi-category Brier score (the blend on a tie).
+std::vector<CalibrationMethod> choose_methods(const CalibrationCases& cs, const std::vector<LeadWindow>& windows,
+                                              const arma::mat& blend, const arma::mat& logistic) {
+  std::vector<CalibrationMethod> out;
+  for (const auto& w : windows) {
+    const arma::uvec rows = arma::find(in_window(cs, w));
+    const std::vector<int> o = pick(cs.observed, rows);
+    const bool better = !rows.is_empty() && mean_multicategory_brier(logistic.rows(rows), o) <
+                                                mean_multicategory_brier(blend.rows(rows), o);
+    out.push_back(better ? CalibrationMethod::Logistic : CalibrationMethod::Blend);
+  }
+  return out;
+}
+
+}  // namespace
+
 arma::mat fit_calibration(const CalibrationCases& cs, const std::vector<int>& years, const std::vector<LeadWindow>& windows,
                      Calibration& c, const CalibrateProgress& report) {
   c.windows = windows;
-  arma::mat cross(cs.p.n_rows, cs.p.n_cols);
+  const CalibrationMethod one = c.method == CalibrationMethod::Logistic ? CalibrationMethod::Logistic
+                                                                        : CalibrationMethod::Blend;
+  c.window_methods.assign(windows.size(), one);
+  arma::mat cross(cs.p.n_rows, cs.p.n_cols), cross_logistic;
+  if (c.method == CalibrationMethod::Auto) cross_logistic.set_size(cs.p.n_rows, cs.p.n_cols);
   for (std::size_t y = 0; y < years.size(); ++y) {
     report("fit", static_cast<int>(y), static_cast<int>(years.size()));
     arma::uvec held(cs.year.size());
@@ -161,9 +206,18 @@ arma::mat fit_calibration(const CalibrationCases& cs, const std::vector<int>& ye
     Calibration without = c;
     fit(cs, held == 0, without);
     const arma::uvec rows = arma::find(held);
-    if (!rows.is_empty()) cross.rows(rows) = apply_calibration(without, cs, rows);
+    if (rows.is_empty()) continue;
+    cross.rows(rows) = apply_calibration(without, cs, rows);  // auto: every window blended
+    if (c.method != CalibrationMethod::Auto) continue;
+    without.window_methods.assign(windows.size(), CalibrationMethod::Logistic);
+    cross_logistic.rows(rows) = apply_calibration(without, cs, rows);
   }
   report("fit", static_cast<int>(years.size()), static_cast<int>(years.size()));
+  if (c.method == CalibrationMethod::Auto) {
+    c.window_methods = choose_methods(cs, windows, cross, cross_logistic);
+    for (arma::uword i = 0; i < cross.n_rows; ++i)
+      if (c.method_at(cs.lead[i]) == CalibrationMethod::Logistic) cross.row(i) = cross_logistic.row(i);
+  }
   fit(cs, arma::ones<arma::uvec>(cs.year.size()), c);
   c.scores.clear();
   for (const auto& w : windows) c.scores.push_back(score_window(cs, cross, w));

@@ -10,7 +10,7 @@ namespace {
 
 // The calibrated probabilities of one day: by lead from the issue date.
 arma::vec calibrate_day(const Calibration& c, const DayProbabilities& d, const arma::vec& clim) {
-  if (c.method == CalibrationMethod::Blend) return clim + c.blend_at(d.offset) * (d.probability - clim);
+  if (c.method_at(d.offset) == CalibrationMethod::Blend) return clim + c.blend_at(d.offset) * (d.probability - clim);
   const int w = c.window_of(d.offset);
   const arma::mat X = logistic_features(d.probability.t(), arma::vec{double(d.members)}, clim.t());
   return logistic_probabilities(c.logistic.at(static_cast<std::size_t>(w)), X).row(0).t();

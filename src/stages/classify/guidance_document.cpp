@@ -134,6 +134,7 @@ json calibration_json(const std::optional<CalibratedGuidance>& cal, const std::v
   json skill = json::array();
   for (const auto& s : c.scores)
     skill.push_back({{"first_lead_days", s.first}, {"last_lead_days", s.last}, {"cases", s.cases},
+                     {"method", calibration_method_name(c.method_at(s.first))},
                      {"skill_raw", number_or_null(s.skill_raw)}, {"skill_calibrated", number_or_null(s.skill_calibrated)},
                      {"reliability_raw", number_or_null(s.reliability_raw)},
                      {"reliability_calibrated", number_or_null(s.reliability_calibrated)}});
