@@ -23,7 +23,7 @@ echo "== isohypse derive: the regimes of 30 cold seasons"
 "$BIN" derive --config config/derive-example.json --out "$OUT/regimes.nc" --summary "$OUT/regimes-summary.json"
 
 echo
-echo "== isohypse calibrate: how far to trust the raw probabilities, learnt from 20 winters of reforecasts"
+echo "== isohypse calibrate: how far to trust the raw probabilities, learnt from the reforecasts of 2001-2020"
 echo "   (cross-validated: each season year scored by a fit made without it; --method auto keeps, per window, the"
 echo "   better of the blend with climatology and the logistic regression)"
 "$BIN" calibrate --model "$OUT/regimes.nc" --reforecasts "$DATA/reforecasts/*.nc" --lag 4 --weights exp:3 \

@@ -16,7 +16,7 @@ namespace {
 std::vector<BlendSums> groups() { return {{1, 1, 10}, {2, 2, 10}, {0, 2, 10}}; }
 }  // namespace
 
-TEST_CASE("blend shrinkage: the jackknife standard error over groups, by hand") {
+TEST_CASE("blend shrinkage: the jackknife standard error over groups by hand") {
   const ShrunkBlend none = shrunk_blend_coefficient(groups(), 0.0);
   CHECK(none.fitted == doctest::Approx(0.6).epsilon(1e-12));
   CHECK(none.standard_error == doctest::Approx(0.400617).epsilon(1e-6));
@@ -27,7 +27,7 @@ TEST_CASE("blend shrinkage: the jackknife standard error over groups, by hand") 
   CHECK(shrunk_blend_coefficient(groups(), 2.0).coefficient == 0.0);
 }
 
-TEST_CASE("blend shrinkage: empty groups do not count, one group has no error, no information is NaN") {
+TEST_CASE("blend shrinkage: empty groups do not count and one group has no error") {
   std::vector<BlendSums> g = groups();
   g.push_back({0, 0, 0});
   CHECK(shrunk_blend_coefficient(g, 0.5).coefficient == doctest::Approx(0.533128).epsilon(1e-6));
