@@ -34,7 +34,8 @@ The steps (../shared/METHODS.md §8; include/isohypse/stages/calibrate.hpp):
   - blend (common practice; closed form of the least multi-category Brier
     score, METHODS.md §8): a(L) = sum (p - c).(o - c) / sum |p - c|^2 over the
     cases of leads L-2..L+2 (at least 30 cases, else the nearest lead's
-    value), clipped to [0, 1];
+    value), shrunk by max(0, 1 - (2 SE / a)^2) with SE its jackknife
+    standard error over the season years, clipped to [0, 1];
   - logistic (--method logistic): sklearn.linear_model.LogisticRegression
     (C=1, solver newton-cg, multinomial) per lead window on the features of
     include/isohypse/numerics/calibration.hpp: log((p m + 1/2) / (m + S/2)),
@@ -134,8 +135,9 @@ def issues_of(inits, years, lag_days, scheme):
     return out
 
 
-def blend_fit(p, c, o, lead, use, n_leads, smoothing=5):
-    """a(L) smoothed (pooled over the leads of a centred window) and unsmoothed, from the cases `use`."""
+def blend_fit(p, c, o, lead, use, n_leads, year, smoothing=5, z=2.0):
+    """a(L) smoothed (pooled over the leads of a centred window, shrunk by its jackknife error over the season
+    years) and unsmoothed, from the cases `use`."""
     d = p - c
     oc = -c.copy()
     oc[np.arange(len(o)), o] += 1.0
@@ -147,9 +149,24 @@ def blend_fit(p, c, o, lead, use, n_leads, smoothing=5):
         den = den_case[rows].sum()
         return float(np.clip(num_case[rows].sum() / den, 0.0, 1.0)) if den > 0 else math.nan
 
+    def shrunk(rows):
+        if rows.sum() < MIN_CASES:
+            return math.nan
+        num, den = num_case[rows].sum(), den_case[rows].sum()
+        if den <= 0:
+            return math.nan
+        a = num / den
+        ys = np.unique(year[rows])
+        if len(ys) >= 2:
+            loo = np.array([(num - num_case[rows & (year == y)].sum()) / (den - den_case[rows & (year == y)].sum())
+                            for y in ys])
+            se = math.sqrt((len(ys) - 1) / len(ys) * np.sum((loo - loo.mean()) ** 2))
+            a = 0.0 if a <= 0 else a * max(0.0, 1 - (z * se / a) ** 2)
+        return float(np.clip(a, 0.0, 1.0))
+
     lo, hi = (smoothing - 1) // 2, smoothing // 2
     raw = np.array([closed_form(use & (lead == L)) for L in range(n_leads)])
-    smooth = np.array([closed_form(use & (lead >= L - lo) & (lead <= L + hi)) for L in range(n_leads)])
+    smooth = np.array([shrunk(use & (lead >= L - lo) & (lead <= L + hi)) for L in range(n_leads)])
     finite = np.nonzero(np.isfinite(smooth))[0]
     for L in np.nonzero(~np.isfinite(smooth))[0]:  # the nearest fitted lead (the earlier one on a tie), else 1
         smooth[L] = smooth[finite[np.argmin(np.abs(finite - L))]] if finite.size else 1.0
@@ -295,11 +312,11 @@ def fit_and_score(cs, years, method, C, S):
         if method == "logistic":
             cross[held] = logistic_apply(logistic_fit(X, o, ~held, lead, S, C), X[held], lead[held], S)
         else:
-            a, _ = blend_fit(p, c, o, lead, ~held, n_leads)
+            a, _ = blend_fit(p, c, o, lead, ~held, n_leads, year)
             a_case = a[np.minimum(lead[held], n_leads - 1)]
             cross[held] = c[held] + a_case[:, None] * (p[held] - c[held])
     everything = np.ones(len(o), bool)
-    a, a_raw = blend_fit(p, c, o, lead, everything, n_leads)
+    a, a_raw = blend_fit(p, c, o, lead, everything, n_leads, year)
     result = {"blend": a.tolist(), "blend_unsmoothed": [None if not np.isfinite(v) else v for v in a_raw],
               "cases": np.bincount(lead, minlength=n_leads).tolist(), "scores": scores(p, cross, c, o, lead)}
     if method == "logistic":

@@ -5,11 +5,13 @@
 
 #include <iostream>
 
+#include "base/allocator.hpp"
 #include "cli/commands.hpp"
 #include "isohypse/base/error.hpp"
 #include "isohypse/base/vocabulary.hpp"
 
 int main(int argc, char** argv) {
+  isohypse::detail::keep_freed_memory();
   CLI::App app{
       "isohypse " ISOHYPSE_VERSION
       ": circulation-regime guidance from 500 hPa heights.\n" +
