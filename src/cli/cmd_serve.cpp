@@ -28,6 +28,8 @@ void add_serve_options(CLI::App* sub, const std::shared_ptr<ServiceConfig>& cfg)
   sub->add_option("--archive", cfg->archive, "Folder of the guidance archive");
   sub->add_option("--listen", cfg->listen, "ADDRESS:PORT to listen on (default 127.0.0.1:8642; port 0: any free)");
   sub->add_option("--reforecasts", cfg->reforecasts, "Reforecast files or quoted globs: remove the model's drift");
+  sub->add_option("--calibration", cfg->calibration,
+                  "Calibration file (isohypse calibrate) for this model: publish calibrated probabilities");
   sub->add_option("--lag", cfg->lag, "Initialisations in the lagged ensemble (default 3; 0: all processed)");
   sub->add_option("--weights", cfg->weights, "equal | linear | exp:DAYS");
   sub->add_option("--observed", cfg->observed,

@@ -11,6 +11,7 @@
 #include "isohypse/io/regime_model_file.hpp"
 #include "isohypse/service/archive.hpp"
 #include "isohypse/service/inbox.hpp"
+#include "stages/classify/calibrated_guidance.hpp"
 #include "service/model_view.hpp"
 #include "service/routes.hpp"
 #include "service/verification_cache.hpp"
@@ -19,6 +20,18 @@
 namespace isohypse {
 
 // The parts, in the order they are built (each refers to those before it).
+namespace {
+
+// The regime model; a calibration for another model would fail every run,
+// so it is refused here, before any folder is made.
+RegimeModel model_and_calibration(const ServiceConfig& config) {
+  RegimeModel model = read_regime_model(config.model);
+  if (!config.calibration.empty()) load_calibration(model, config.calibration);
+  return model;
+}
+
+}  // namespace
+
 struct Service::Impl {
   ServiceConfig config;
   RegimeModel model;
@@ -33,7 +46,7 @@ struct Service::Impl {
 
   explicit Impl(ServiceConfig c)
       : config(std::move(c)),
-        model(read_regime_model(config.model)),
+        model(model_and_calibration(config)),
         archive(config.archive),
         inbox(config.inbox, model.domain, config.variable, config.members),
         view(model, config.land_mask),

@@ -7,7 +7,7 @@ namespace isohypse {
 
 ServiceConfig ServiceConfig::from_json(const nlohmann::json& j, const std::string& src) {
   ServiceConfig c;
-  check_keys(j, {"model", "inbox", "archive", "listen", "reforecasts", "observed", "variable", "lag", "weights",
+  check_keys(j, {"model", "inbox", "archive", "listen", "reforecasts", "calibration", "observed", "variable", "lag", "weights",
                  "members", "poll_seconds", "token", "land_mask", "threads", "max_body_bytes", "timeout_seconds",
                  "reliability_bins", "block_days", "catch_margin", "catch_excess", "comment"},
              src);
@@ -16,6 +16,7 @@ ServiceConfig ServiceConfig::from_json(const nlohmann::json& j, const std::strin
   get_value(j, "archive", c.archive, src);
   get_value(j, "listen", c.listen, src);
   get_string_list(j, "reforecasts", c.reforecasts, src);
+  get_value(j, "calibration", c.calibration, src);
   get_string_list(j, "observed", c.observed, src);
   get_value(j, "variable", c.variable, src);
   get_value(j, "lag", c.lag, src);
@@ -71,6 +72,7 @@ int ServiceConfig::port() const {
 ClassifyConfig ServiceConfig::classify_options() const {
   ClassifyConfig c;
   c.reforecasts = reforecasts;
+  c.calibration = calibration;
   c.analysis = observed;
   c.variable = variable;
   c.lag = lag;

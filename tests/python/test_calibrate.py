@@ -13,8 +13,8 @@ from the cases calibrate writes (--cases) and the regime model's own record:
 - the no-skill system: its calibrated probabilities stay within 0.05 of the climatological frequencies;
 - classify --calibration: calibrated = c + a(L) (raw - c) day by day, windows blended with the window's mean
   a(L) towards the record's climatology of such windows (numpy over the record), both CSV pairs;
-- bad input: a calibration for another model, too few reforecast years, observed files that do not cover the
-  reforecasts: a clear message, exit 2, no output."""
+- bad input: a calibration for another model (classify, and serve at start-up), too few reforecast years, observed
+  files that do not cover the reforecasts: a clear message, exit 2, no output."""
 import csv
 import datetime
 import glob
@@ -346,6 +346,12 @@ r = run([BIN, "classify", "--model", other, "--forecasts", f"{world}/forecasts/*
          "--out", out])
 check(r.returncode == 2 and "made for the regime model model.nc" in r.stderr and not os.path.exists(out),
       f"a calibration for another regime model is refused, naming it: exit {r.returncode}: {r.stderr.strip()[:160]}")
+r = run([BIN, "serve", "--model", other, "--inbox", os.path.join(tmp, "srv-in"), "--archive",
+         os.path.join(tmp, "srv-archive"), "--listen", "127.0.0.1:0", "--calibration", cal_path],
+        timeout=60, env=dict(os.environ, ISOHYPSE_TOKEN=""))
+check(r.returncode == 2 and "made for the regime model model.nc" in r.stderr and
+      not os.path.exists(os.path.join(tmp, "srv-in")) and not os.path.exists(os.path.join(tmp, "srv-archive")),
+      f"serve refuses a calibration for another regime model at start-up, before making its folders (exit {r.returncode}): {r.stderr[-160:]!r}")
 few = os.path.join(tmp, "few")
 os.makedirs(few)
 for p in glob.glob(f"{world}/reforecasts/rf_2015*.nc") + glob.glob(f"{world}/reforecasts/rf_2016*.nc"):

@@ -20,6 +20,7 @@ struct ServiceConfig {
   std::string archive;                  // guidance archive folder (required)
   std::string listen = "127.0.0.1:8642";  // ADDRESS:PORT; port 0 picks a free port
   std::vector<std::string> reforecasts; // files or globs; empty: no bias correction
+  std::string calibration;              // isohypse calibrate's file for this model; empty: raw probabilities
   std::vector<std::string> observed;    // for verification; empty: the model's record
   std::string variable;                 // forecast height variable; empty: automatic
   int lag = 3;                          // initialisations in the lagged ensemble (0: all processed)
@@ -50,7 +51,7 @@ struct ServiceConfig {
   int port() const;          // from listen, 0 .. 65535; throws InputError otherwise
 
   // The settings of every classification the service runs: reforecasts,
-  // variable, lag, weights, and the observed files as the analysis (for the
+  // calibration, variable, lag, weights, and the observed files as the analysis (for the
   // latest observed regime). The run adds its forecasts and issue date.
   // Throws InputError for weights that do not parse.
   ClassifyConfig classify_options() const;
