@@ -1,6 +1,7 @@
 #include "isohypse/io/calibration_file.hpp"
 
 #include <algorithm>
+#include <cmath>
 #include <cstdlib>
 #include <map>
 #include <sstream>
@@ -66,6 +67,10 @@ std::vector<std::string> split(const std::string& s, char sep) {
   return out;
 }
 
+std::size_t groups_per_lead(const Calibration& c) {
+  return c.blend_groups.empty() ? 1 : c.blend_groups.front().size();
+}
+
 std::vector<Column> columns(const Calibration& c) {
   std::vector<Column> cols;
   std::vector<double> leads, cases, first, last, wcases;
@@ -84,6 +89,14 @@ std::vector<Column> columns(const Calibration& c) {
                   "jackknife standard error of blend_coefficient_fitted over the season years", "1",
                   arma::conv_to<std::vector<double>>::from(c.blend_standard_error)});
   cols.push_back({"cases", {"lead"}, "reforecast cases behind a(L)", "1", cases});
+  std::vector<double> sums;
+  for (const auto& lead : c.blend_groups)
+    for (const BlendSums& g : lead)
+      sums.insert(sums.end(), {g.numerator, g.denominator, g.noise, g.noise_members, double(g.cases)});
+  cols.push_back({"blend_sums", {"lead", "blend_group", "blend_term"},
+                  "sums behind a(L) by season year (the leads pooled for it): numerator, denominator, sampling noise "
+                  "q = sum_k p_k (1 - p_k) / (m - 1), q m, cases; for refitting a(L) to another ensemble size",
+                  "1", sums});
   cols.push_back({"window_first", {"window"}, "first lead day of the window", "days", first});
   cols.push_back({"window_last", {"window"}, "last lead day of the window", "days", last});
   cols.push_back({"window_cases", {"window"}, "cases scored in the window", "1", wcases});
@@ -196,6 +209,16 @@ CalibrationMethod parse_calibration_method(const std::string& text) {
   throw InputError("method (--method): '" + text + "' is not a calibration method; use blend, logistic or auto");
 }
 
+double Calibration::blend_for(int lead, double members) const {
+  const auto l = static_cast<arma::uword>(std::clamp(lead, 0, std::max(n_leads() - 1, 0)));
+  if (blend_groups.size() != blend.n_elem || blend.is_empty() || members <= 0 || !std::isfinite(blend_fitted(l)))
+    return blend_at(lead);
+  std::vector<BlendSums> adjusted;
+  for (const BlendSums& g : blend_groups[l]) adjusted.push_back(for_ensemble(g, members));
+  const double a = shrunk_blend_coefficient(adjusted, shrinkage_z).coefficient;
+  return std::isfinite(a) ? a : 0.0;
+}
+
 double Calibration::blend_at(int lead) const {
   if (blend.is_empty()) return 1.0;
   return blend(static_cast<arma::uword>(std::clamp(lead, 0, n_leads() - 1)));
@@ -224,7 +247,9 @@ void write_calibration(const Calibration& c, const std::string& path) {
     std::map<std::string, int> dims = {{"lead", f.def_dim("lead", c.blend.n_elem)},
                                        {"window", f.def_dim("window", c.scores.size())},
                                        {"state", f.def_dim("state", c.states.size())},
-                                       {"feature", f.def_dim("feature", 2 * c.states.size())}};
+                                       {"feature", f.def_dim("feature", 2 * c.states.size())},
+                                       {"blend_group", f.def_dim("blend_group", groups_per_lead(c))},
+                                       {"blend_term", f.def_dim("blend_term", 5)}};
     const std::vector<Column> cols = columns(c);
     std::vector<int> ids;
     for (const auto& col : cols) {
@@ -293,6 +318,14 @@ Calibration read_calibration(const std::string& path) {
   c.blend_fitted = arma::vec(variable(f, "blend_coefficient_fitted", L));
   c.blend_standard_error = arma::vec(variable(f, "blend_coefficient_standard_error", L));
   for (double n : variable(f, "cases", L)) c.cases.push_back(static_cast<std::size_t>(n));
+  const std::size_t G = dim_length(f, "blend_group");
+  const std::vector<double> sums = variable(f, "blend_sums", L * G * 5);
+  c.blend_groups.assign(L, std::vector<BlendSums>(G));
+  for (std::size_t l = 0; l < L; ++l)
+    for (std::size_t g = 0; g < G; ++g) {
+      const double* t = &sums[(l * G + g) * 5];
+      c.blend_groups[l][g] = {t[0], t[1], static_cast<arma::uword>(t[4]), t[2], t[3]};
+    }
   const std::vector<double> first = variable(f, "window_first", W), last = variable(f, "window_last", W),
                             wcases = variable(f, "window_cases", W);
   c.scores.resize(W);

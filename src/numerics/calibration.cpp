@@ -43,8 +43,12 @@ double objective(const arma::mat& X, const std::vector<int>& y, const arma::mat&
 
 }  // namespace
 
-BlendSums blend_sums(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed) {
+BlendSums blend_sums(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed,
+                     const arma::vec& members) {
   check_cases(p, c, observed, "blend_sums");
+  if (!members.is_empty() && members.n_elem != p.n_rows)
+    throw InternalError("blend_sums: " + std::to_string(members.n_elem) + " member counts for " +
+                        std::to_string(p.n_rows) + " cases");
   BlendSums s;
   s.cases = p.n_rows;
   for (arma::uword i = 0; i < p.n_rows; ++i) {
@@ -53,8 +57,18 @@ BlendSums blend_sums(const arma::mat& p, const arma::mat& c, const std::vector<i
     oc(static_cast<arma::uword>(observed[i])) += 1.0;
     s.numerator += arma::dot(d, oc);
     s.denominator += arma::dot(d, d);
+    if (members.is_empty() || members(i) <= 1) continue;
+    const double q = arma::dot(p.row(i), 1.0 - p.row(i)) / (members(i) - 1.0);
+    s.noise += q;
+    s.noise_members += q * members(i);
   }
   return s;
+}
+
+BlendSums for_ensemble(const BlendSums& s, double members) {
+  BlendSums out = s;
+  if (members > 0 && s.noise > 0) out.denominator = s.denominator - s.noise + s.noise_members / members;
+  return out;
 }
 
 double blend_coefficient(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed) {
@@ -78,7 +92,9 @@ ShrunkBlend shrunk_blend_coefficient(const std::vector<BlendSums>& groups, doubl
     std::vector<double> leave_out;
     for (const BlendSums* g : held)
       if (den - g->denominator > 0) leave_out.push_back((num - g->numerator) / (den - g->denominator));
-    if (leave_out.size() == held.size()) {
+    // A group without which nothing is left to fit makes the fit as doubtful as it gets.
+    if (leave_out.size() != held.size()) b.standard_error = arma::datum::inf;
+    else {
       double mean = 0, ss = 0;
       for (double a : leave_out) mean += a / G;
       for (double a : leave_out) ss += (a - mean) * (a - mean);

@@ -234,12 +234,38 @@ r = run([BIN, "classify", "--model", model, "--forecasts", f"{world}/forecasts/*
 assert r.returncode == 0, r.stderr
 g = json.load(open(guidance))
 issue = datetime.date.fromisoformat(g["issue_date"])
-day_err = 0.0
+with netCDF4.Dataset(cal_path) as ds:
+    blend_sums = np.asarray(ds["blend_sums"][:])  # lead x season year x (numerator, denominator, q, q m, cases)
+
+
+def a_for(sums, lead, members=None, z=2.0):
+    """a(L) refitted for an ensemble of `members`: each year's denominator with its sampling noise q = sum_k
+    p_k (1 - p_k) / (m - 1) rescaled, D - Q + Q m / M (the binomial variance of a sample proportion, common
+    practice), then the jackknife shrinkage and the clip, as blend_a; members None: as fitted."""
+    t = sums[min(lead, len(sums) - 1)]
+    t = t[t[:, 4] > 0]
+    num, den = t[:, 0], (t[:, 1] if members is None else t[:, 1] - t[:, 2] + t[:, 3] / members)
+    if den.sum() <= 0:
+        return 0.0
+    a = num.sum() / den.sum()
+    loo_den = den.sum() - den
+    if (loo_den <= 0).any():
+        return 0.0
+    loo = (num.sum() - num) / loo_den
+    se = np.sqrt((len(t) - 1) / len(t) * np.sum((loo - loo.mean()) ** 2))
+    a = 0.0 if a <= 0 else a * max(0.0, 1 - (z * se / a) ** 2)
+    return float(np.clip(a, 0, 1))
+
+
+same_size = max(abs(a_for(blend_sums, lead) - a_file[lead]) for lead in range(len(a_file)))
+day_err, days_adjusted = 0.0, 0
 for d in g["daily"]:
     c = monthly[datetime.date.fromisoformat(d["valid_date"]).month]
     raw = np.array([d["raw_probabilities"][s] for s in states])
     cal = np.array([d["probabilities"][s] for s in states])
-    day_err = max(day_err, float(np.abs(c + a_file[min(d["lead_days"], len(a_file) - 1)] * (raw - c) - cal).max()))
+    a_day = a_for(blend_sums, d["lead_days"], d["members"])
+    days_adjusted += abs(a_day - a_file[min(d["lead_days"], len(a_file) - 1)]) > 1e-3
+    day_err = max(day_err, float(np.abs(c + a_day * (raw - c) - cal).max()))
 
 
 def window_climatology(length, month):
@@ -265,7 +291,7 @@ for w in g["windows"]:
     f, l = w["first_lead_days"], w["last_lead_days"]
     month = (issue + datetime.timedelta(days=(f + l) // 2)).month
     dom_c, days_c = window_climatology(l - f + 1, month)
-    a_w = float(np.mean([a_file[min(x, len(a_file) - 1)] for x in range(f, l + 1)]))
+    a_w = float(np.mean([a_for(blend_sums, x, w["members"]) for x in range(f, l + 1)]))
     raw_dom = np.array([w["raw_dominance"][s] for s in states])
     raw_days = np.array([w["raw_expected_days"][s] for s in states])
     covered = raw_days.sum()
@@ -275,8 +301,10 @@ for w in g["windows"]:
                   float(np.abs(want_days - [w["expected_days"][s] for s in states]).max()),
                   abs(a_w - w["calibration_coefficient"]))
 check(g["format_version"] == 4 and g["calibration"]["applied"] and g["calibration"]["headline"] == "calibrated" and
-      day_err < 1e-9 and win_err < 1e-9,
-      f"classify --calibration: daily calibrated = c + a(L) (raw - c) (within {day_err:.1e}); windows blended with "
+      day_err < 1e-9 and win_err < 1e-9 and same_size < 1e-12,
+      f"classify --calibration: the file's sums give its a(L) (within {same_size:.1e}); daily calibrated = c + a(L) "
+      f"(raw - c) with a(L) refitted for the day's members ({days_adjusted} of {len(g['daily'])} days differ from the "
+      f"file's a(L) by over 1e-3; within {day_err:.1e}); windows blended with "
       f"their mean a(L) towards numpy's climatology of such windows in the record (within {win_err:.1e})")
 
 
@@ -310,7 +338,7 @@ r = run([BIN, "classify", "--model", model, "--forecasts", f"{world}/forecasts/*
 assert r.returncode == 0, r.stderr
 ga = json.load(open(os.path.join(tmp, "g_auto.json")))
 with netCDF4.Dataset(auto_path) as ds:
-    lw, lb, a_auto = (np.asarray(ds[v][:]) for v in ("logistic_weight", "logistic_intercept", "blend_coefficient"))
+    lw, lb, auto_sums = (np.asarray(ds[v][:]) for v in ("logistic_weight", "logistic_intercept", "blend_sums"))
 
 
 def window_index(lead):
@@ -328,7 +356,7 @@ for d in ga["daily"]:
         z = lw[w] @ x + lb[w]
         want = np.exp(z - z.max()) / np.exp(z - z.max()).sum()
     else:
-        want = c + a_auto[min(lead, len(a_auto) - 1)] * (raw - c)
+        want = c + a_for(auto_sums, lead, d["members"]) * (raw - c)
     used.add(methods[w])
     auto_day_err = max(auto_day_err, float(np.abs(want - [d["probabilities"][s] for s in states]).max()))
 check(auto_day_err < 1e-9 and used == set(methods) and ga["calibration"]["method"] == "auto" and

@@ -57,6 +57,11 @@ struct Calibration {
   // fit's jackknife standard error over season years, and the cases
   // behind it.
   arma::vec blend, blend_unsmoothed, blend_fitted, blend_standard_error;
+  // Per lead day and season year (years as `years`): the sums behind a(L)
+  // (the leads pooled for it), so that classify can refit a(L) for its own
+  // ensemble size (numerics/calibration.hpp, for_ensemble). Empty in a
+  // file without them.
+  std::vector<std::vector<BlendSums>> blend_groups;
   std::vector<std::size_t> cases;
   std::vector<LeadWindow> windows;      // the scores' windows, and the logistic models'
   std::vector<LogisticModel> logistic;  // per window with the logistic or auto method, else empty
@@ -88,6 +93,11 @@ struct Calibration {
   CalibrationMethod method_at(int lead) const;
   // The blend coefficient of lead day L (the last lead's past the end; L < 0 as lead 0).
   double blend_at(int lead) const;
+  // a(L) for an ensemble of `members` members: the pooled sums with their
+  // sampling noise rescaled to that size, shrunk and clipped as when fitted
+  // (0 where nothing but noise is left). blend_at(L) where the file has no
+  // sums or a(L) was filled in from a neighbouring lead.
+  double blend_for(int lead, double members) const;
   // The index of the window holding lead L, or the nearest window; -1 when there is none.
   int window_of(int lead) const;
 };

@@ -41,12 +41,30 @@ namespace isohypse {
 double blend_coefficient(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed);
 
 // The sums of the closed form over some cases (the numerator and the
-// denominator, unclipped), so that groups of cases can be combined.
+// denominator, unclipped), so that groups of cases can be combined; and
+// the sampling noise in the denominator, for another ensemble size.
+//
+// Ensemble size: a raw probability from m members scatters about the
+// probability of an infinite ensemble, pi, by sum_k pi_k (1 - pi_k) / m in
+// the squared distance |p - c|^2 (members drawn independently; the numerator
+// does not change in expectation). Per case, q = sum_k p_k (1 - p_k) / (m - 1)
+// estimates that term without bias (common practice: the binomial variance
+// of a sample proportion). `noise` sums q, `noise_members` sums q m, so that
+// for an operational ensemble of M members the denominator becomes
+//   denominator - noise + noise_members / M
+// (a larger ensemble scatters less, so the fitted damping is relaxed; with
+// M = m the sums are unchanged). Members of a lagged ensemble are neither
+// independent nor alike, so this is an approximation.
 struct BlendSums {
   double numerator = 0, denominator = 0;
   arma::uword cases = 0;
+  double noise = 0, noise_members = 0;
 };
-BlendSums blend_sums(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed);
+// members: per case, the members behind p (empty: no noise terms).
+BlendSums blend_sums(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed,
+                     const arma::vec& members = arma::vec());
+// The sums as they would be for an ensemble of `members` members (see above).
+BlendSums for_ensemble(const BlendSums& s, double members);
 
 // The blend coefficient of groups of cases: the closed form over all of
 // them (`fitted`, unclipped), its jackknife standard error over the groups

@@ -47,6 +47,7 @@ void fit_blend(const CalibrationCases& cs, const arma::uvec& use, Calibration& c
   c.blend_fitted.set_size(n);
   c.blend_standard_error.set_size(n);
   c.cases.assign(static_cast<std::size_t>(L), 0);
+  c.blend_groups.assign(n, {});
   std::vector<int> years = cs.year;
   std::sort(years.begin(), years.end());
   years.erase(std::unique(years.begin(), years.end()), years.end());
@@ -58,9 +59,10 @@ void fit_blend(const CalibrationCases& cs, const arma::uvec& use, Calibration& c
     by_lead[static_cast<std::size_t>(cs.lead[i])].push_back(i);
     const auto y = static_cast<std::size_t>(std::lower_bound(years.begin(), years.end(), cs.year[i]) - years.begin());
     const arma::uvec one{i};
-    const BlendSums s = blend_sums(cs.p.rows(one), cs.c.rows(one), {cs.observed[i]});
+    const BlendSums s = blend_sums(cs.p.rows(one), cs.c.rows(one), {cs.observed[i]}, cs.members.elem(one));
     BlendSums& t = sums[static_cast<std::size_t>(cs.lead[i])][y];
     t.numerator += s.numerator, t.denominator += s.denominator, t.cases += 1;
+    t.noise += s.noise, t.noise_members += s.noise_members;
   }
   const double nan = arma::datum::nan;
   for (int l = 0; l < L; ++l) {
@@ -76,11 +78,13 @@ void fit_blend(const CalibrationCases& cs, const arma::uvec& use, Calibration& c
       for (std::size_t y = 0; y < years.size(); ++y) {
         const BlendSums& s = sums[static_cast<std::size_t>(u)][y];
         pooled[y].numerator += s.numerator, pooled[y].denominator += s.denominator, pooled[y].cases += s.cases;
+        pooled[y].noise += s.noise, pooled[y].noise_members += s.noise_members;
         cases += s.cases;
       }
     const ShrunkBlend b = cases >= kMinCasesPerLead ? shrunk_blend_coefficient(pooled, c.shrinkage_z)
                                                     : ShrunkBlend{nan, nan, nan};
     c.blend(l) = b.coefficient;
+    c.blend_groups[static_cast<std::size_t>(l)] = pooled;
     c.blend_fitted(l) = b.fitted;
     c.blend_standard_error(l) = b.standard_error;
   }

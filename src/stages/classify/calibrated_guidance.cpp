@@ -10,7 +10,8 @@ namespace {
 
 // The calibrated probabilities of one day: by lead from the issue date.
 arma::vec calibrate_day(const Calibration& c, const DayProbabilities& d, const arma::vec& clim) {
-  if (c.method_at(d.offset) == CalibrationMethod::Blend) return clim + c.blend_at(d.offset) * (d.probability - clim);
+  if (c.method_at(d.offset) == CalibrationMethod::Blend)
+    return clim + c.blend_for(d.offset, d.members) * (d.probability - clim);
   const int w = c.window_of(d.offset);
   const arma::mat X = logistic_features(d.probability.t(), arma::vec{double(d.members)}, clim.t());
   return logistic_probabilities(c.logistic.at(static_cast<std::size_t>(w)), X).row(0).t();
@@ -20,7 +21,7 @@ CalibratedWindow calibrate_window(const RegimeModel& model, const Calibration& c
                                   const Date& issue) {
   CalibratedWindow out;
   double a = 0;
-  for (int l = w.first; l <= w.last; ++l) a += c.blend_at(l);
+  for (int l = w.first; l <= w.last; ++l) a += c.blend_for(l, w.members);
   out.coefficient = a / (w.last - w.first + 1);
   out.month = add_days(issue, (w.first + w.last) / 2).month;
   out.climatology = window_climatology(model, w.last - w.first + 1, out.month);
@@ -65,7 +66,11 @@ CalibratedGuidance calibrated_guidance(const RegimeModel& model, Calibration cal
     g.ensemble_note = "the operational lagged ensemble has " + std::to_string(members) +
                       " members, over twice the " + std::to_string(std::lround(g.calibration.ensemble_members)) +
                       " of the reforecast ensembles the calibration was fitted on: its raw probabilities are less "
-                      "noisy than those the calibration learnt to correct, so it may damp them more than needed";
+                      "noisy than those the calibration learnt to correct" +
+                      std::string(g.calibration.blend_groups.empty()
+                                      ? ", so it may damp them more than needed"
+                                      : "; the blend's a(L) is refitted for each day's members (the reforecasts' "
+                                        "sampling noise rescaled to them), a logistic window is applied as fitted");
   return g;
 }
 
