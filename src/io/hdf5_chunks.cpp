@@ -1,10 +1,11 @@
 #include "io/hdf5_chunks.hpp"
 
 #include <hdf5.h>
-#include <zlib.h>
+#include <libdeflate.h>
 
 #include <algorithm>
 #include <cstring>
+#include <new>
 
 #include "isohypse/base/error.hpp"
 
@@ -144,6 +145,22 @@ bool ChunkReader::read(const std::vector<std::size_t>& start, const std::vector<
   return ok;
 }
 
+namespace {
+
+// One decompressor per thread, kept for the thread's life (libdeflate's are
+// reusable but not shareable between threads).
+libdeflate_decompressor* decompressor() {
+  struct Owned {
+    libdeflate_decompressor* d = libdeflate_alloc_decompressor();
+    ~Owned() { libdeflate_free_decompressor(d); }
+  };
+  thread_local Owned owned;
+  if (!owned.d) throw std::bad_alloc();
+  return owned.d;
+}
+
+}  // namespace
+
 void inflate_chunks(const StoredChunks& s, float* out, const std::string& path) {
   const StoredChunks::Layout& lay = s.layout;
   const std::size_t rank = lay.chunk.size();
@@ -164,8 +181,10 @@ void inflate_chunks(const StoredChunks& s, float* out, const std::string& path) 
     for (std::size_t i = lay.filters.size(); i-- > 0;) {
       if (c.filter_mask & (1u << i)) continue;  // not applied to this chunk
       if (lay.filters[i] == 1) {
-        uLongf got = static_cast<uLongf>(chunk_bytes);
-        if (uncompress(work.data(), &got, data, static_cast<uLong>(size)) != Z_OK || got != chunk_bytes)
+        std::size_t got = 0;
+        if (libdeflate_zlib_decompress(decompressor(), data, size, work.data(), chunk_bytes, &got) !=
+                LIBDEFLATE_SUCCESS ||
+            got != chunk_bytes)
           throw DataError(path + ": a compressed chunk does not inflate to its size (the file is damaged)");
       } else {  // shuffle: byte b of value v was stored at b * n + v
         const std::size_t n = size / lay.type_size;
