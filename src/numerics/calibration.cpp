@@ -65,6 +65,15 @@ BlendSums blend_sums(const arma::mat& p, const arma::mat& c, const std::vector<i
   return s;
 }
 
+BlendSums& operator+=(BlendSums& a, const BlendSums& b) {
+  a.numerator += b.numerator;
+  a.denominator += b.denominator;
+  a.cases += b.cases;
+  a.noise += b.noise;
+  a.noise_members += b.noise_members;
+  return a;
+}
+
 BlendSums for_ensemble(const BlendSums& s, double members) {
   BlendSums out = s;
   if (members > 0 && s.noise > 0) out.denominator = s.denominator - s.noise + s.noise_members / members;

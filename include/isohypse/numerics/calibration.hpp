@@ -60,6 +60,8 @@ struct BlendSums {
   arma::uword cases = 0;
   double noise = 0, noise_members = 0;
 };
+// Adds b's sums to a's (groups of cases combined).
+BlendSums& operator+=(BlendSums& a, const BlendSums& b);
 // members: per case, the members behind p (empty: no noise terms).
 BlendSums blend_sums(const arma::mat& p, const arma::mat& c, const std::vector<int>& observed,
                      const arma::vec& members = arma::vec());

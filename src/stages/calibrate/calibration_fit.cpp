@@ -39,7 +39,20 @@ arma::vec fill_gaps(arma::vec a) {
 // clipping at 1 into the neighbours), shrunk towards 0 by its jackknife
 // standard error over the season years (numerics/calibration.hpp), then
 // clipped.
-void fit_blend(const CalibrationCases& cs, const arma::uvec& use, Calibration& c) {
+// The closed form's sums of each case alone (they do not depend on which
+// cases a fit uses, so they are formed once for all the refits).
+std::vector<BlendSums> case_sums(const CalibrationCases& cs) {
+  std::vector<BlendSums> out;
+  out.reserve(cs.lead.size());
+  for (arma::uword i = 0; i < cs.lead.size(); ++i) {
+    const arma::uvec one{i};
+    out.push_back(blend_sums(cs.p.rows(one), cs.c.rows(one), {cs.observed[i]}, cs.members.elem(one)));
+  }
+  return out;
+}
+
+void fit_blend(const CalibrationCases& cs, const std::vector<BlendSums>& per_case, const arma::uvec& use,
+               Calibration& c) {
   const int L = cs.n_leads, days = std::max(c.coefficient_smoothing_days, 1);
   const auto n = static_cast<arma::uword>(L);
   c.blend_unsmoothed.set_size(n);
@@ -58,11 +71,7 @@ void fit_blend(const CalibrationCases& cs, const arma::uvec& use, Calibration& c
     if (!use(i)) continue;
     by_lead[static_cast<std::size_t>(cs.lead[i])].push_back(i);
     const auto y = static_cast<std::size_t>(std::lower_bound(years.begin(), years.end(), cs.year[i]) - years.begin());
-    const arma::uvec one{i};
-    const BlendSums s = blend_sums(cs.p.rows(one), cs.c.rows(one), {cs.observed[i]}, cs.members.elem(one));
-    BlendSums& t = sums[static_cast<std::size_t>(cs.lead[i])][y];
-    t.numerator += s.numerator, t.denominator += s.denominator, t.cases += 1;
-    t.noise += s.noise, t.noise_members += s.noise_members;
+    sums[static_cast<std::size_t>(cs.lead[i])][y] += per_case[i];
   }
   const double nan = arma::datum::nan;
   for (int l = 0; l < L; ++l) {
@@ -76,10 +85,8 @@ void fit_blend(const CalibrationCases& cs, const arma::uvec& use, Calibration& c
     arma::uword cases = 0;
     for (int u = std::max(0, l - (days - 1) / 2); u <= std::min(L - 1, l + days / 2); ++u)
       for (std::size_t y = 0; y < years.size(); ++y) {
-        const BlendSums& s = sums[static_cast<std::size_t>(u)][y];
-        pooled[y].numerator += s.numerator, pooled[y].denominator += s.denominator, pooled[y].cases += s.cases;
-        pooled[y].noise += s.noise, pooled[y].noise_members += s.noise_members;
-        cases += s.cases;
+        pooled[y] += sums[static_cast<std::size_t>(u)][y];
+        cases += sums[static_cast<std::size_t>(u)][y].cases;
       }
     const ShrunkBlend b = cases >= kMinCasesPerLead ? shrunk_blend_coefficient(pooled, c.shrinkage_z)
                                                     : ShrunkBlend{nan, nan, nan};
@@ -111,8 +118,8 @@ void fit_logistic(const CalibrationCases& cs, const arma::uvec& use, Calibration
   }
 }
 
-void fit(const CalibrationCases& cs, const arma::uvec& use, Calibration& c) {
-  fit_blend(cs, use, c);
+void fit(const CalibrationCases& cs, const std::vector<BlendSums>& per_case, const arma::uvec& use, Calibration& c) {
+  fit_blend(cs, per_case, use, c);
   if (c.method != CalibrationMethod::Blend) fit_logistic(cs, use, c);
 }
 
@@ -201,6 +208,7 @@ arma::mat fit_calibration(const CalibrationCases& cs, const std::vector<int>& ye
   const CalibrationMethod one = c.method == CalibrationMethod::Logistic ? CalibrationMethod::Logistic
                                                                         : CalibrationMethod::Blend;
   c.window_methods.assign(windows.size(), one);
+  const std::vector<BlendSums> per_case = case_sums(cs);
   arma::mat cross(cs.p.n_rows, cs.p.n_cols), cross_logistic;
   if (c.method == CalibrationMethod::Auto) cross_logistic.set_size(cs.p.n_rows, cs.p.n_cols);
   for (std::size_t y = 0; y < years.size(); ++y) {
@@ -208,7 +216,7 @@ arma::mat fit_calibration(const CalibrationCases& cs, const std::vector<int>& ye
     arma::uvec held(cs.year.size());
     for (std::size_t i = 0; i < cs.year.size(); ++i) held(i) = cs.year[i] == years[y];
     Calibration without = c;
-    fit(cs, held == 0, without);
+    fit(cs, per_case, held == 0, without);
     const arma::uvec rows = arma::find(held);
     if (rows.is_empty()) continue;
     cross.rows(rows) = apply_calibration(without, cs, rows);  // auto: every window blended
@@ -222,7 +230,7 @@ arma::mat fit_calibration(const CalibrationCases& cs, const std::vector<int>& ye
     for (arma::uword i = 0; i < cross.n_rows; ++i)
       if (c.method_at(cs.lead[i]) == CalibrationMethod::Logistic) cross.row(i) = cross_logistic.row(i);
   }
-  fit(cs, arma::ones<arma::uvec>(cs.year.size()), c);
+  fit(cs, per_case, arma::ones<arma::uvec>(cs.year.size()), c);
   c.scores.clear();
   for (const auto& w : windows) c.scores.push_back(score_window(cs, cross, w));
   return cross;
