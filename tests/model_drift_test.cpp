@@ -109,7 +109,7 @@ TEST_CASE("model drift: broken preconditions throw InternalError") {
   CHECK(s.members == 1);
   // No member at all: none given, or only empty parts.
   DriftSum empty;
-  CHECK_THROWS_AS(mean_drift({}, 2, consecutive_days(3), 1), InternalError);
+  CHECK_THROWS_AS(mean_drift(std::vector<const DriftSum*>{}, 2, consecutive_days(3), 1), InternalError);
   CHECK_THROWS_AS(mean_drift({&empty}, 2, consecutive_days(3), 1), InternalError);
   // A part of other points than asked for, or of fewer lead days than the forecast's.
   CHECK_THROWS_AS(mean_drift({&s}, 3, consecutive_days(3), 1), InternalError);

@@ -372,13 +372,14 @@ Instant decode_time(double value, const TimeUnits& units) {
   return Instant{add_days(units.epoch, static_cast<std::int64_t>(days)), sod};
 }
 
+int position_in_365_day_year(const Date& d) {
+  int pos = 0;
+  for (int m = 1; m < d.month; ++m) pos += days_in_month(2001, m, Calendar::NoLeap);
+  return pos + std::min(d.day, days_in_month(2001, d.month, Calendar::NoLeap)) - 1;
+}
+
 int days_apart_in_year(const Date& a, const Date& b) {
-  auto position = [](const Date& d) {
-    int pos = 0;
-    for (int m = 1; m < d.month; ++m) pos += days_in_month(2001, m, Calendar::NoLeap);
-    return pos + std::min(d.day, days_in_month(2001, d.month, Calendar::NoLeap)) - 1;
-  };
-  const int d = std::abs(position(a) - position(b));
+  const int d = std::abs(position_in_365_day_year(a) - position_in_365_day_year(b));
   return std::min(d, 365 - d);
 }
 

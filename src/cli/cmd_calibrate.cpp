@@ -45,6 +45,9 @@ void add_config_options(CLI::App* sub, CalibrateConfig& cfg, Outputs& o) {
       ->capture_default_str();
   sub->add_option("--penalty-c", cfg.penalty_c, "Logistic: inverse L2 penalty (as scikit-learn's C)")
       ->capture_default_str();
+  sub->add_option("--held-fields-memory", cfg.held_fields_mb,
+                  "MB of reforecast fields held between their read and their labels; beyond it they are read again")
+      ->capture_default_str();
   add_threads_option(sub, cfg.threads)->description("Threads reading and labelling reforecasts (default: every core)");
 }
 
@@ -59,7 +62,7 @@ CalibrateProgress terminal_progress(bool show) {
 
 void print_timings(const CalibrateTimings& t, double model_s, double write_s) {
   std::fprintf(stderr,
-               "calibrate timings (s): model %.3f | scan and observed %.3f | drift and labels on %d threads %.3f "
+               "calibrate timings (s): model %.3f | scan and observed %.3f | read, drift and labels on %d threads %.3f "
                "(netCDF-C reads %.3f, summed over threads) | cases %.3f | fit and cross-validation %.3f | written %.3f "
                "| total %.3f\n",
                model_s, t.scan_s, t.threads, t.label_s, t.read_s, t.cases_s, t.fit_s, write_s,

@@ -22,7 +22,7 @@ void add_member(DriftSum& sum, const arma::fmat& heights, const arma::fmat& clim
 arma::fmat mean_drift(const std::vector<const DriftSum*>& parts, arma::uword n_points,
                       const std::vector<Date>& lead_dates, int smoothing_days) {
   const arma::uword leads = lead_dates.size();
-  arma::fmat drift(n_points, leads, arma::fill::zeros);
+  arma::mat total(n_points, leads, arma::fill::zeros);
   std::size_t members = 0;
   for (const DriftSum* p : parts) {
     if (p->members == 0) continue;
@@ -30,11 +30,20 @@ arma::fmat mean_drift(const std::vector<const DriftSum*>& parts, arma::uword n_p
       throw InternalError("mean_drift: a reforecast sum of " + std::to_string(p->difference.n_rows) + " x " +
                           std::to_string(p->difference.n_cols) + " for " + std::to_string(n_points) +
                           " points x " + std::to_string(leads) + " lead days");
-    drift += p->difference.cols(0, leads - 1);
+    total += arma::conv_to<arma::mat>::from(p->difference.cols(0, leads - 1));
     members += p->members;
   }
+  return mean_drift(total, members, lead_dates, smoothing_days);
+}
+
+arma::fmat mean_drift(const arma::mat& total, std::size_t members, const std::vector<Date>& lead_dates,
+                      int smoothing_days) {
+  const arma::uword leads = lead_dates.size();
   if (members == 0) throw InternalError("mean_drift: no reforecast member to estimate the drift from");
-  drift /= static_cast<float>(members);
+  if (total.n_cols < leads)
+    throw InternalError("mean_drift: a total of " + std::to_string(total.n_cols) + " lead days for " +
+                        std::to_string(leads));
+  arma::fmat drift = arma::conv_to<arma::fmat>::from(total.cols(0, leads - 1) / static_cast<double>(members));
   running_mean(drift, lead_dates, smoothing_days);
   return drift;
 }

@@ -10,6 +10,7 @@ from the cases calibrate writes (--cases) and the regime model's own record:
   752-757) summed over the states, the hit rate;
 - --method logistic against scikit-learn's LogisticRegression (multinomial, L2, newton-cg; Pedregosa et al.
   2011, JMLR 12, 2825-2830) per window, all years and leaving each year out;
+- fields held between read and labels or read again (--held-fields-memory 0): the same probabilities;
 - the no-skill system: its calibrated probabilities stay within 0.05 of the climatological frequencies;
 - classify --calibration: calibrated = c + a(L) (raw - c) day by day, windows blended with the window's mean
   a(L) towards the record's climatology of such windows (numpy over the record), both CSV pairs;
@@ -158,6 +159,13 @@ for i, (f, l) in enumerate(WINDOWS):
           f"REL raw {want['reliability_raw']:.4f} calibrated {want['reliability_calibrated']:.4f}")
 check(worst < 1e-9, f"skills, binned reliability and hit rates by window = numpy's from the cases (max difference "
       f"{worst:.1e})")
+
+# ---- the same read with no fields held: every initialisation read twice (drift, then labels), one thread
+_, cr = calibrate("blend-reread", f"{world}/reforecasts/*.nc", "--held-fields-memory", "0", "--threads", "1")
+check(np.array_equal(cr["raw"], cs["raw"]) and np.array_equal(cr["cal"], cs["cal"]),
+      f"--held-fields-memory 0 --threads 1 (each initialisation read again for its labels) gives the same raw and "
+      f"calibrated probabilities, bit for bit, as fields held between read and labels on every core "
+      f"({len(cr['lead'])} cases)")
 
 # ---- the logistic method against scikit-learn
 log_path, cl = calibrate("logistic", f"{world}/reforecasts/*.nc", "--method", "logistic")

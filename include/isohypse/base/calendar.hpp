@@ -57,6 +57,11 @@ int day_of_year(const Date& d);
 // the shorter way round (0..182). Reforecasts "near the same day of the
 // year" are chosen with it.
 int days_apart_in_year(const Date& a, const Date& b);
+
+// The date's place in a 365-day year, 0 (1 January) to 364 (31 December);
+// 29 February and the 360-day calendar's 30 February fall on the month's
+// last day. What days_apart_in_year compares.
+int position_in_365_day_year(const Date& d);
 // Strict weak order within one calendar (compares year, month, day).
 bool operator<(const Date& a, const Date& b);
 

@@ -51,4 +51,10 @@ void add_member(DriftSum& sum, const arma::fmat& heights, const arma::fmat& clim
 arma::fmat mean_drift(const std::vector<const DriftSum*>& parts, arma::uword n_points,
                       const std::vector<Date>& lead_dates, int smoothing_days);
 
+// The same from a total already formed: `total` (n_points x at least
+// lead_dates.size() lead days, summed in double) over `members` members.
+// Throws InternalError when members is 0 or the total is too short.
+arma::fmat mean_drift(const arma::mat& total, std::size_t members, const std::vector<Date>& lead_dates,
+                      int smoothing_days);
+
 }  // namespace isohypse

@@ -38,11 +38,12 @@ struct CalibrateConfig {
   double shrinkage_z = 2.0;              // the blend's shrinkage towards 0: max(0, 1 - (z SE / a)^2); 0 = none
   double penalty_c = 1.0;                // logistic: inverse L2 penalty, as scikit-learn's C
   int threads = 0;                       // 0 = every core
+  int held_fields_mb = 1024;             // reforecast fields held from their read to their labels; beyond, read again
   std::string model_file;                // for the identity (the model's own path when empty)
 
   // Checks every setting: reforecasts given, lag >= 1, lag_days 0..30,
   // windows as classify's, smoothing 0..15 days, reforecast window 0..60,
-  // shrinkage 0..5, C > 0, threads >= 0. Throws InputError naming the setting and its flag.
+  // shrinkage 0..5, C > 0, threads >= 0, held fields >= 0 MB. Throws InputError naming the setting and its flag.
   void validate() const;
 };
 
@@ -52,8 +53,8 @@ inline constexpr int kMinCalibrationYears = 3;
 inline constexpr std::size_t kMinCasesPerLead = 30;
 
 struct CalibrateTimings {
-  double scan_s = 0, drift_s = 0, label_s = 0, cases_s = 0, fit_s = 0, total_s = 0;
-  double read_s = 0;  // of drift_s and label_s: netCDF-C reads, summed over the threads
+  double scan_s = 0, label_s = 0, cases_s = 0, fit_s = 0, total_s = 0;
+  double read_s = 0;  // of label_s: netCDF-C reads, summed over the threads
   int threads = 0;
 };
 

@@ -86,6 +86,8 @@ void CalibrateConfig::validate() const {
   if (!(penalty_c > 0) || !std::isfinite(penalty_c))
     bad("penalty_c (--penalty-c) must be a finite number > 0; found " + std::to_string(penalty_c));
   if (threads < 0) bad("threads (--threads) must be 0 (every core) or positive; found " + std::to_string(threads));
+  if (held_fields_mb < 0)
+    bad("held_fields_mb (--held-fields-memory) must be 0 or more megabytes; found " + std::to_string(held_fields_mb));
   if (windows.empty()) bad("windows (--windows): no lead windows given");
   for (const auto& [first, last] : windows)
     if (first < 0 || last < first)

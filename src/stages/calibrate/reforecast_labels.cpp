@@ -1,7 +1,11 @@
 #include "stages/calibrate/reforecast_labels.hpp"
 
+#include <algorithm>
+#include <map>
 #include <memory>
 #include <mutex>
+#include <numeric>
+#include <utility>
 
 #include "base/parallel.hpp"
 #include "isohypse/base/error.hpp"
@@ -18,11 +22,12 @@ std::vector<Date> lead_dates(const Initialisation& in) {
   return d;
 }
 
-// For each initialisation, the first reader slot of its members (slots run initialisation by initialisation).
-std::vector<std::size_t> first_slots(const EnsembleReader& reader, std::size_t n_inits) {
-  std::vector<std::size_t> first(n_inits + 1, reader.size());
-  for (std::size_t k = reader.size(); k-- > 0;) first[reader.slot(k).init] = k;
-  return first;
+// For each initialisation, its reader slots (slots run initialisation by initialisation).
+std::vector<std::pair<std::size_t, std::size_t>> slot_ranges(const EnsembleReader& reader, std::size_t n_inits) {
+  std::vector<std::pair<std::size_t, std::size_t>> range(n_inits, {reader.size(), reader.size()});
+  for (std::size_t k = reader.size(); k-- > 0;) range[reader.slot(k).init].first = k;
+  for (std::size_t k = 0; k < reader.size(); ++k) range[reader.slot(k).init].second = k + 1;
+  return range;
 }
 
 struct Worker {
@@ -32,70 +37,218 @@ struct Worker {
   RegimeLabeller labeller;
 };
 
-// The drift sums of the initialisations near `i`'s day of the year, of other season years, at least as long.
-std::vector<const DriftSum*> other_years_near(const ReforecastSet& set, const std::vector<DriftSum>& sums,
-                                              std::size_t i, int window_days) {
-  std::vector<const DriftSum*> near;
-  const Initialisation& in = set.inits[i];
-  for (std::size_t j = 0; j < set.inits.size(); ++j)
-    if (set.season_year[j] != set.season_year[i] && set.inits[j].n_leads >= in.n_leads &&
-        days_apart_in_year(set.inits[j].init, in.init) <= window_days)
-      near.push_back(&sums[j]);
-  if (near.empty())
-    throw InputError(in.files.front() + ": no reforecast of another season year initialised within " +
-                     std::to_string(window_days) + " days of the year of " + in.id() + " with at least " +
-                     std::to_string(in.n_leads) + " lead days, so its drift cannot be estimated without its own year");
-  return near;
+// The reading order: by place in the year, from the day after the widest
+// gap between the days that hold initialisations (so that a cold season's
+// drift windows do not wrap round the year), then by date.
+std::vector<std::size_t> reading_order(const ReforecastSet& set) {
+  const std::size_t n = set.inits.size();
+  std::vector<int> place(n);
+  for (std::size_t i = 0; i < n; ++i) place[i] = position_in_365_day_year(set.inits[i].init);
+  std::vector<int> days(place);
+  std::sort(days.begin(), days.end());
+  days.erase(std::unique(days.begin(), days.end()), days.end());
+  int start = 0, widest = -1;
+  for (std::size_t k = 0; k < days.size(); ++k) {
+    const int next = k + 1 < days.size() ? days[k + 1] : days.front() + 365;
+    if (next - days[k] > widest) widest = next - days[k], start = next % 365;
+  }
+  std::vector<std::size_t> order(n);
+  std::iota(order.begin(), order.end(), std::size_t{0});
+  std::stable_sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) {
+    return (place[a] - start + 365) % 365 < (place[b] - start + 365) % 365;
+  });
+  return order;
+}
+
+// The initialisations sharing a place in the year and a length share the
+// drift's neighbours (of every year): their sum is formed once, and each
+// member of the group takes its own season year's part out of it.
+struct DriftGroup {
+  std::vector<std::size_t> near;  // every initialisation within the window, at least as long
+  arma::uword leads = 0;          // the group's lead days
+  std::size_t ready = 0;          // the reading rank after which all of `near` is summed
+  std::size_t waiting = 0;        // members not yet labelled
+  arma::mat total;                // the sum over `near`, formed when first needed
+  std::size_t members = 0;
+};
+
+struct Plan {
+  std::vector<std::size_t> order, rank;  // rank[i]: position of i in order
+  std::vector<std::size_t> group;        // per initialisation
+  std::vector<DriftGroup> groups;
+};
+
+Plan make_plan(const ReforecastSet& set, int window_days) {
+  const std::size_t n = set.inits.size();
+  Plan plan;
+  plan.order = reading_order(set);
+  plan.rank.resize(n);
+  for (std::size_t r = 0; r < n; ++r) plan.rank[plan.order[r]] = r;
+  std::map<std::pair<int, int>, std::size_t> index;
+  plan.group.resize(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    const Initialisation& in = set.inits[i];
+    const auto key = std::make_pair(position_in_365_day_year(in.init), in.n_leads);
+    auto [it, added] = index.emplace(key, plan.groups.size());
+    if (added) {
+      DriftGroup g;
+      g.leads = static_cast<arma::uword>(in.n_leads);
+      for (std::size_t j = 0; j < n; ++j)
+        if (set.inits[j].n_leads >= in.n_leads && days_apart_in_year(set.inits[j].init, in.init) <= window_days) {
+          g.near.push_back(j);
+          g.ready = std::max(g.ready, plan.rank[j]);
+        }
+      plan.groups.push_back(std::move(g));
+    }
+    plan.group[i] = it->second;
+    ++plan.groups[it->second].waiting;
+  }
+  for (std::size_t i = 0; i < n; ++i) {  // fail before reading anything
+    const auto& near = plan.groups[plan.group[i]].near;
+    if (std::none_of(near.begin(), near.end(), [&](std::size_t j) { return set.season_year[j] != set.season_year[i]; }))
+      throw InputError(set.inits[i].files.front() + ": no reforecast of another season year initialised within " +
+                       std::to_string(window_days) + " days of the year of " + set.inits[i].id() + " with at least " +
+                       std::to_string(set.inits[i].n_leads) +
+                       " lead days, so its drift cannot be estimated without its own year");
+  }
+  return plan;
+}
+
+// The drift of initialisation i from the other season years: its group's
+// total less its own season year's part.
+arma::fmat other_years_drift(const ReforecastSet& set, const Plan& plan, const std::vector<DriftSum>& sums,
+                             std::size_t i, const std::vector<Date>& dates, int smoothing_days) {
+  const DriftGroup& g = plan.groups[plan.group[i]];
+  arma::mat total = g.total;
+  std::size_t members = g.members;
+  for (std::size_t j : g.near)
+    if (set.season_year[j] == set.season_year[i]) {
+      total -= arma::conv_to<arma::mat>::from(sums[j].difference.cols(0, total.n_cols - 1));
+      members -= sums[j].members;
+    }
+  return mean_drift(total, members, dates, smoothing_days);
+}
+
+void form_total(DriftGroup& g, const std::vector<DriftSum>& sums) {
+  const arma::uword leads = g.leads;
+  g.total.zeros(sums[g.near.front()].difference.n_rows, leads);
+  g.members = 0;
+  for (std::size_t j : g.near) {
+    g.total += arma::conv_to<arma::mat>::from(sums[j].difference.cols(0, leads - 1));
+    g.members += sums[j].members;
+  }
 }
 
 }  // namespace
 
 ReforecastLabels label_reforecasts(const RegimeModel& model, const CalibrateConfig& cfg, const ReforecastSet& set,
                                    const CalibrateProgress& report) {
+  const std::size_t n = set.inits.size();
+  Plan plan = make_plan(set, cfg.reforecast_window_days);
   std::vector<const Initialisation*> all;
-  for (const auto& in : set.inits) all.push_back(&in);
+  for (std::size_t r = 0; r < n; ++r) all.push_back(&set.inits[plan.order[r]]);  // the reader reads in plan order
   EnsembleReader reader(all, set.regrid, cfg.variable);
-  const std::vector<std::size_t> first = first_slots(reader, all.size());
+  const auto slots = slot_ranges(reader, n);  // by rank
   std::mutex netcdf;
   detail::StatePool<Worker> workers([&] { return std::make_unique<Worker>(model); });
-  const std::size_t n = all.size();
+  const int nt = detail::resolve_threads(cfg.threads, n);
+  const std::size_t batch = std::max<std::size_t>(8, 4 * static_cast<std::size_t>(nt));
 
-  // Pass 1: the drift sums.
+  // An initialisation's fields are held from its read to its labels when
+  // the labels come soon enough for cfg.held_fields_mb (always on the demo:
+  // a few weeks of the year are held at a time, unless the drift windows
+  // wrap round the year); the others are read a second time.
+  std::size_t init_bytes = 1;
+  for (const auto& in : set.inits)
+    init_bytes = std::max<std::size_t>(init_bytes, in.members.size() * model.grid.n_points() * static_cast<std::size_t>(in.n_leads) * sizeof(float));
+  const std::size_t hold = std::max(batch, static_cast<std::size_t>(cfg.held_fields_mb) * (std::size_t{1} << 20) / init_bytes);
+  std::vector<char> held(n);
+  std::vector<std::size_t> again_inits;
+  for (std::size_t i = 0; i < n; ++i) {
+    held[i] = plan.groups[plan.group[i]].ready - plan.rank[i] <= hold;
+    if (!held[i]) again_inits.push_back(i);
+  }
+  std::vector<const Initialisation*> again_list;
+  for (std::size_t i : again_inits) again_list.push_back(&set.inits[i]);
+  std::unique_ptr<EnsembleReader> again;
+  std::vector<std::pair<std::size_t, std::size_t>> again_slots;
+  if (!again_list.empty()) {
+    again = std::make_unique<EnsembleReader>(again_list, set.regrid, cfg.variable);
+    again_slots = slot_ranges(*again, again_inits.size());
+  }
+  std::map<std::size_t, std::size_t> again_index;
+  for (std::size_t a = 0; a < again_inits.size(); ++a) again_index[again_inits[a]] = a;
+
   std::vector<DriftSum> sums(n);
-  report("drift", 0, static_cast<int>(n));
-  detail::parallel_for(
-      n, cfg.threads,
-      [&](std::size_t i) {
-        const auto w = workers.lease();
-        const arma::fmat climate = model.climatology.evaluate(lead_dates(*all[i]));
-        for (std::size_t k = first[i]; k < reader.size() && reader.slot(k).init == i; ++k) {
-          reader.fetch(k, netcdf, w->work, &w->times);
-          add_member(sums[i], w->work.heights, climate);
-        }
-      },
-      [&](std::size_t done, std::size_t total) { report("drift", static_cast<int>(done), static_cast<int>(total)); });
-  for (std::size_t i = 0; i < n; ++i) other_years_near(set, sums, i, cfg.reforecast_window_days);  // fail early
-
-  // Pass 2: the labels, against the other years' drift.
-  EnsembleReader again(all, set.regrid, cfg.variable);
+  std::vector<std::vector<arma::fmat>> fields(n);
   ReforecastLabels out;
   out.labels.resize(n);
-  report("label", 0, static_cast<int>(n));
-  detail::parallel_for(
-      n, cfg.threads,
-      [&](std::size_t i) {
-        const auto w = workers.lease();
-        const std::vector<Date> dates = lead_dates(*all[i]);
-        const arma::fmat reference =
-            model.climatology.evaluate(dates) +
-            mean_drift(other_years_near(set, sums, i, cfg.reforecast_window_days), model.grid.n_points(), dates,
-                       cfg.lead_smoothing_days);
-        for (std::size_t k = first[i]; k < again.size() && again.slot(k).init == i; ++k) {
-          again.fetch(k, netcdf, w->work, &w->times);
-          out.labels[i].push_back(w->labeller.label(w->work.heights, reference, dates, model.running_mean_days));
-        }
-      },
-      [&](std::size_t done, std::size_t total) { report("label", static_cast<int>(done), static_cast<int>(total)); });
+
+  // Reads (with the drift sums) of the initialisation at rank r.
+  auto read_one = [&](std::size_t r) {
+    const std::size_t i = plan.order[r];
+    const auto w = workers.lease();
+    const arma::fmat climate = model.climatology.evaluate(lead_dates(set.inits[i]));
+    for (std::size_t k = slots[r].first; k < slots[r].second; ++k) {
+      reader.fetch(k, netcdf, w->work, &w->times);
+      add_member(sums[i], w->work.heights, climate);
+      if (held[i]) fields[i].push_back(w->work.heights);
+    }
+  };
+  // The labels of initialisation i, against the other years' drift.
+  auto label_one = [&](std::size_t i) {
+    const auto w = workers.lease();
+    const std::vector<Date> dates = lead_dates(set.inits[i]);
+    const arma::fmat reference = model.climatology.evaluate(dates) +
+                                 other_years_drift(set, plan, sums, i, dates, cfg.lead_smoothing_days);
+    auto label = [&](const arma::fmat& heights) {
+      out.labels[i].push_back(w->labeller.label(heights, reference, dates, model.running_mean_days));
+    };
+    if (held[i]) {
+      for (const arma::fmat& f : fields[i]) label(f);
+      std::vector<arma::fmat>().swap(fields[i]);
+      return;
+    }
+    const auto [k0, k1] = again_slots[again_index.at(i)];
+    for (std::size_t k = k0; k < k1; ++k) {
+      again->fetch(k, netcdf, w->work, &w->times);
+      label(w->work.heights);
+    }
+  };
+
+  // Rounds: each reads the next batch in plan order and labels every
+  // initialisation whose drift neighbours were all read in earlier rounds.
+  std::size_t read_to = 0, labelled = 0;
+  std::vector<char> done(n);
+  report("read and label", 0, static_cast<int>(n));
+  while (labelled < n) {
+    std::vector<std::size_t> ready;
+    for (std::size_t r = 0; r < read_to; ++r) {
+      const std::size_t i = plan.order[r];
+      if (!done[i] && plan.groups[plan.group[i]].ready < read_to) ready.push_back(i);
+    }
+    std::vector<std::size_t> to_total;
+    for (std::size_t i : ready) {
+      DriftGroup& g = plan.groups[plan.group[i]];
+      if (g.total.is_empty() && std::find(to_total.begin(), to_total.end(), plan.group[i]) == to_total.end())
+        to_total.push_back(plan.group[i]);
+    }
+    detail::parallel_for(to_total.size(), cfg.threads, [&](std::size_t t) {
+      form_total(plan.groups[to_total[t]], sums);
+    });
+    const std::size_t reads = std::min(batch, n - read_to);
+    detail::parallel_for(ready.size() + reads, cfg.threads, [&](std::size_t t) {
+      if (t < reads) read_one(read_to + t);
+      else label_one(ready[t - reads]);
+    });
+    read_to += reads;
+    for (std::size_t i : ready) {
+      done[i] = 1;
+      ++labelled;
+      if (--plan.groups[plan.group[i]].waiting == 0) plan.groups[plan.group[i]].total.reset();
+    }
+    report("read and label", static_cast<int>(labelled), static_cast<int>(n));
+  }
   out.threads = static_cast<int>(workers.all().size());
   for (const auto& w : workers.all()) out.read_s += w->times.read_s;
   return out;
