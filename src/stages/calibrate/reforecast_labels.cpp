@@ -76,6 +76,7 @@ struct Plan {
   std::vector<std::size_t> order, rank;  // rank[i]: position of i in order
   std::vector<std::size_t> group;        // per initialisation
   std::vector<DriftGroup> groups;
+  std::vector<std::size_t> users;        // per initialisation: the groups whose `near` holds it, not yet done
 };
 
 Plan make_plan(const ReforecastSet& set, int window_days) {
@@ -103,6 +104,9 @@ Plan make_plan(const ReforecastSet& set, int window_days) {
     plan.group[i] = it->second;
     ++plan.groups[it->second].waiting;
   }
+  plan.users.assign(n, 0);
+  for (const DriftGroup& g : plan.groups)
+    for (std::size_t j : g.near) ++plan.users[j];
   for (std::size_t i = 0; i < n; ++i) {  // fail before reading anything
     const auto& near = plan.groups[plan.group[i]].near;
     if (std::none_of(near.begin(), near.end(), [&](std::size_t j) { return set.season_year[j] != set.season_year[i]; }))
@@ -192,7 +196,7 @@ ReforecastLabels label_reforecasts(const RegimeModel& model, const CalibrateConf
     for (std::size_t k = slots[r].first; k < slots[r].second; ++k) {
       reader.fetch(k, netcdf, w->work, &w->times);
       add_member(sums[i], w->work.heights, climate);
-      if (held[i]) fields[i].push_back(w->work.heights);
+      if (held[i]) fields[i].push_back(std::move(w->work.heights));  // the next read allocates afresh
     }
   };
   // The labels of initialisation i, against the other years' drift.
@@ -245,7 +249,11 @@ ReforecastLabels label_reforecasts(const RegimeModel& model, const CalibrateConf
     for (std::size_t i : ready) {
       done[i] = 1;
       ++labelled;
-      if (--plan.groups[plan.group[i]].waiting == 0) plan.groups[plan.group[i]].total.reset();
+      DriftGroup& g = plan.groups[plan.group[i]];
+      if (--g.waiting > 0) continue;
+      g.total.reset();  // the group is done: so are the sums no other group needs
+      for (std::size_t j : g.near)
+        if (--plan.users[j] == 0) sums[j].difference.reset();
     }
     report("read and label", static_cast<int>(labelled), static_cast<int>(n));
   }
