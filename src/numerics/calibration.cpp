@@ -135,7 +135,7 @@ arma::mat logistic_features(const arma::mat& p, const arma::vec& members, const 
 }
 
 LogisticModel fit_multinomial_logistic(const arma::mat& X, const std::vector<int>& y, int n_states,
-                                       double penalty_c) {
+                                       double penalty_c, const LogisticModel* start) {
   if (X.n_rows == 0 || X.n_rows != y.size())
     throw InputError("logistic calibration: " + std::to_string(X.n_rows) + " cases and " + std::to_string(y.size()) +
                      " outcomes; at least one case is needed");
@@ -151,6 +151,10 @@ LogisticModel fit_multinomial_logistic(const arma::mat& X, const std::vector<int
   m.penalty_c = penalty_c;
   arma::mat W(S, F, arma::fill::zeros);
   arma::vec b(S, arma::fill::zeros);
+  if (start && start->weights.n_rows == S && start->weights.n_cols == F && start->intercepts.n_elem == S) {
+    W = start->weights;
+    b = start->intercepts;
+  }
   for (int it = 0; it < 100; ++it) {
     arma::mat s = X * W.t();
     s.each_row() += b.t();
@@ -159,16 +163,16 @@ LogisticModel fit_multinomial_logistic(const arma::mat& X, const std::vector<int
     arma::mat G = (Pr - Y).t() * Xt;  // S x (F + 1)
     G.cols(0, F - 1) += W / penalty_c;
     // Hessian: sum_i (diag(p_i) - p_i p_i') kron x_i x_i', state-major blocks.
+    // Block (k, l) is Xt' diag(h_kl) Xt with h_kl = [k = l] p_k - p_k p_l: one weighted Gram product per pair.
     arma::mat H(P, P, arma::fill::zeros);
-    for (arma::uword i = 0; i < n; ++i) {
-      const arma::rowvec x = Xt.row(i);
-      const arma::mat xx = x.t() * x;
-      for (arma::uword k = 0; k < S; ++k)
-        for (arma::uword l = 0; l < S; ++l) {
-          const double h = (k == l ? Pr(i, k) : 0.0) - Pr(i, k) * Pr(i, l);
-          H.submat(k * (F + 1), l * (F + 1), k * (F + 1) + F, l * (F + 1) + F) += h * xx;
-        }
-    }
+    for (arma::uword k = 0; k < S; ++k)
+      for (arma::uword l = k; l < S; ++l) {
+        arma::vec h = -Pr.col(k) % Pr.col(l);
+        if (k == l) h += Pr.col(k);
+        const arma::mat block = Xt.t() * (Xt.each_col() % h);
+        H.submat(k * (F + 1), l * (F + 1), k * (F + 1) + F, l * (F + 1) + F) = block;
+        if (l != k) H.submat(l * (F + 1), k * (F + 1), l * (F + 1) + F, k * (F + 1) + F) = block.t();
+      }
     for (arma::uword k = 0; k < S; ++k) {
       for (arma::uword f = 0; f < F; ++f) H(k * (F + 1) + f, k * (F + 1) + f) += 1.0 / penalty_c;
       // The softmax is blind to a common shift of the intercepts: fix it (their sum stays 0).

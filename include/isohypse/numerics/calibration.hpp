@@ -94,11 +94,14 @@ struct LogisticModel {
   int iterations = 0;    // Newton steps taken
 };
 
-// Fits the model (n_states >= 2 states, y in 0..n_states-1, X rows = cases).
-// Throws InputError when there is no case or C <= 0; NumericalError when
-// Newton's method does not converge in 100 steps.
+// Fits the model (n_states >= 2 states, y in 0..n_states-1, X rows = cases)
+// by Newton's method from zero, or from `start` when it is given and of the
+// right shape (a fit on similar cases: the leave-one-year-out refits start
+// from the fit on every year, and the optimum is the same to the stopping
+// rule). Throws InputError when there is no case or C <= 0; NumericalError
+// when Newton's method does not converge in 100 steps.
 LogisticModel fit_multinomial_logistic(const arma::mat& X, const std::vector<int>& y, int n_states,
-                                       double penalty_c);
+                                       double penalty_c, const LogisticModel* start = nullptr);
 
 // Probabilities (rows = cases, S columns) of a fitted model.
 arma::mat logistic_probabilities(const LogisticModel& model, const arma::mat& X);

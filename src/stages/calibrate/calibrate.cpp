@@ -120,7 +120,7 @@ Calibration calibrate_reforecasts(const RegimeModel& model, const CalibrateConfi
   c.penalty_c = cfg.penalty_c;
   c.shrinkage_z = cfg.shrinkage_z;
   fill_identity(model, cfg, set, cases, observed, c);
-  const arma::mat cross = fit_calibration(cases, set.years, cfg.windows, c, report);
+  const arma::mat cross = fit_calibration(cases, set.years, cfg.windows, c, cfg.threads, report);
   if (cases_csv) *cases_csv = cases_table(cases, cross, c.states);
   time.fit_s = clock.lap();
   time.total_s = clock.total();

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 
+#include "base/parallel.hpp"
 #include "isohypse/numerics/scores.hpp"
 
 namespace isohypse {
@@ -104,23 +105,27 @@ arma::uvec in_window(const CalibrationCases& cs, const LeadWindow& w) {
   return m;
 }
 
-void fit_logistic(const CalibrationCases& cs, const arma::uvec& use, Calibration& c) {
+// start: the fit on every year per window (empty: from zero).
+void fit_logistic(const CalibrationCases& cs, const arma::mat& X, const arma::uvec& use,
+                  const std::vector<LogisticModel>& start, Calibration& c) {
   c.logistic.clear();
-  const arma::mat X = logistic_features(cs.p, cs.members, cs.c);
-  for (const auto& w : c.windows) {
+  for (std::size_t wi = 0; wi < c.windows.size(); ++wi) {
+    const LeadWindow& w = c.windows[wi];
     const arma::uvec rows = arma::find(use && in_window(cs, w));
     if (rows.is_empty()) {  // no case in the window: the model of the nearest fitted one follows
       c.logistic.push_back(c.logistic.empty() ? LogisticModel{} : c.logistic.back());
       continue;
     }
     c.logistic.push_back(
-        fit_multinomial_logistic(X.rows(rows), pick(cs.observed, rows), static_cast<int>(cs.p.n_cols), c.penalty_c));
+        fit_multinomial_logistic(X.rows(rows), pick(cs.observed, rows), static_cast<int>(cs.p.n_cols), c.penalty_c,
+                                 wi < start.size() ? &start[wi] : nullptr));
   }
 }
 
-void fit(const CalibrationCases& cs, const std::vector<BlendSums>& per_case, const arma::uvec& use, Calibration& c) {
+void fit(const CalibrationCases& cs, const std::vector<BlendSums>& per_case, const arma::mat& X, const arma::uvec& use,
+         const std::vector<LogisticModel>& start, Calibration& c) {
   fit_blend(cs, per_case, use, c);
-  if (c.method != CalibrationMethod::Blend) fit_logistic(cs, use, c);
+  if (c.method != CalibrationMethod::Blend) fit_logistic(cs, X, use, start, c);
 }
 
 CalibrationScores score_window(const CalibrationCases& cs, const arma::mat& calibrated, const LeadWindow& w) {
@@ -203,34 +208,41 @@ std::vector<CalibrationMethod> choose_methods(const CalibrationCases& cs, const 
 }  // namespace
 
 arma::mat fit_calibration(const CalibrationCases& cs, const std::vector<int>& years, const std::vector<LeadWindow>& windows,
-                     Calibration& c, const CalibrateProgress& report) {
+                          Calibration& c, int threads, const CalibrateProgress& report) {
   c.windows = windows;
   const CalibrationMethod one = c.method == CalibrationMethod::Logistic ? CalibrationMethod::Logistic
                                                                         : CalibrationMethod::Blend;
   c.window_methods.assign(windows.size(), one);
   const std::vector<BlendSums> per_case = case_sums(cs);
+  const arma::mat X = c.method != CalibrationMethod::Blend ? logistic_features(cs.p, cs.members, cs.c) : arma::mat();
+  // The fit on every year first: the leave-one-year-out refits start from its logistic models.
+  Calibration all = c;
+  fit(cs, per_case, X, arma::ones<arma::uvec>(cs.year.size()), {}, all);
   arma::mat cross(cs.p.n_rows, cs.p.n_cols), cross_logistic;
   if (c.method == CalibrationMethod::Auto) cross_logistic.set_size(cs.p.n_rows, cs.p.n_cols);
-  for (std::size_t y = 0; y < years.size(); ++y) {
-    report("fit", static_cast<int>(y), static_cast<int>(years.size()));
-    arma::uvec held(cs.year.size());
-    for (std::size_t i = 0; i < cs.year.size(); ++i) held(i) = cs.year[i] == years[y];
-    Calibration without = c;
-    fit(cs, per_case, held == 0, without);
-    const arma::uvec rows = arma::find(held);
-    if (rows.is_empty()) continue;
-    cross.rows(rows) = apply_calibration(without, cs, rows);  // auto: every window blended
-    if (c.method != CalibrationMethod::Auto) continue;
-    without.window_methods.assign(windows.size(), CalibrationMethod::Logistic);
-    cross_logistic.rows(rows) = apply_calibration(without, cs, rows);
-  }
-  report("fit", static_cast<int>(years.size()), static_cast<int>(years.size()));
+  report("fit", 0, static_cast<int>(years.size()));
+  detail::parallel_for(
+      years.size(), threads,
+      [&](std::size_t y) {  // each year writes its own rows of cross
+        arma::uvec held(cs.year.size());
+        for (std::size_t i = 0; i < cs.year.size(); ++i) held(i) = cs.year[i] == years[y];
+        Calibration without = c;
+        fit(cs, per_case, X, held == 0, all.logistic, without);
+        const arma::uvec rows = arma::find(held);
+        if (rows.is_empty()) return;
+        cross.rows(rows) = apply_calibration(without, cs, rows);  // auto: every window blended
+        if (c.method != CalibrationMethod::Auto) return;
+        without.window_methods.assign(windows.size(), CalibrationMethod::Logistic);
+        cross_logistic.rows(rows) = apply_calibration(without, cs, rows);
+      },
+      [&](std::size_t done, std::size_t total) { report("fit", static_cast<int>(done), static_cast<int>(total)); });
   if (c.method == CalibrationMethod::Auto) {
     c.window_methods = choose_methods(cs, windows, cross, cross_logistic);
     for (arma::uword i = 0; i < cross.n_rows; ++i)
       if (c.method_at(cs.lead[i]) == CalibrationMethod::Logistic) cross.row(i) = cross_logistic.row(i);
   }
-  fit(cs, per_case, arma::ones<arma::uvec>(cs.year.size()), c);
+  all.window_methods = c.window_methods;
+  c = std::move(all);
   c.scores.clear();
   for (const auto& w : windows) c.scores.push_back(score_window(cs, cross, w));
   return cross;

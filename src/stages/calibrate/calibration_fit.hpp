@@ -19,10 +19,13 @@ namespace isohypse {
 // Fills c.blend (and its fitted value and standard error), c.blend_unsmoothed,
 // c.cases, c.windows, c.window_methods, c.logistic and c.scores from the
 // cases (c.method, c.coefficient_smoothing_days, c.shrinkage_z and
-// c.penalty_c set by the caller). report("fit", year, years). Returns the
+// c.penalty_c set by the caller). The leave-one-year-out refits run on
+// `threads` threads (0: every core), the logistic ones starting from the fit
+// on every year. report("fit", years done, years). Returns the
 // cross-validated calibrated probabilities of every case (cases x states).
 arma::mat fit_calibration(const CalibrationCases& cases, const std::vector<int>& years,
-                     const std::vector<LeadWindow>& windows, Calibration& c, const CalibrateProgress& report);
+                          const std::vector<LeadWindow>& windows, Calibration& c, int threads,
+                          const CalibrateProgress& report);
 
 // The calibrated probabilities of the cases `rows` with the fitted c
 // (each lead by its window's method: the blend by lead, the logistic
