@@ -8,9 +8,10 @@
 # DEMO_DATA=folder (default demo/data) and MODEL=file (default out/regimes.nc)
 # name a built demo (`./setup.sh demo`); BUILD=folder picks the build (default
 # build/, configured and built if the binaries are missing). isohypse runs
-# twice (the blend and --method logistic); the reference labels once and fits
-# both (`--method both`), so its time is that of both fits: the table also
-# gives it without the logistic fit. Run it on an otherwise idle machine.
+# three times (the blend, --method logistic, --method auto); the reference
+# labels once and fits both (`--method both`): the table sets the blend
+# against the reference without its logistic fit, and auto (both fits)
+# against the whole reference. Run it on an otherwise idle machine.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 DIR=${1:-/tmp/isohypse-calibrate-bench}
@@ -41,6 +42,11 @@ timed logistic "$BUILD/isohypse" calibrate --model "$MODEL" --reforecasts "$REFO
   --method logistic --out "$R/calibration_logistic.nc" --timings >"$R/logistic.out" 2>"$R/timings_logistic.txt"
 cat "$R/logistic.out" "$R/timings_logistic.txt"
 
+echo "== isohypse calibrate --method auto (both fits, as the demo runs it; compared with the reference's both)"
+timed auto "$BUILD/isohypse" calibrate --model "$MODEL" --reforecasts "$REFORECASTS" --lag 4 --weights exp:3 \
+  --method auto --out "$R/calibration_auto.nc" --timings >"$R/auto.out" 2>"$R/timings_auto.txt"
+cat "$R/auto.out" "$R/timings_auto.txt"
+
 echo "== numpy/netCDF4/scikit-learn reference (both methods)"
 timed reference "$PY" bench/calibrate_reference.py run --model "$MODEL" --reforecasts "$REFORECASTS" --lag 4 \
   --weights exp:3 --method both --out "$R/reference.json" | tee "$R/reference.out"
@@ -53,7 +59,7 @@ status=0
   | tee "$R/compare_logistic.txt" || status=1
 echo "== time and memory"
 "$PY" bench/calibrate_reference.py times --iso-time "$R/isohypse.time" --ref-time "$R/reference.time" \
-  --iso-timings "$R/timings.txt" --ref "$R/reference.json" | tee "$R/table.txt"
+  --iso-timings "$R/timings.txt" --ref "$R/reference.json" --auto-time "$R/auto.time" | tee "$R/table.txt"
 echo "   isohypse --method logistic: $(seconds "$(field "$R/logistic.time" "Elapsed (wall clock)")") s wall," \
   "$(cpu "$R/logistic.time") s CPU, $(($(field "$R/logistic.time" "Maximum resident set size") / 1024)) MB"
 exit $status

@@ -6,6 +6,7 @@
 
 #include <cmath>
 #include <numeric>
+#include <random>
 
 #include "isohypse/base/error.hpp"
 #include "isohypse/numerics/scores.hpp"
@@ -306,4 +307,52 @@ TEST_CASE("scores: contingency table orientation and checks") {
   CHECK_THROWS_AS(contingency({0, 2}, {0, 1}, 2), InputError);
   CHECK_THROWS_AS(contingency({0, 1}, {0, -1}, 2), InputError);
   CHECK_THROWS_AS(contingency({0}, {0}, 0), InputError);
+}
+
+// The mean of the binned reliability term under a reliable forecast, worked
+// by hand from var(obar_k) = (1/n_k^2) sum_(i, j in k, same event) (min(p_i, p_j) - p_i p_j)
+// (own derivation; with independent cases the bias that Ferro & Fricker 2012,
+// Q. J. R. Meteorol. Soc. 138, 1954-1960, correct for).
+TEST_CASE("scores: the reliability term that sampling alone gives a reliable forecast") {
+  // Two bins of width 0.5: {0.2, 0.4} and {0.6, 0.8}; N = 4.
+  const arma::vec p = {0.2, 0.4, 0.6, 0.8};
+  // Independent: (1/4) [(0.16 + 0.24) / 2 + (0.24 + 0.16) / 2] = 0.1.
+  CHECK(reliable_reliability(p, 2, 0, 0.9, 1).mean == doctest::Approx(0.1).epsilon(1e-14));
+  // Cases 0 and 1 one event: bin 0 adds 2 (min(0.2, 0.4) - 0.08) = 0.24, so (1/4) [(0.4 + 0.24) / 2 + 0.4 / 2] = 0.13.
+  CHECK(reliable_reliability(p, 2, 0, 0.9, 1, {7, 7, 8, 9}).mean == doctest::Approx(0.13).epsilon(1e-14));
+  // Events in different bins add nothing: cases 1 and 2 share one.
+  CHECK(reliable_reliability(p, 2, 0, 0.9, 1, {1, 5, 5, 3}).mean == doctest::Approx(0.1).epsilon(1e-14));
+  CHECK(std::isnan(reliable_reliability(p, 2, 0, 0.9, 1).upper));
+
+  // The redraws agree with the exact mean, and their 90 % quantile covers
+  // the REL of simulated reliable forecasts about 90 % of the time.
+  std::mt19937_64 rng(20261203);
+  std::uniform_real_distribution<double> unit(0.0, 1.0);
+  arma::vec q(300);
+  std::vector<std::int64_t> day(q.n_elem);
+  for (arma::uword i = 0; i < q.n_elem; ++i) {
+    q[i] = unit(rng);
+    day[i] = static_cast<std::int64_t>(i / 3);  // three cases per valid date, as leads 1-3 of daily issues
+  }
+  const ReliabilityFloor f = reliable_reliability(q, 10, 4000, 0.9, 11, day);
+  int covered = 0;
+  const int trials = 400;
+  double mean_rel = 0;
+  for (int t = 0; t < trials; ++t) {
+    arma::vec o(q.n_elem);
+    double u = 0;
+    for (arma::uword i = 0; i < q.n_elem; ++i) {
+      if (i % 3 == 0) u = unit(rng);  // one outcome per valid date
+      o[i] = u < q[i] ? 1.0 : 0.0;
+    }
+    const double rel = binned_brier_decomposition(q, o, 10).reliability;
+    mean_rel += rel / trials;
+    covered += rel <= f.upper;
+  }
+  CHECK(mean_rel == doctest::Approx(f.mean).epsilon(0.08));
+  CHECK(covered >= 0.85 * trials);
+  CHECK(covered <= 0.95 * trials);
+  CHECK_THROWS_AS(reliable_reliability(arma::vec(), 10, 0, 0.9, 1), InputError);
+  CHECK_THROWS_AS(reliable_reliability(p, 2, 0, 0.9, 1, {1, 2}), InputError);
+  CHECK_THROWS_AS(reliable_reliability(p, 1, 0, 0.9, 1), InputError);
 }

@@ -122,7 +122,9 @@ TEST_CASE("all months: every case is scored against the climatology of its valid
   CHECK(by_season.brier_skill == doctest::Approx(1 - bs / ((mcbs(season, 0) + mcbs(season, 2)) / 2)));
 
   // Per state: R1 forecast 0.6 and 0.2, observed 1 and 0.
-  const auto states = state_scores_json(cases, idx, state_climatology(planted_model(), true), 10);
+  VerifyConfig config;
+  config.reliability_bins = 10;
+  const auto states = state_scores_json(cases, idx, state_climatology(planted_model(), true), config, false);
   const double ref = (std::pow(1 - jan(0), 2) + std::pow(apr(0), 2)) / 2;
   CHECK(states["R1"]["brier_skill"].get<double>() == doctest::Approx(1 - ((0.16 + 0.04) / 2) / ref));
 }

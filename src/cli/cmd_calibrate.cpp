@@ -63,9 +63,9 @@ CalibrateProgress terminal_progress(bool show) {
 void print_timings(const CalibrateTimings& t, double model_s, double write_s) {
   std::fprintf(stderr,
                "calibrate timings (s): model %.3f | scan and observed %.3f | read, drift and labels on %d threads %.3f "
-               "(netCDF-C reads %.3f, summed over threads) | cases %.3f | fit and cross-validation %.3f | written %.3f "
+               "(netCDF-C reads %.3f, decoding %.3f, summed over threads) | cases %.3f | fit and cross-validation %.3f | written %.3f "
                "| total %.3f\n",
-               model_s, t.scan_s, t.threads, t.label_s, t.read_s, t.cases_s, t.fit_s, write_s,
+               model_s, t.scan_s, t.threads, t.label_s, t.read_s, t.decode_s, t.cases_s, t.fit_s, write_s,
                model_s + t.total_s + write_s);
 }
 

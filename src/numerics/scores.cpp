@@ -262,6 +262,59 @@ std::vector<ReliabilityBin> reliability_diagram_with_bars(const arma::vec& p, co
   return bins;
 }
 
+ReliabilityFloor reliable_reliability(const arma::vec& p, int n_bins, int resamples, double level,
+                                      std::uint64_t seed, const std::vector<std::int64_t>& event) {
+  if (p.is_empty()) throw InputError("reliable_reliability: no case");
+  if (!event.empty() && event.size() != p.n_elem)
+    throw InputError("reliable_reliability: " + std::to_string(event.size()) + " event keys for " +
+                     std::to_string(p.n_elem) + " cases");
+  if (n_bins < 2) throw InputError("reliable_reliability: at least 2 bins are needed; found " + std::to_string(n_bins));
+  if (resamples < 0) throw InputError("reliable_reliability: resamples must be 0 or more");
+  if (!(level > 0.0 && level < 1.0))
+    throw InputError("reliable_reliability: level must be in (0, 1); found " + std::to_string(level));
+  const arma::vec edges = fixed_width_edges(n_bins);
+  const std::size_t nb = static_cast<std::size_t>(n_bins);
+  // Each case's bin and its event's dense index (its own when no keys are given).
+  std::vector<std::size_t> bin(p.n_elem), ev(p.n_elem);
+  std::map<std::int64_t, std::size_t> dense;
+  std::vector<double> n(nb, 0.0), sum_p(nb, 0.0);
+  std::map<std::pair<std::size_t, std::size_t>, std::vector<double>> shared;  // (bin, event) -> p of its cases
+  for (arma::uword i = 0; i < p.n_elem; ++i) {
+    bin[i] = bin_of(p[i], edges);
+    ev[i] = event.empty() ? i : dense.emplace(event[i], dense.size()).first->second;
+    n[bin[i]] += 1.0;
+    sum_p[bin[i]] += p[i];
+    shared[{bin[i], ev[i]}].push_back(p[i]);
+  }
+  const std::size_t n_events = event.empty() ? p.n_elem : dense.size();
+  std::vector<double> var(nb, 0.0);  // n_k^2 var(obar_k)
+  for (const auto& [key, ps] : shared)
+    for (double a : ps)
+      for (double b : ps) var[key.first] += std::min(a, b) - a * b;
+  const double total = static_cast<double>(p.n_elem);
+  ReliabilityFloor f;
+  for (std::size_t b = 0; b < nb; ++b)
+    if (n[b] > 0) f.mean += var[b] / n[b] / total;
+  if (resamples == 0) {
+    f.upper = std::numeric_limits<double>::quiet_NaN();
+    return f;
+  }
+  std::mt19937_64 rng(seed);
+  std::vector<double> events(nb), u(n_events), rel(static_cast<std::size_t>(resamples));
+  for (double& r : rel) {
+    for (double& x : u) x = unit_uniform(rng);
+    std::fill(events.begin(), events.end(), 0.0);
+    for (arma::uword i = 0; i < p.n_elem; ++i) events[bin[i]] += u[ev[i]] < p[i];
+    r = 0.0;
+    for (std::size_t b = 0; b < nb; ++b)
+      if (n[b] > 0) r += (sum_p[b] - events[b]) * (sum_p[b] - events[b]) / n[b];  // n_k (pbar_k - obar_k)^2
+    r /= total;
+  }
+  std::sort(rel.begin(), rel.end());
+  f.upper = sorted_quantile(rel, level);
+  return f;
+}
+
 arma::umat contingency(const std::vector<int>& forecast, const std::vector<int>& observed, int K) {
   if (forecast.size() != observed.size() || forecast.empty()) {
     throw InternalError("contingency: forecast and observed labels must have the same, non-zero count; found " +

@@ -216,7 +216,9 @@ std::string decomposition_table(const json& rep, const std::vector<std::string>&
   std::ostringstream o;
   o << "<table><tr><th>lead days</th><th class=\"l\">regime</th><th>Brier score</th><th>reliability</th>"
        "<th>resolution</th><th>uncertainty</th><th>within-bin variance</th><th>within-bin covariance</th>"
-       "<th>reliability / Brier score</th><th>Brier skill vs climatology</th></tr>";
+       "<th>reliability from sampling alone: mean, upper</th>"
+       "<th>reliability / Brier score</th><th>beyond sampling / Brier score</th>"
+       "<th>Brier skill vs climatology</th></tr>";
   for (const auto& w : rep["windows"])
     for (const auto& s : states) {
       const json& r = w["regimes"][s];
@@ -225,8 +227,14 @@ std::string decomposition_table(const json& rep, const std::vector<std::string>&
       for (const char* key : {"brier", "reliability", "resolution", "uncertainty", "within_bin_variance",
                               "within_bin_covariance"})
         o << "<td>" << fmt(r[key], "%.4f") << "</td>";
-      o << "<td>" << fmt(number_or_null(reliability_share(r, w["cases"].get<double>())), "%.2f") << "</td><td>"
-        << fmt(r["brier_skill"]) << "</td></tr>";
+      o << "<td>" << fmt(r.value("reliability_sampling_mean", json()), "%.4f") << ", "
+        << fmt(r.value("reliability_sampling_upper", json()), "%.4f") << "</td>";
+      const double share = reliability_share(r, w["cases"].get<double>());
+      const double beyond = std::isfinite(share) && r.contains("reliability_beyond_sampling")
+                                ? r["reliability_beyond_sampling"].get<double>() / r["brier"].get<double>()
+                                : NAN;
+      o << "<td>" << fmt(number_or_null(share), "%.2f") << "</td><td>" << fmt(number_or_null(beyond), "%.2f")
+        << "</td><td>" << fmt(r["brier_skill"]) << "</td></tr>";
     }
   o << "</table>";
   return o.str();
@@ -680,10 +688,10 @@ std::string verification_html(const json& rep) {
 std::string reliability_share_text(const json& rep, const std::vector<std::string>& states) {
   std::ostringstream o;
   char cell[64];
-  o << "\nreliability / Brier score (" << rep["reliability"]["bins"]
+  o << "\nreliability / Brier score, (beyond sampling) / Brier score (" << rep["reliability"]["bins"]
     << " bins; '-': fewer than 10 days with or without the state)\nlead days";
   for (const auto& s : states) {
-    std::snprintf(cell, sizeof cell, " %9s", s.c_str());
+    std::snprintf(cell, sizeof cell, " %13s", s.c_str());
     o << cell;
   }
   o << "\n";
@@ -691,17 +699,29 @@ std::string reliability_share_text(const json& rep, const std::vector<std::strin
     std::snprintf(cell, sizeof cell, "%3d-%-3d  ", w["first_lead_days"].get<int>(), w["last_lead_days"].get<int>());
     o << cell;
     for (const auto& s : states) {
-      const double share = reliability_share(w["regimes"][s], w["cases"].get<double>());
-      if (std::isfinite(share))
-        std::snprintf(cell, sizeof cell, " %9.2f", share);
+      const json& r = w["regimes"][s];
+      const double share = reliability_share(r, w["cases"].get<double>());
+      const bool noise = r.contains("reliability_sampling_upper") && r["reliability_sampling_upper"].is_number() &&
+                         r["reliability"].get<double>() <= r["reliability_sampling_upper"].get<double>();
+      const double beyond = r.contains("reliability_beyond_sampling")
+                                ? r["reliability_beyond_sampling"].get<double>() / r["brier"].get<double>()
+                                : NAN;
+      if (std::isfinite(share) && std::isfinite(beyond))
+        std::snprintf(cell, sizeof cell, " %5.2f (%5.2f)%s", share, beyond, noise ? "~" : " ");
+      else if (std::isfinite(share))
+        std::snprintf(cell, sizeof cell, " %12.2f%s", share, noise ? "~" : " ");
       else
-        std::snprintf(cell, sizeof cell, " %9s", "-");
+        std::snprintf(cell, sizeof cell, " %13s", "-");
       o << cell;
     }
     o << "\n";
   }
-  o << "above 0.5 with observed frequencies outside the consistency bars (page, report): the probabilities are "
-       "mis-calibrated, not just noisy\n";
+  o << "beyond sampling: the reliability term less what sampling alone gives a reliable forecast with the same "
+       "probabilities on these cases (its mean; Ferro & Fricker 2012); ~: the term is within that sampling's "
+    << rep["bootstrap"].value("confidence", 0.9) * 100
+    << " % quantile, so these cases cannot tell it from 0 (the cases of one valid date share one outcome; "
+       "consecutive days are drawn apart, so the quantile is a lower bound). Above 0.5 without ~: the probabilities "
+       "are mis-calibrated, not just noisy\n";
   return o.str();
 }
 

@@ -105,12 +105,18 @@ for j, s in enumerate(states):
         want["resolution"] += m.sum() * (ok - y.mean()) ** 2 / len(p)
         want["within_bin_variance"] += ((p[m] - pk) ** 2).sum() / len(p)
         want["within_bin_covariance"] += 2 * ((y[m] - ok) * (p[m] - pk)).sum() / len(p)
+    # What sampling alone gives a reliable forecast (one case per valid date at one lead: independent cases):
+    # (1/N) sum_k (1/n_k) sum_(j in k) p_j (1 - p_j), the bias Ferro & Fricker (2012) correct the term for.
+    want["reliability_sampling_mean"] = sum((p[m] * (1 - p[m])).sum() / m.sum() for m in
+                                            (b == i for i in range(10) if (b == i).any())) / len(p)
+    want["reliability_beyond_sampling"] = want["reliability"] - want["reliability_sampling_mean"]
     got = lead5["regimes"][s]
     diff = max(abs(got[key] - v) for key, v in want.items())
     ident = got["reliability"] - got["resolution"] + got["uncertainty"] + got["within_bin_variance"] \
         - got["within_bin_covariance"] - got["brier"]
     check(diff < 1e-12 and abs(ident) < 1e-12,
-          f"lead 5, {s}: five Brier terms equal numpy to 1e-12 ({diff:.1e}), identity gap {ident:.1e}")
+          f"lead 5, {s}: five Brier terms and the reliability from sampling alone equal numpy to 1e-12 ({diff:.1e}), "
+          f"identity gap {ident:.1e}")
 mcb = np.mean([np.sum((ps[i] - np.eye(k + 1)[os_[i]]) ** 2) for i in range(len(issues))])
 check(abs(lead5["multicategory_brier"] - mcb) < 1e-12, f"lead 5 multi-category Brier {lead5['multicategory_brier']:.6f} = numpy {mcb:.6f}")
 

@@ -111,6 +111,31 @@ std::vector<ReliabilityBin> reliability_diagram(const arma::vec& p, const arma::
 std::vector<ReliabilityBin> reliability_diagram_with_bars(const arma::vec& p, const arma::vec& o, int n_bins,
                                                           int resamples, double level, std::uint64_t seed);
 
+// The reliability term that sampling alone gives a RELIABLE forecast with
+// the probabilities p, binned as binned_brier_decomposition bins them: case
+// j happens with its own probability p_j, as o_j = [u < p_j] with u uniform;
+// cases with the same `event` key (the same valid date scored from several
+// issues or leads: one observed outcome) share one u, other cases are
+// independent (no key: all independent). obar_k then has mean pbar_k and
+// variance (1/n_k^2) sum_(i, j in k, same event) (min(p_i, p_j) - p_i p_j),
+// so the mean is exact:
+//   E[REL] = (1/N) sum_k n_k var(obar_k)
+// (with independent cases (1/N) sum_k (1/n_k) sum_(j in k) p_j (1 - p_j):
+// the bias of the binned reliability term that Ferro & Fricker 2012,
+// Q. J. R. Meteorol. Soc. 138, 1954-1960, correct for; from memory).
+// `upper` is its `level` quantile from `resamples` redraws of the outcomes
+// (as the consistency bars, Broecker & Smith 2007), NaN when resamples is 0.
+// A REL below `upper` cannot be told from a reliable forecast's with these
+// cases. Consecutive days' events are still drawn independently, so with
+// persistent weather this remains a lower bound of what sampling can
+// produce. Throws InputError for an empty p, an event key list of another
+// length, n_bins < 2, resamples < 0 or level outside (0, 1).
+struct ReliabilityFloor {
+  double mean = 0.0, upper = 0.0;
+};
+ReliabilityFloor reliable_reliability(const arma::vec& p, int n_bins, int resamples, double level,
+                                      std::uint64_t seed, const std::vector<std::int64_t>& event = {});
+
 // K x K contingency table of categorical forecasts against observations:
 // ROWS are forecast categories, COLUMNS observed categories; entry (i, j)
 // counts cases forecast i and observed j. Throws InputError when the sizes

@@ -54,7 +54,8 @@ inline constexpr std::size_t kMinCasesPerLead = 30;
 
 struct CalibrateTimings {
   double scan_s = 0, label_s = 0, cases_s = 0, fit_s = 0, total_s = 0;
-  double read_s = 0;  // of label_s: netCDF-C reads, summed over the threads
+  double read_s = 0;    // of label_s: netCDF-C reads, summed over the threads
+  double decode_s = 0;  // of label_s: inflating, unpacking and regridding what was read, summed likewise
   int threads = 0;
 };
 

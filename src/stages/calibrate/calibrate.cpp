@@ -111,6 +111,7 @@ Calibration calibrate_reforecasts(const RegimeModel& model, const CalibrateConfi
   const ReforecastLabels labels = label_reforecasts(model, cfg, set, report);
   time.label_s = clock.lap();
   time.read_s = labels.read_s;
+  time.decode_s = labels.decode_s;
   time.threads = labels.threads;
   const CalibrationCases cases = calibration_cases(model, set, labels, observed);
   time.cases_s = clock.lap();

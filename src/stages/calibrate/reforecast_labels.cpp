@@ -119,26 +119,40 @@ Plan make_plan(const ReforecastSet& set, int window_days) {
 }
 
 // The drift of initialisation i from the other season years: its group's
-// total less its own season year's part.
+// total less its own season year's part, divided by the members left.
 arma::fmat other_years_drift(const ReforecastSet& set, const Plan& plan, const std::vector<DriftSum>& sums,
                              std::size_t i, const std::vector<Date>& dates, int smoothing_days) {
   const DriftGroup& g = plan.groups[plan.group[i]];
-  arma::mat total = g.total;
+  std::vector<const float*> own;
   std::size_t members = g.members;
   for (std::size_t j : g.near)
     if (set.season_year[j] == set.season_year[i]) {
-      total -= arma::conv_to<arma::mat>::from(sums[j].difference.cols(0, total.n_cols - 1));
+      own.push_back(sums[j].difference.memptr());
       members -= sums[j].members;
     }
-  return mean_drift(total, members, dates, smoothing_days);
+  if (members == 0) throw InternalError("other_years_drift: no member of another season year");
+  // Columns 0..leads-1 of a sum are its first n_points * leads values.
+  const std::size_t n = g.total.n_elem;
+  const double* total = g.total.memptr();
+  const double scale = 1.0 / static_cast<double>(members);
+  arma::mat mean(g.total.n_rows, g.total.n_cols);
+  double* out = mean.memptr();
+  for (std::size_t e = 0; e < n; ++e) {
+    double t = total[e];
+    for (const float* o : own) t -= o[e];
+    out[e] = t * scale;
+  }
+  return mean_drift(mean, 1, dates, smoothing_days);
 }
 
 void form_total(DriftGroup& g, const std::vector<DriftSum>& sums) {
-  const arma::uword leads = g.leads;
-  g.total.zeros(sums[g.near.front()].difference.n_rows, leads);
+  g.total.zeros(sums[g.near.front()].difference.n_rows, g.leads);
   g.members = 0;
+  const std::size_t n = g.total.n_elem;  // columns 0..leads-1 of each sum: its first n values
+  double* total = g.total.memptr();
   for (std::size_t j : g.near) {
-    g.total += arma::conv_to<arma::mat>::from(sums[j].difference.cols(0, leads - 1));
+    const float* d = sums[j].difference.memptr();
+    for (std::size_t e = 0; e < n; ++e) total[e] += d[e];
     g.members += sums[j].members;
   }
 }
@@ -193,6 +207,7 @@ ReforecastLabels label_reforecasts(const RegimeModel& model, const CalibrateConf
     const std::size_t i = plan.order[r];
     const auto w = workers.lease();
     const arma::fmat climate = model.climatology.evaluate(lead_dates(set.inits[i]));
+    if (held[i]) fields[i].reserve(slots[r].second - slots[r].first);  // a growing vector would copy the fields
     for (std::size_t k = slots[r].first; k < slots[r].second; ++k) {
       reader.fetch(k, netcdf, w->work, &w->times);
       add_member(sums[i], w->work.heights, climate);
@@ -258,7 +273,10 @@ ReforecastLabels label_reforecasts(const RegimeModel& model, const CalibrateConf
     report("read and label", static_cast<int>(labelled), static_cast<int>(n));
   }
   out.threads = static_cast<int>(workers.all().size());
-  for (const auto& w : workers.all()) out.read_s += w->times.read_s;
+  for (const auto& w : workers.all()) {
+    out.read_s += w->times.read_s;
+    out.decode_s += w->times.finish_s;
+  }
   return out;
 }
 

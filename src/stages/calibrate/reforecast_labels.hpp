@@ -21,7 +21,8 @@ struct ReforecastLabels {
   // labels[i][m]: member m of initialisation i, the state (0..k, k = no
   // regime) on each lead day.
   std::vector<std::vector<std::vector<int>>> labels;
-  double read_s = 0;  // netCDF-C reads, summed over the threads
+  double read_s = 0;    // netCDF-C reads, summed over the threads
+  double decode_s = 0;  // inflating, unpacking, daily means and regridding what was read, summed likewise
   int threads = 0;
 };
 

@@ -88,13 +88,16 @@ json headline_interval(const Cases& cases, const std::vector<std::size_t>& idx, 
 }
 
 json state_scores_json(const Cases& cases, const std::vector<std::size_t>& idx, const StateClimatology& climatology,
-                       int bins) {
+                       const VerifyConfig& config, bool resample) {
+  const int bins = config.reliability_bins;
   const std::vector<std::string>& states = climatology.states;
   json out = json::object();
   for (std::size_t s = 0; s < states.size(); ++s) {
     arma::vec p(idx.size()), o(idx.size()), pc(idx.size());
+    std::vector<std::int64_t> valid(idx.size());  // the cases of one valid date share its observed outcome
     for (std::size_t j = 0; j < idx.size(); ++j) {
       const Case& c = cases.list[idx[j]];
+      valid[j] = c.valid;
       p(j) = c.p(s);
       o(j) = c.observed == static_cast<int>(s) ? 1.0 : 0.0;
       pc(j) = climatology.reference(c.month)(s);  // the season's frequency, or the valid month's (--all-months)
@@ -107,6 +110,11 @@ json state_scores_json(const Cases& cases, const std::vector<std::size_t>& idx, 
                       {"within_bin_covariance", parts.within_bin_covariance},
                       {"base_rate", parts.base_rate},   {"brier_skill", num(skill_score(parts.brier, bs_clim))},
                       {"roc_area", num(roc_area(p, o))}};
+    const ReliabilityFloor floor = reliable_reliability(p, bins, resample ? kConsistencyResamples : 0,
+                                                        config.confidence, config.seed + s, valid);
+    out[states[s]]["reliability_sampling_mean"] = floor.mean;
+    out[states[s]]["reliability_beyond_sampling"] = parts.reliability - floor.mean;  // Ferro & Fricker (2012)
+    if (resample) out[states[s]]["reliability_sampling_upper"] = floor.upper;
   }
   return out;
 }

@@ -39,12 +39,19 @@ HeadlineScores headline_scores(const Cases& cases, const std::vector<std::size_t
 nlohmann::json headline_interval(const Cases& cases, const std::vector<std::size_t>& idx,
                                  const StateClimatology& climatology, Headline which, const VerifyConfig& config);
 
-// Per state: Brier score and its five-term decomposition over `bins` bins of
-// fixed width (reliability, resolution, uncertainty, within_bin_variance,
-// within_bin_covariance: brier = REL - RES + UNC + WBV - WBC; Stephenson et
-// al. 2008), base rate, Brier skill against climatology and ROC area.
+// Per state: Brier score and its five-term decomposition over
+// config.reliability_bins bins of fixed width (reliability, resolution,
+// uncertainty, within_bin_variance, within_bin_covariance: brier = REL - RES
+// + UNC + WBV - WBC; Stephenson et al. 2008), base rate, Brier skill against
+// climatology and ROC area; reliability_sampling_mean, what sampling alone
+// gives a reliable forecast with these probabilities (numerics/scores.hpp
+// reliable_reliability; the cases of one valid date share its outcome),
+// reliability_beyond_sampling = reliability - that mean (the bias-corrected
+// term of Ferro & Fricker 2012), and with `resample` the sampling term's
+// config.confidence quantile reliability_sampling_upper
+// (kConsistencyResamples redraws, config.seed).
 nlohmann::json state_scores_json(const Cases& cases, const std::vector<std::size_t>& idx,
-                                 const StateClimatology& climatology, int bins);
+                                 const StateClimatology& climatology, const VerifyConfig& config, bool resample);
 
 // Resamples behind each consistency bar of the reliability diagram.
 inline constexpr int kConsistencyResamples = 1000;

@@ -19,7 +19,7 @@ nlohmann::json scores_by_lead(const Cases& cases, const StateClimatology& climat
                        {"multicategory_brier_skill", number_or_null(b.brier_skill)},
                        {"multicategory_brier_skill_interval",
                         headline_interval(cases, idx, climatology, Headline::BrierSkill, config)},
-                       {"regimes", state_scores_json(cases, idx, climatology, config.reliability_bins)}});
+                       {"regimes", state_scores_json(cases, idx, climatology, config, false)}});
   }
   return by_lead;
 }

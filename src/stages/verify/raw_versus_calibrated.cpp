@@ -16,7 +16,7 @@ json version_json(const Cases& cases, const std::vector<std::size_t>& idx, const
                   const VerifyConfig& config) {
   const HeadlineScores b = headline_scores(cases, idx, climatology);
   double reliability = 0;
-  const json by_state = state_scores_json(cases, idx, climatology, config.reliability_bins);
+  const json by_state = state_scores_json(cases, idx, climatology, config, false);
   for (const auto& [state, scores] : by_state.items()) reliability += scores["reliability"].get<double>();
   return {{"hit_rate", number_or_null(b.hit_rate)},
           {"multicategory_brier", number_or_null(b.brier)},

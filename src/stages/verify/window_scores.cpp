@@ -19,7 +19,7 @@ nlohmann::json scores_by_window(const Cases& cases, const StateClimatology& clim
                        {"heidke", interval(Headline::Heidke)},
                        {"multicategory_brier", number_or_null(headline_scores(cases, idx, climatology).brier)},
                        {"multicategory_brier_skill", interval(Headline::BrierSkill)},
-                       {"regimes", state_scores_json(cases, idx, climatology, config.reliability_bins)},
+                       {"regimes", state_scores_json(cases, idx, climatology, config, true)},
                        {"reliability", reliability_json(cases, idx, climatology.states.size(), config)},
                        {"frequency_bias", frequency_bias_json(cases, idx, climatology.states)}});
   }
