@@ -289,13 +289,7 @@ TimeUnits parse_time_units(std::string_view units, Calendar cal) {
     throw InputError("time units '" + tu.text + "' are not of the form 'UNIT since DATE'");
   std::string unit = trim(t.substr(0, since));
   std::string ref = trim(t.substr(since + 7));
-  if (unit == "days" || unit == "day" || unit == "d") tu.seconds_per_unit = 86400.0;
-  else if (unit == "hours" || unit == "hour" || unit == "hrs" || unit == "hr" || unit == "h")
-    tu.seconds_per_unit = 3600.0;
-  else if (unit == "minutes" || unit == "minute" || unit == "mins" || unit == "min")
-    tu.seconds_per_unit = 60.0;
-  else if (unit == "seconds" || unit == "second" || unit == "secs" || unit == "sec" || unit == "s")
-    tu.seconds_per_unit = 1.0;
+  if (const auto per = duration_seconds_per_unit(unit)) tu.seconds_per_unit = *per;
   else if (unit == "months" || unit == "month") tu.step = TimeUnits::Step::Months;
   else if (unit == "years" || unit == "year")
     throw InputError("time units '" + tu.text +
@@ -370,6 +364,24 @@ Instant decode_time(double value, const TimeUnits& units) {
   double days = std::floor(total / 86400.0);
   double sod = total - days * 86400.0;
   return Instant{add_days(units.epoch, static_cast<std::int64_t>(days)), sod};
+}
+
+std::optional<double> duration_seconds_per_unit(std::string_view units) {
+  const std::string u = lower(trim(units));
+  if (u == "days" || u == "day" || u == "d") return 86400.0;
+  if (u == "hours" || u == "hour" || u == "hrs" || u == "hr" || u == "h") return 3600.0;
+  if (u == "minutes" || u == "minute" || u == "mins" || u == "min") return 60.0;
+  if (u == "seconds" || u == "second" || u == "secs" || u == "sec" || u == "s") return 1.0;
+  return std::nullopt;
+}
+
+Instant add_duration(const Instant& from, double value, double seconds_per_unit) {
+  TimeUnits tu;
+  tu.seconds_per_unit = seconds_per_unit;
+  tu.epoch = from.date;
+  tu.epoch_seconds_of_day = from.seconds_of_day;
+  tu.text = "a duration";
+  return decode_time(value, tu);
 }
 
 int position_in_365_day_year(const Date& d) {

@@ -64,10 +64,11 @@ HeightDataset HeightDataset::open(const std::string& path, const std::string& va
   detail::read_height_units(f, impl->var, info);
   info.packing = detail::read_packing(f, impl->var);
   impl->roles = detail::dimension_roles(f, impl->var);
+  const detail::LeadLayout lead = detail::settle_lead_axis(f, impl->var, impl->roles, info);
   const detail::AxisPositions at = detail::axis_positions(f, impl->var, impl->roles, info);
   detail::read_horizontal_axes(f, impl->var, at, info);
   detail::choose_level(f, impl->var, at, level_hpa, info);
-  detail::read_time_axis(f, impl->var, at, info);
+  detail::read_time_axis(f, impl->var, at, lead, info);
   detail::read_member_axis(f, impl->var, at, info);
   return HeightDataset(std::move(impl));
 }
@@ -184,6 +185,7 @@ void hyperslab(const std::vector<Role>& roles, const Wanted& w, std::size_t leve
       case Role::Lat: start.push_back(w.lat0); cnt.push_back(w.nlat); break;
       case Role::Lon: start.push_back(w.lon0); cnt.push_back(w.nlon); break;
       case Role::Member: start.push_back(member); cnt.push_back(1); break;
+      case Role::Lead:  // settle_lead_axis made the lead the time axis
       case Role::Other: start.push_back(0); cnt.push_back(1); break;
     }
   }

@@ -2,8 +2,10 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <optional>
 #include <set>
+#include <sstream>
 
 #include "io/metadata_text.hpp"
 #include "isohypse/base/error.hpp"
@@ -41,6 +43,8 @@ Role role_of(const nc::File& f, const nc::Dim& dim) {
   const std::string n = lower(dim.name);
   if (is_lat_units(units) || sn == "latitude" || axis == "y" || n == "lat" || n == "latitude") return Role::Lat;
   if (is_lon_units(units) || sn == "longitude" || axis == "x" || n == "lon" || n == "longitude") return Role::Lon;
+  // A lead: a duration ("days", "hours": no "since") or forecast_period, before the time axis (a lead may say axis T).
+  if (duration_seconds_per_unit(units) || sn == "forecast_period") return Role::Lead;
   if (lower(units).find(" since ") != std::string::npos || sn == "time" || axis == "t" || n == "time")
     return Role::Time;
   if (hpa_per_unit(units) > 0 || sn == "air_pressure" || axis == "z" || n == "level" || n == "lev" || n == "plev" ||
@@ -112,12 +116,126 @@ void check_single_level(const nc::File& f, const nc::Var& var, double level_hpa,
                                " hPa)";
 }
 
+// A time coordinate: its calendar and decoded values (units "UNIT since DATE").
+std::vector<Instant> decoded_times(const nc::File& f, const nc::Var& v, Calendar& calendar) {
+  calendar = parse_calendar(f.text_att(v.id, "calendar").value_or("standard"));
+  const TimeUnits tu = parse_time_units(f.text_att(v.id, "units").value_or(""), calendar);
+  std::vector<Instant> out;
+  for (double x : f.read_all(v.id)) out.push_back(decode_time(x, tu));
+  return out;
+}
+
+// The valid-time coordinate of a lead layout: a variable named in var's
+// `coordinates` attribute whose only dimension is the lead's and whose units
+// are "UNIT since DATE".
+std::optional<nc::Var> valid_time_coordinate(const nc::File& f, const nc::Var& var, int lead_dim) {
+  std::istringstream names(f.text_att(var.id, "coordinates").value_or(""));
+  for (std::string name; names >> name;) {
+    const auto v = f.find_var(name);
+    if (v && v->dims.size() == 1 && v->dims[0] == lead_dim &&
+        lower(f.text_att(v->id, "units").value_or("")).find(" since ") != std::string::npos)
+      return v;
+  }
+  return std::nullopt;
+}
+
+// The scalar reference time: a variable of standard_name
+// forecast_reference_time, or named so, without dimensions.
+std::optional<nc::Var> reference_time_variable(const nc::File& f) {
+  for (const nc::Var& v : f.vars())
+    if (v.dims.empty() && (lower(f.text_att(v.id, "standard_name").value_or("")) == "forecast_reference_time" ||
+                           v.name == "forecast_reference_time"))
+      return v;
+  return std::nullopt;
+}
+
+// "YYYY-MM-DD HH:MM" (UTC).
+std::string instant_text(const Instant& t) {
+  const int minutes = static_cast<int>(std::lround(t.seconds_of_day / 60.0));
+  char hm[16];
+  std::snprintf(hm, sizeof hm, " %02d:%02d", minutes / 60, minutes % 60);
+  return to_string(t.date) + hm;
+}
+
+// Seconds between two instants of one calendar.
+double seconds_apart(const Instant& a, const Instant& b) {
+  return static_cast<double>(days_between(a.date, b.date)) * 86400.0 + b.seconds_of_day - a.seconds_of_day;
+}
+
+void read_lead_times(const nc::File& f, const nc::Var& var, const LeadLayout& lead, DatasetInfo& info) {
+  const nc::Dim d = f.dim(var.dims[static_cast<std::size_t>(lead.lead)]);
+  const auto cv = f.coordinate_var(d);
+  if (!cv) throw DataError(info.path + ": lead dimension '" + d.name + "' has no coordinate variable");
+  const std::string units = f.text_att(cv->id, "units").value_or("");
+  const auto per = duration_seconds_per_unit(units);
+  if (!per)
+    throw DataError(info.path + ": lead coordinate '" + d.name + "' has " +
+                    (units.empty() ? std::string("no units") : "units '" + units + "'") +
+                    ": a lead needs duration units (days, hours, minutes or seconds, without 'since')");
+  const std::vector<double> steps = f.read_all(cv->id);
+  std::optional<Instant> reference;
+  std::vector<Instant> valid;
+  Calendar calendar = Calendar::Standard;
+  try {
+    if (const auto rv = reference_time_variable(f)) reference = decoded_times(f, *rv, calendar).at(0);
+    else if (lead.init >= 0)
+      if (const auto iv = f.coordinate_var(f.dim(var.dims[static_cast<std::size_t>(lead.init)])))
+        reference = decoded_times(f, *iv, calendar).at(0);
+    if (const auto vv = valid_time_coordinate(f, var, d.id)) valid = decoded_times(f, *vv, calendar);
+  } catch (const Error& e) {
+    throw DataError(info.path + ": the times of lead '" + d.name + "': " + e.what());
+  }
+  if (!reference && valid.empty())
+    throw DataError(info.path + ": lead '" + d.name + "' has neither a forecast_reference_time nor a valid-time "
+                    "coordinate (named in the variable's 'coordinates' attribute) to say when it starts");
+  if (!reference) reference = add_duration(valid.front(), -steps.front(), *per);
+  for (std::size_t i = 0; i < steps.size(); ++i) {
+    const Instant t = add_duration(*reference, steps[i], *per);
+    if (!valid.empty() && std::abs(seconds_apart(t, valid[i])) > 60.0)
+      throw DataError(info.path + ": valid time " + std::to_string(i) + " (" + instant_text(valid[i]) +
+                      ") disagrees with the reference time plus lead " + number_text(steps[i]) + " " + units + " (" +
+                      instant_text(t) + ")");
+    info.times.push_back(valid.empty() ? t : valid[i]);
+  }
+  info.calendar = calendar;
+  info.reference_time = reference;
+  info.time_dim = d.name;
+  info.time_units = "lead '" + d.name + "' in " + units + " from " + instant_text(*reference);
+}
+
 }  // namespace
 
 std::vector<Role> dimension_roles(const nc::File& f, const nc::Var& var) {
   std::vector<Role> roles;
   for (int d : var.dims) roles.push_back(role_of(f, f.dim(d)));
   return roles;
+}
+
+LeadLayout settle_lead_axis(const nc::File& f, const nc::Var& var, std::vector<Role>& roles,
+                            const DatasetInfo& info) {
+  LeadLayout at;
+  const std::vector<std::string> names = dimension_names(f, var);
+  for (std::size_t i = 0; i < roles.size(); ++i) {
+    if (roles[i] == Role::Lead) {
+      if (at.lead >= 0)
+        throw DataError(info.path + ": variable '" + info.variable + "' has two lead dimensions ('" +
+                        names[static_cast<std::size_t>(at.lead)] + "', '" + names[i] + "')");
+      at.lead = static_cast<int>(i);
+    }
+  }
+  if (at.lead < 0) return at;
+  for (std::size_t i = 0; i < roles.size(); ++i) {
+    if (roles[i] != Role::Time) continue;
+    if (f.dim(var.dims[i]).length != 1)
+      throw DataError(info.path + ": variable '" + info.variable + "' has a time dimension '" + names[i] + "' of " +
+                      std::to_string(f.dim(var.dims[i]).length) + " initialisations beside its lead '" +
+                      names[static_cast<std::size_t>(at.lead)] +
+                      "': isohypse reads one initialisation per file; split the file by initialisation");
+    at.init = static_cast<int>(i);
+    roles[i] = Role::Other;
+  }
+  roles[static_cast<std::size_t>(at.lead)] = Role::Time;
+  return at;
 }
 
 AxisPositions axis_positions(const nc::File& f, const nc::Var& var, const std::vector<Role>& roles,
@@ -169,7 +287,12 @@ void choose_level(const nc::File& f, const nc::Var& var, const AxisPositions& at
   else check_single_level(f, var, level_hpa, info);
 }
 
-void read_time_axis(const nc::File& f, const nc::Var& var, const AxisPositions& at, DatasetInfo& info) {
+void read_time_axis(const nc::File& f, const nc::Var& var, const AxisPositions& at, const LeadLayout& lead,
+                    DatasetInfo& info) {
+  if (lead.lead >= 0) {
+    read_lead_times(f, var, lead, info);
+    return;
+  }
   if (at.time < 0)
     throw DataError(info.path + ": variable '" + info.variable + "' (dims " + join(dimension_names(f, var)) +
                     ") has no time dimension (looked for a coordinate with units 'UNIT since DATE')");

@@ -12,11 +12,27 @@
 
 namespace isohypse::detail {
 
-enum class Role { Time, Level, Lat, Lon, Member, Other };
+enum class Role { Time, Lead, Level, Lat, Lon, Member, Other };
 
 // The role of each dimension of `var`, slowest first, from its coordinate's
 // units, standard_name or axis attribute, else from the dimension's name.
 std::vector<Role> dimension_roles(const nc::File& file, const nc::Var& var);
+
+// A forecast's lead axis (CF forecast_period: a coordinate with duration
+// units, "days" or "hours" without "since", or standard_name
+// forecast_period), and the initialisation's time dimension of length 1
+// beside it, if any (-1: absent).
+struct LeadLayout {
+  int lead = -1, init = -1;
+};
+
+// When a dimension has Role::Lead, it becomes the variable's time axis
+// (roles[lead] = Time: its valid times are read by read_time_axis) and a time
+// dimension of length 1 beside it the initialisation (roles[init] = Other).
+// Throws DataError for two lead dimensions, or a time dimension longer than
+// 1 beside the lead (several initialisations in one file).
+LeadLayout settle_lead_axis(const nc::File& file, const nc::Var& var, std::vector<Role>& roles,
+                            const DatasetInfo& info);
 
 // Where each axis is among var's dimensions (-1: absent).
 struct AxisPositions {
@@ -42,8 +58,16 @@ void choose_level(const nc::File& file, const nc::Var& var, const AxisPositions&
 
 // info.time_dim, time_units, calendar, times and reference_time. Throws
 // DataError when there is no time dimension, it has no coordinate variable,
-// or its units or calendar cannot be decoded.
-void read_time_axis(const nc::File& file, const nc::Var& var, const AxisPositions& at, DatasetInfo& info);
+// or its units or calendar cannot be decoded. With a lead axis (lead.lead >=
+// 0, then at.time): the valid times are those of an auxiliary coordinate
+// over the lead dimension named in var's `coordinates` attribute (units
+// "UNIT since DATE"), else the reference time plus the lead; the reference
+// time is a scalar forecast_reference_time (by standard_name or name), else
+// the initialisation dimension's value. Throws DataError when the lead has
+// no duration units, when there is neither a reference time nor valid times,
+// or when the valid times disagree with the reference time plus the lead.
+void read_time_axis(const nc::File& file, const nc::Var& var, const AxisPositions& at, const LeadLayout& lead,
+                    DatasetInfo& info);
 
 // info.member_dim, members and member_numbers from a member dimension, or
 // info.member_number of a per-member file (a scalar realization/number/

@@ -56,6 +56,25 @@ std::string list_leads(const std::vector<int>& leads) {
   return s;
 }
 
+// Sub-daily steps are averaged to daily means of the valid date (UTC days,
+// the file's calendar). A day needs as many steps as the fullest day of the
+// file: the last lead day may fall short (a forecast that ends at 00 UTC of
+// its last date) and is then left out; a day short of steps before it is
+// refused, naming the day and its steps.
+void keep_complete_days(const std::string& path, const std::vector<Instant>& times,
+                        std::map<int, std::vector<std::size_t>>& steps) {
+  std::size_t full = 0;
+  for (const auto& [lead, idx] : steps) full = std::max(full, idx.size());
+  if (full <= 1) return;
+  if (steps.size() > 1 && steps.rbegin()->second.size() < full) steps.erase(std::prev(steps.end()));
+  for (const auto& [lead, idx] : steps)
+    if (idx.size() < full)
+      throw DataError(path + ": lead day " + std::to_string(lead) + " (" + to_string(times[idx.front()].date) +
+                      ") has " + std::to_string(idx.size()) + " of the " + std::to_string(full) +
+                      " sub-daily steps its other days have: its daily mean would be biased towards the hours "
+                      "present");
+}
+
 }  // namespace
 
 std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths, const std::string& variable,
@@ -83,6 +102,7 @@ std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths
                         ") is before the initialisation " + to_string(init));
       steps[static_cast<int>(lead)].push_back(i);
     }
+    keep_complete_days(p, in.times, steps);
     std::vector<int> missing;
     const int n_leads = steps.rbegin()->first + 1;
     for (int l = 0; l < n_leads; ++l)

@@ -1,5 +1,6 @@
 // Test support: reads heights with the isohypse reader and prints them as
-// JSON (grid, dates, values in metres with null for missing), so that the
+// JSON (grid, dates, values in metres with null for missing; with --member
+// also each step's hour of the day, the initialisation and the calendar), so that the
 // Python reference tests can compare with netCDF4-python.
 // usage: read_tool [--domain LAT0,LAT1,LONW,LONE] [--variable NAME]
 //                  [--daily-mean] [--member M] FILE...
@@ -32,7 +33,12 @@ int main(int argc, char** argv) {
       DomainSelection sel = ds.select(opt.domain);
       f.grid = sel.grid;
       f.values = ds.read(sel, 0, ds.info().times.size(), static_cast<std::size_t>(member));
-      for (const auto& t : ds.info().times) f.dates.push_back(t.date);
+      for (const auto& t : ds.info().times) {
+        f.dates.push_back(t.date);
+        j["hours"].push_back(t.seconds_of_day / 3600.0);
+      }
+      if (ds.info().reference_time) j["init"] = to_string(ds.info().reference_time->date);
+      j["calendar"] = calendar_name(ds.info().calendar);
     } else {
       ReadReport rep;
       f = read_heights(expand_paths(files), opt, &rep);

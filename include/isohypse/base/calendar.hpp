@@ -10,6 +10,7 @@
 #pragma once
 
 #include <cstdint>
+#include <optional>
 #include <string>
 #include <string_view>
 
@@ -100,5 +101,16 @@ TimeUnits parse_time_units(std::string_view units, Calendar cal);
 // Decodes one time value; rounds to the nearest second first so that
 // 0.9999999 days is the next midnight, not the previous day.
 Instant decode_time(double value, const TimeUnits& units);
+
+// Seconds per unit of a duration's units: "days", "hours", "minutes" or
+// "seconds" (and their abbreviations, as in parse_time_units), with no
+// "since": the units of a forecast's lead (CF forecast_period), including the
+// whole days or hours that Python writers store for time deltas. nullopt for
+// anything else (months and years have no fixed length).
+std::optional<double> duration_seconds_per_unit(std::string_view units);
+// `from` plus value x seconds_per_unit seconds, in from's calendar (rounded
+// to the second as decode_time rounds). Throws DataError for a value that is
+// not finite.
+Instant add_duration(const Instant& from, double value, double seconds_per_unit);
 
 }  // namespace isohypse
