@@ -251,6 +251,61 @@ void write_model_run(const Surface& surface, const Date& init, const std::vector
   });
 }
 
+void write_model_run_steps(const Surface& surface, const Date& init, const std::vector<Trajectory>& runs,
+                           const std::string& path) {
+  const std::vector<double> lat = forecast_lat(), lon = forecast_lon();
+  const auto members = static_cast<arma::uword>(runs.size());
+  arma::mat coefs(runs.front().coefs.n_rows, members * kLeads);
+  for (arma::uword m = 0; m < members; ++m) coefs.cols(m * kLeads, (m + 1) * kLeads - 1) = runs[m].coefs;
+  const arma::mat h = surface.heights(coefs);  // points x (member, lead)
+  // Stored (step, member, point) as geopotential, the heights rounded to 0.5 m as write_model_run rounds them.
+  const std::size_t points = h.n_rows;
+  std::vector<float> values(h.n_elem);
+  for (arma::uword m = 0; m < members; ++m)
+    for (arma::uword l = 0; l < static_cast<arma::uword>(kLeads); ++l)
+      for (std::size_t p = 0; p < points; ++p)
+        values[(l * members + m) * points + p] =
+            static_cast<float>(std::round(h(p, m * kLeads + l) * 2.0) / 2.0 * 9.80665);
+  const std::string units = "hours since " + isohypse::to_string(init) + " 00:00:00";
+  std::vector<double> step(kLeads), valid(kLeads), member(members);
+  for (std::size_t l = 0; l < step.size(); ++l) step[l] = valid[l] = 24.0 * static_cast<double>(l);
+  for (std::size_t m = 0; m < member.size(); ++m) member[m] = static_cast<double>(m);
+
+  write_netcdf(path, Format::Netcdf4, [&](nc::File& f) {
+    f.put_att(NC_GLOBAL, "title", "Invented ensemble forecast of 500 hPa geopotential, initialised " +
+                                      isohypse::to_string(init) + " 00 UTC (lead layout)");
+    int d_time = f.def_dim("time", 1);
+    int d_step = f.def_dim("step", step.size());
+    int d_member = f.def_dim("member", member.size());
+    int d_lat = f.def_dim("y", lat.size());
+    int d_lon = f.def_dim("x", lon.size());
+    int v_time = f.def_var("time", NC_DOUBLE, {d_time});
+    put_texts(f, v_time, {{"units", units}, {"calendar", "noleap"}, {"standard_name", "forecast_reference_time"}});
+    int v_step = f.def_var("step", NC_INT, {d_step});
+    put_texts(f, v_step, {{"units", "hours"}, {"standard_name", "forecast_period"}});
+    int v_valid = f.def_var("valid_time", NC_DOUBLE, {d_step});
+    put_texts(f, v_valid, {{"units", units}, {"calendar", "noleap"}, {"standard_name", "time"}});
+    int v_member = f.def_var("member", NC_INT, {d_member});
+    put_texts(f, v_member, {{"standard_name", "realization"}});
+    int v_lat = f.def_var("y", NC_FLOAT, {d_lat});
+    put_texts(f, v_lat, {{"units", "degrees_north"}, {"standard_name", "latitude"}});
+    int v_lon = f.def_var("x", NC_FLOAT, {d_lon});
+    put_texts(f, v_lon, {{"units", "degrees_east"}, {"standard_name", "longitude"}});
+    int v_z = f.def_var("z", NC_FLOAT, {d_time, d_step, d_member, d_lat, d_lon});
+    put_texts(f, v_z, {{"units", "m2 s-2"}, {"standard_name", "geopotential"}, {"coordinates", "valid_time"}});
+    f.deflate(v_z, 1);
+    f.end_define();
+    const double zero = 0.0;
+    f.write(v_time, {0}, {1}, &zero);
+    f.write_all(v_step, step);
+    f.write_all(v_valid, valid);
+    f.write_all(v_member, member);
+    f.write_all(v_lat, lat);
+    f.write_all(v_lon, lon);
+    f.write(v_z, {0, 0, 0, 0, 0}, {1, step.size(), member.size(), lat.size(), lon.size()}, values.data());
+  });
+}
+
 void write_patterns(const World& world, double step, const std::string& path) {
   const std::vector<double> lat = axis(20.0, 80.0, step), lon = axis(170.0, 320.0, step);
   const Points points = Points::product(lat, lon);

@@ -53,6 +53,14 @@ std::vector<Trajectory> model_run(const World& world, const isohypse::Date& init
 void write_model_run(const Surface& surface, const isohypse::Date& init, const std::vector<Trajectory>& runs,
                      const std::string& path);
 
+// The same run in another CF layout, as providers of sub-seasonal forecasts
+// ship it: `z` (time = 1 initialisation, step, member, lat, lon) as
+// geopotential in m2 s-2, the step a lead in whole hours (standard_name
+// forecast_period), valid_time(step) named in the variable's `coordinates`,
+// dimensions named otherwise than in write_model_run (y, x, member, step).
+void write_model_run_steps(const Surface& surface, const isohypse::Date& init, const std::vector<Trajectory>& runs,
+                           const std::string& path);
+
 // truth/patterns.nc: regime and drift patterns (m) on grid A's sector
 // (20N-80N, 170E-320E at `step` degrees, latitude ascending); a noise-only
 // world's file has the drift only (no regime dimension).

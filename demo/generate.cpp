@@ -272,6 +272,17 @@ void write_model_sets(const World& world, const Plan& plan, const Options& optio
                                              tally)},
                         {"members", plan.fc_members},
                         {"leads", kLeads}};
+  // The forecasts of the demo's issue date (2026-01-15, lag 4) again, in a lead layout (files.hpp).
+  const Date steps_last = isohypse::add_days(plan.fc_first, std::min(45, plan.fc_count - 1));
+  const std::vector<Run> steps_runs = daily_runs(isohypse::add_days(steps_last, -3), 4, "forecasts_steps");
+  tally.start();
+  for (const Run& r : steps_runs) {
+    write_model_run_steps(grid, r.init, model_run(world, r.init, plan.fc_members, skilful), tally.path(r.rel));
+    tally.add(r.rel);
+  }
+  truth["forecasts_steps"] = {{"files", tally.finish("forecasts_steps")},
+                              {"layout", "z(time=1, step, member, y, x) geopotential, step in hours, valid_time(step)"},
+                              {"same_as", "forecasts/ of the same initialisations"}};
   truth["reforecasts"] = {
       {"files", write_runs(world, grid, reforecast_runs(plan, plan.rf_year_first, plan.rf_year_last, "reforecasts"),
                            plan.rf_members, skilful, "reforecast_members.csv", "reforecasts", options, tally)},
@@ -344,7 +355,8 @@ void generate(const Options& options, std::ostream& log) {
   const auto t_start = std::chrono::steady_clock::now();
   std::error_code ec;
   for (const char* sub :
-       {"reanalysis", "analysis", "forecasts", "reforecasts", "forecasts_noskill", "reforecasts_noskill", "truth"}) {
+       {"reanalysis", "analysis", "forecasts", "forecasts_steps", "reforecasts", "forecasts_noskill", "reforecasts_noskill",
+        "truth"}) {
     const std::string name = sub;
     if (plan.only_reanalysis && name != "reanalysis" && !(plan.truth && name == "truth")) continue;
     fs::create_directories(fs::path(options.out) / sub, ec);

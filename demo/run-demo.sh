@@ -9,7 +9,7 @@ DATA=demo/data
 OUT=${ISOHYPSE_DEMO_OUT:-out}
 mkdir -p "$OUT"
 
-if [[ ! -f "$DATA/truth/truth.json" || ! -d "$DATA/reforecasts_noskill" ]]; then
+if [[ ! -f "$DATA/truth/truth.json" || ! -d "$DATA/reforecasts_noskill" || ! -d "$DATA/forecasts_steps" ]]; then
   echo "== generating the synthetic demo world in $DATA/ (invented data, no real place or organisation)"
   build/isohypse-demo-world --out "$DATA" --size full
 fi
@@ -38,6 +38,24 @@ echo "== isohypse classify: this morning's guidance (issue date 2026-01-15, the 
 "$BIN" classify --model "$OUT/regimes.nc" --forecasts "$DATA/forecasts/*.nc" --reforecasts "$DATA/reforecasts/*.nc" \
   --analysis "$DATA/analysis/*.nc" --lag 4 --weights exp:3 --issue-date 2026-01-15 \
   --calibration "$OUT/calibration.nc" --csv "$OUT/csv" --out "$OUT/guidance-2026-01-15.json"
+
+echo
+echo "== the same forecasts in a lead layout (z(time=1, step, member, y, x) in m2 s-2, the step in hours, valid_time(step)):"
+echo "   classify reads them by the CF rules; the raw probabilities equal those from the forecasts/ layout"
+"$BIN" inspect "$DATA/forecasts_steps/fc_20260115.nc"
+mkdir -p "$OUT/layouts"
+for set in forecasts forecasts_steps; do
+  "$BIN" classify --quiet --model "$OUT/regimes.nc" --forecasts "$DATA/$set/fc_2026011[2-5].nc" \
+    --reforecasts "$DATA/reforecasts/*.nc" --lag 4 --weights exp:3 --issue-date 2026-01-15 \
+    --csv "$OUT/layouts/$set" --out "$OUT/layouts/guidance-$set.json"
+done
+if cmp -s "$OUT/layouts/forecasts/daily.csv" "$OUT/layouts/forecasts_steps/daily.csv" &&
+  cmp -s "$OUT/layouts/forecasts/windows.csv" "$OUT/layouts/forecasts_steps/windows.csv"; then
+  echo "   daily.csv and windows.csv identical for the two layouts"
+else
+  echo "   the two layouts' guidance differs: see $OUT/layouts/" >&2
+  exit 1
+fi
 
 echo
 echo "== a season of guidance: one issue a day, 2025-12-04 to 2026-02-26, into $OUT/archive/"
