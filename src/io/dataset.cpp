@@ -172,9 +172,9 @@ std::vector<Wanted> boxes_to_read(const DatasetInfo& info, const DomainSelection
 }
 
 // The hyperslab (start and count per dimension of the variable) of box `w`
-// for steps [t0, t0 + count) of `member` at the chosen level.
+// for steps [t0, t0 + count) of `member` of initialisation `init` at the chosen level.
 void hyperslab(const std::vector<Role>& roles, const Wanted& w, std::size_t level_index, std::size_t t0,
-               std::size_t count, std::size_t member, std::vector<std::size_t>& start,
+               std::size_t count, std::size_t member, std::size_t init, std::vector<std::size_t>& start,
                std::vector<std::size_t>& cnt) {
   start.clear();
   cnt.clear();
@@ -185,6 +185,7 @@ void hyperslab(const std::vector<Role>& roles, const Wanted& w, std::size_t leve
       case Role::Lat: start.push_back(w.lat0); cnt.push_back(w.nlat); break;
       case Role::Lon: start.push_back(w.lon0); cnt.push_back(w.nlon); break;
       case Role::Member: start.push_back(member); cnt.push_back(1); break;
+      case Role::Init: start.push_back(init); cnt.push_back(1); break;
       case Role::Lead:  // settle_lead_axis made the lead the time axis
       case Role::Other: start.push_back(0); cnt.push_back(1); break;
     }
@@ -208,7 +209,7 @@ std::size_t set_strides(const std::vector<Role>& roles, const std::vector<std::s
 }  // namespace
 
 void HeightDataset::read_raw(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
-                             RawBlock& raw) const {
+                             RawBlock& raw, std::size_t init) const {
   const Impl& im = *impl_;
   const DatasetInfo& info = im.info;
   // The callers (the readers of this library) ask only for steps and members
@@ -216,6 +217,9 @@ void HeightDataset::read_raw(const DomainSelection& sel, std::size_t t0, std::si
   if (t0 + count > info.times.size())
     throw InternalError(info.path + ": time steps " + std::to_string(t0) + ".." + std::to_string(t0 + count) +
                         " asked but the file has " + std::to_string(info.times.size()));
+  if (init >= std::max<std::size_t>(1, info.init_times.size()))
+    throw InternalError(info.path + ": initialisation " + std::to_string(init) + " asked but the file has " +
+                        std::to_string(info.init_times.size()));
   if (member >= info.members)
     throw InternalError(info.path + ": member " + std::to_string(member) + " asked but the file has " +
                         std::to_string(info.members));
@@ -236,7 +240,7 @@ void HeightDataset::read_raw(const DomainSelection& sel, std::size_t t0, std::si
   std::size_t offset = 0;
   std::vector<std::size_t> start, cnt;
   for (const Wanted& w : wanted) {
-    hyperslab(im.roles, w, info.level_index, t0, count, member, start, cnt);
+    hyperslab(im.roles, w, info.level_index, t0, count, member, init, start, cnt);
     inflates_chunks();  // opens the chunk reader at the first read
     RawBlock::Box box;
     box.inflated = !(im.chunks && im.chunks->read(start, cnt, box.stored));

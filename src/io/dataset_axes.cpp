@@ -126,14 +126,14 @@ std::vector<Instant> decoded_times(const nc::File& f, const nc::Var& v, Calendar
 }
 
 // The valid-time coordinate of a lead layout: a variable named in var's
-// `coordinates` attribute whose only dimension is the lead's and whose units
-// are "UNIT since DATE".
-std::optional<nc::Var> valid_time_coordinate(const nc::File& f, const nc::Var& var, int lead_dim) {
+// `coordinates` attribute over the lead dimension (and the initialisation
+// dimension before it, if any) whose units are "UNIT since DATE".
+std::optional<nc::Var> valid_time_coordinate(const nc::File& f, const nc::Var& var, int lead_dim, int init_dim) {
   std::istringstream names(f.text_att(var.id, "coordinates").value_or(""));
   for (std::string name; names >> name;) {
     const auto v = f.find_var(name);
-    if (v && v->dims.size() == 1 && v->dims[0] == lead_dim &&
-        lower(f.text_att(v->id, "units").value_or("")).find(" since ") != std::string::npos)
+    if (!v || lower(f.text_att(v->id, "units").value_or("")).find(" since ") == std::string::npos) continue;
+    if (v->dims == std::vector<int>{lead_dim} || (init_dim >= 0 && v->dims == std::vector<int>{init_dim, lead_dim}))
       return v;
   }
   return std::nullopt;
@@ -162,6 +162,23 @@ double seconds_apart(const Instant& a, const Instant& b) {
   return static_cast<double>(days_between(a.date, b.date)) * 86400.0 + b.seconds_of_day - a.seconds_of_day;
 }
 
+// The initialisations' reference times: the initialisation dimension's
+// coordinate when it has several, else a scalar forecast_reference_time, else
+// the dimension's single value (none when there is none of these).
+std::vector<Instant> reference_times(const nc::File& f, const nc::Var& var, const LeadLayout& lead,
+                                     Calendar& calendar) {
+  const auto init_coordinate = [&]() -> std::optional<nc::Var> {
+    if (lead.init < 0) return std::nullopt;
+    return f.coordinate_var(f.dim(var.dims[static_cast<std::size_t>(lead.init)]));
+  }();
+  const bool several = lead.init >= 0 && f.dim(var.dims[static_cast<std::size_t>(lead.init)]).length > 1;
+  if (several && init_coordinate) return decoded_times(f, *init_coordinate, calendar);
+  if (!several)
+    if (const auto rv = reference_time_variable(f)) return {decoded_times(f, *rv, calendar).at(0)};
+  if (init_coordinate) return decoded_times(f, *init_coordinate, calendar);
+  return {};
+}
+
 void read_lead_times(const nc::File& f, const nc::Var& var, const LeadLayout& lead, DatasetInfo& info) {
   const nc::Dim d = f.dim(var.dims[static_cast<std::size_t>(lead.lead)]);
   const auto cv = f.coordinate_var(d);
@@ -173,34 +190,52 @@ void read_lead_times(const nc::File& f, const nc::Var& var, const LeadLayout& le
                     (units.empty() ? std::string("no units") : "units '" + units + "'") +
                     ": a lead needs duration units (days, hours, minutes or seconds, without 'since')");
   const std::vector<double> steps = f.read_all(cv->id);
-  std::optional<Instant> reference;
-  std::vector<Instant> valid;
+  const int init_dim = lead.init >= 0 ? var.dims[static_cast<std::size_t>(lead.init)] : -1;
+  const std::size_t n_inits = init_dim >= 0 ? f.dim(init_dim).length : 1;
+  std::vector<Instant> refs, valid;
   Calendar calendar = Calendar::Standard;
   try {
-    if (const auto rv = reference_time_variable(f)) reference = decoded_times(f, *rv, calendar).at(0);
-    else if (lead.init >= 0)
-      if (const auto iv = f.coordinate_var(f.dim(var.dims[static_cast<std::size_t>(lead.init)])))
-        reference = decoded_times(f, *iv, calendar).at(0);
-    if (const auto vv = valid_time_coordinate(f, var, d.id)) valid = decoded_times(f, *vv, calendar);
+    refs = reference_times(f, var, lead, calendar);
+    if (const auto vv = valid_time_coordinate(f, var, d.id, init_dim)) valid = decoded_times(f, *vv, calendar);
   } catch (const Error& e) {
     throw DataError(info.path + ": the times of lead '" + d.name + "': " + e.what());
   }
-  if (!reference && valid.empty())
+  if (refs.empty() && valid.empty())
     throw DataError(info.path + ": lead '" + d.name + "' has neither a forecast_reference_time nor a valid-time "
                     "coordinate (named in the variable's 'coordinates' attribute) to say when it starts");
-  if (!reference) reference = add_duration(valid.front(), -steps.front(), *per);
-  for (std::size_t i = 0; i < steps.size(); ++i) {
-    const Instant t = add_duration(*reference, steps[i], *per);
-    if (!valid.empty() && std::abs(seconds_apart(t, valid[i])) > 60.0)
-      throw DataError(info.path + ": valid time " + std::to_string(i) + " (" + instant_text(valid[i]) +
-                      ") disagrees with the reference time plus lead " + number_text(steps[i]) + " " + units + " (" +
-                      instant_text(t) + ")");
-    info.times.push_back(valid.empty() ? t : valid[i]);
+  if (!valid.empty() && valid.size() != n_inits * steps.size()) valid.clear();  // 1-D beside several inits: unused
+  if (refs.size() < n_inits && valid.empty())
+    throw DataError(info.path + ": the " + std::to_string(n_inits) + " initialisations along '" + f.dim(init_dim).name +
+                    "' have no times: give the dimension a time coordinate or a 2-D valid-time coordinate");
+  for (std::size_t k = 0; refs.size() < n_inits; ++k)  // inferred from the valid times
+    refs.push_back(add_duration(valid.at(k * steps.size()), -steps.front(), *per));
+  for (std::size_t k = 0; k < n_inits; ++k) {
+    std::vector<Instant> times;
+    for (std::size_t i = 0; i < steps.size(); ++i) {
+      const Instant t = add_duration(refs[k], steps[i], *per);
+      const std::size_t at = k * steps.size() + i;
+      if (!valid.empty() && std::abs(seconds_apart(t, valid[at])) > 60.0)
+        throw DataError(info.path + ": valid time " + std::to_string(i) + (n_inits > 1 ? " of initialisation " +
+                        std::to_string(k) : std::string()) + " (" + instant_text(valid[at]) + ") disagrees with "
+                        "the reference time plus lead " + number_text(steps[i]) + " " + units + " (" +
+                        instant_text(t) + ")");
+      times.push_back(valid.empty() ? t : valid[at]);
+    }
+    info.valid_by_init.push_back(std::move(times));
+  }
+  info.times = info.valid_by_init.front();
+  info.reference_time = refs.front();
+  if (n_inits > 1) {
+    info.init_dim = f.dim(init_dim).name;
+    info.init_times = refs;
+  } else {
+    info.valid_by_init.clear();
   }
   info.calendar = calendar;
-  info.reference_time = reference;
   info.time_dim = d.name;
-  info.time_units = "lead '" + d.name + "' in " + units + " from " + instant_text(*reference);
+  info.time_units = "lead '" + d.name + "' in " + units + " from " + instant_text(refs.front()) +
+                    (n_inits > 1 ? " (" + std::to_string(n_inits) + " initialisations along '" +
+                                       info.init_dim + "')" : std::string());
 }
 
 }  // namespace
@@ -226,13 +261,8 @@ LeadLayout settle_lead_axis(const nc::File& f, const nc::Var& var, std::vector<R
   if (at.lead < 0) return at;
   for (std::size_t i = 0; i < roles.size(); ++i) {
     if (roles[i] != Role::Time) continue;
-    if (f.dim(var.dims[i]).length != 1)
-      throw DataError(info.path + ": variable '" + info.variable + "' has a time dimension '" + names[i] + "' of " +
-                      std::to_string(f.dim(var.dims[i]).length) + " initialisations beside its lead '" +
-                      names[static_cast<std::size_t>(at.lead)] +
-                      "': isohypse reads one initialisation per file; split the file by initialisation");
     at.init = static_cast<int>(i);
-    roles[i] = Role::Other;
+    roles[i] = f.dim(var.dims[i]).length == 1 ? Role::Other : Role::Init;
   }
   roles[static_cast<std::size_t>(at.lead)] = Role::Time;
   return at;

@@ -12,7 +12,7 @@
 
 namespace isohypse::detail {
 
-enum class Role { Time, Lead, Level, Lat, Lon, Member, Other };
+enum class Role { Time, Lead, Init, Level, Lat, Lon, Member, Other };
 
 // The role of each dimension of `var`, slowest first, from its coordinate's
 // units, standard_name or axis attribute, else from the dimension's name.
@@ -28,9 +28,9 @@ struct LeadLayout {
 
 // When a dimension has Role::Lead, it becomes the variable's time axis
 // (roles[lead] = Time: its valid times are read by read_time_axis) and a time
-// dimension of length 1 beside it the initialisation (roles[init] = Other).
-// Throws DataError for two lead dimensions, or a time dimension longer than
-// 1 beside the lead (several initialisations in one file).
+// dimension beside it the initialisations (roles[init] = Other when of
+// length 1, else Init: several initialisations, or hindcast dates, in one
+// file). Throws DataError for two lead dimensions.
 LeadLayout settle_lead_axis(const nc::File& file, const nc::Var& var, std::vector<Role>& roles,
                             const DatasetInfo& info);
 

@@ -75,86 +75,108 @@ void keep_complete_days(const std::string& path, const std::vector<Instant>& tim
                       "present");
 }
 
-}  // namespace
+// Lead day -> the indices of an initialisation's steps on that day.
+std::map<int, std::vector<std::size_t>> lead_days(const std::string& p, const Date& init,
+                                                  const std::vector<Instant>& times) {
+  std::map<int, std::vector<std::size_t>> steps;
+  for (std::size_t i = 0; i < times.size(); ++i) {
+    std::int64_t lead = days_between(init, times[i].date);
+    if (lead < 0)
+      throw DataError(p + ": time step " + std::to_string(i) + " (" + to_string(times[i].date) +
+                      ") is before the initialisation " + to_string(init));
+    steps[static_cast<int>(lead)].push_back(i);
+  }
+  keep_complete_days(p, times, steps);
+  std::vector<int> missing;
+  const int n_leads = steps.rbegin()->first + 1;
+  for (int l = 0; l < n_leads; ++l)
+    if (!steps.count(l)) missing.push_back(l);
+  if (!missing.empty())
+    throw DataError(p + ": lead days missing: " + list_leads(missing) + " (of 0.." + std::to_string(n_leads - 1) + ")");
+  return steps;
+}
 
-std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths, const std::string& variable,
-                                           const Domain& domain, const Grid* target) {
-  if (paths.empty()) throw InputError("no forecast files given");
+struct Scan {
   std::map<std::int64_t, Initialisation> by_init;
   std::map<std::int64_t, std::set<int>> numbers;
   std::optional<Calendar> calendar;
   std::string first_path;
   Grid first_grid;
+};
+
+// The members of initialisation `init_index` of file p (its valid times
+// `times`) added to the scan.
+void add_file_initialisation(Scan& scan, const std::string& p, const DatasetInfo& in, const Date& init,
+                             const std::vector<Instant>& times, std::size_t init_index, const DomainSelection& sel,
+                             const Domain& used) {
+  const std::map<int, std::vector<std::size_t>> steps = lead_days(p, init, times);
+  const int n_leads = steps.rbegin()->first + 1;
+  const std::int64_t key = day_number(init);
+  Initialisation& it = scan.by_init[key];
+  if (it.files.empty()) {
+    it.init = init;
+    it.init_real = to_real_calendar(init);
+    it.n_leads = n_leads;
+    it.native_grid = sel.grid;
+    it.read_domain = used;
+    it.lead_steps.clear();
+    for (auto& [l, idx] : steps) it.lead_steps.push_back(idx);
+  } else if (it.n_leads != n_leads) {
+    throw DataError(p + ": " + std::to_string(n_leads) + " lead days, but " + it.files.front() + " of the same " +
+                    "initialisation has " + std::to_string(it.n_leads));
+  }
+  const std::size_t file_index = it.files.size();
+  it.files.push_back(p);
+  std::vector<int> file_numbers;
+  if (!in.member_dim.empty()) {
+    // The member coordinate's own numbers when it has them (1..50 stay 1..50).
+    if (in.member_numbers.size() == in.members) file_numbers = in.member_numbers;
+    else
+      for (std::size_t m = 0; m < in.members; ++m) file_numbers.push_back(static_cast<int>(it.members.size() + m));
+  } else {
+    file_numbers.push_back(in.member_number.value_or(static_cast<int>(it.members.size())));
+  }
+  for (std::size_t m = 0; m < file_numbers.size(); ++m) {
+    if (!scan.numbers[key].insert(file_numbers[m]).second)
+      throw DataError(p + ": member " + std::to_string(file_numbers[m]) + " of the initialisation " + to_string(init) +
+                      " appears twice (duplicate member)");
+    it.members.push_back({file_index, in.member_dim.empty() ? 0 : m, file_numbers[m], init_index});
+  }
+}
+
+}  // namespace
+
+std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths, const std::string& variable,
+                                           const Domain& domain, const Grid* target) {
+  if (paths.empty()) throw InputError("no forecast files given");
+  Scan scan;
   for (const std::string& p : paths) {
     HeightDataset ds = HeightDataset::open(p, variable);
     const DatasetInfo& in = ds.info();
     if (in.times.empty()) throw DataError(p + ": no time steps");
-    if (calendar && *calendar != in.calendar)
-      throw DataError(p + ": calendar " + calendar_name(in.calendar) + " differs from " + calendar_name(*calendar) +
-                      " in " + first_path);
-    Date init = in.reference_time ? in.reference_time->date : in.times.front().date;
-    // Lead day of each step.
-    std::map<int, std::vector<std::size_t>> steps;
-    for (std::size_t i = 0; i < in.times.size(); ++i) {
-      std::int64_t lead = days_between(init, in.times[i].date);
-      if (lead < 0)
-        throw DataError(p + ": time step " + std::to_string(i) + " (" + to_string(in.times[i].date) +
-                        ") is before the initialisation " + to_string(init));
-      steps[static_cast<int>(lead)].push_back(i);
-    }
-    keep_complete_days(p, in.times, steps);
-    std::vector<int> missing;
-    const int n_leads = steps.rbegin()->first + 1;
-    for (int l = 0; l < n_leads; ++l)
-      if (!steps.count(l)) missing.push_back(l);
-    if (!missing.empty())
-      throw DataError(p + ": lead days missing: " + list_leads(missing) + " (of 0.." + std::to_string(n_leads - 1) + ")");
-
+    if (scan.calendar && *scan.calendar != in.calendar)
+      throw DataError(p + ": calendar " + calendar_name(in.calendar) + " differs from " +
+                      calendar_name(*scan.calendar) + " in " + scan.first_path);
     Domain used;
     DomainSelection sel = select_for(ds, domain, target, used);
-    if (!calendar) {
-      calendar = in.calendar;
-      first_path = p;
-      first_grid = sel.grid;
-    } else if (!sel.grid.same_as(first_grid)) {
+    if (!scan.calendar) {
+      scan.calendar = in.calendar;
+      scan.first_path = p;
+      scan.first_grid = sel.grid;
+    } else if (!sel.grid.same_as(scan.first_grid)) {
       throw DataError(p + ": its grid (" + std::to_string(sel.grid.n_lat()) + " x " + std::to_string(sel.grid.n_lon()) +
-                      " points over the domain) differs from that of " + first_path + " (" +
-                      std::to_string(first_grid.n_lat()) + " x " + std::to_string(first_grid.n_lon()) + ")");
+                      " points over the domain) differs from that of " + scan.first_path + " (" +
+                      std::to_string(scan.first_grid.n_lat()) + " x " + std::to_string(scan.first_grid.n_lon()) + ")");
     }
-
-    const std::int64_t key = day_number(init);
-    Initialisation& it = by_init[key];
-    if (it.files.empty()) {
-      it.init = init;
-      it.init_real = to_real_calendar(init);
-      it.n_leads = n_leads;
-      it.native_grid = sel.grid;
-      it.read_domain = used;
-      it.lead_steps.clear();
-      for (auto& [l, idx] : steps) it.lead_steps.push_back(idx);
-    } else if (it.n_leads != n_leads) {
-      throw DataError(p + ": " + std::to_string(n_leads) + " lead days, but " + it.files.front() + " of the same " +
-                      "initialisation has " + std::to_string(it.n_leads));
-    }
-    const std::size_t file_index = it.files.size();
-    it.files.push_back(p);
-    std::vector<int> file_numbers;
-    if (!in.member_dim.empty()) {
-      // The member coordinate's own numbers when it has them (1..50 stay 1..50).
-      if (in.member_numbers.size() == in.members) file_numbers = in.member_numbers;
-      else
-        for (std::size_t m = 0; m < in.members; ++m)
-          file_numbers.push_back(static_cast<int>(it.members.size() + m));
-    } else {
-      file_numbers.push_back(in.member_number.value_or(static_cast<int>(it.members.size())));
-    }
-    for (std::size_t m = 0; m < file_numbers.size(); ++m) {
-      if (!numbers[key].insert(file_numbers[m]).second)
-        throw DataError(p + ": member " + std::to_string(file_numbers[m]) + " of the initialisation " + to_string(init) +
-                        " appears twice (duplicate member)");
-      it.members.push_back({file_index, in.member_dim.empty() ? 0 : m, file_numbers[m]});
+    if (in.init_times.empty()) {
+      const Date init = in.reference_time ? in.reference_time->date : in.times.front().date;
+      add_file_initialisation(scan, p, in, init, in.times, 0, sel, used);
+    } else {  // several initialisations (or hindcast dates) in the file
+      for (std::size_t k = 0; k < in.init_times.size(); ++k)
+        add_file_initialisation(scan, p, in, in.init_times[k].date, in.valid_by_init[k], k, sel, used);
     }
   }
+  auto& by_init = scan.by_init;
   std::vector<Initialisation> out;
   for (auto& [k, v] : by_init) out.push_back(std::move(v));
   return out;
@@ -279,7 +301,7 @@ void EnsembleReader::read(std::size_t k, RawBlock& raw) {
     it = open_.emplace(path, std::move(f)).first;
   }
   const HeightDataset& ds = it->second->ds;
-  ds.read_raw(it->second->sel, 0, ds.info().times.size(), ms.index, raw);
+  ds.read_raw(it->second->sel, 0, ds.info().times.size(), ms.index, raw, ms.init_index);
   if (--reads_left_[path] == 0) open_.erase(it);  // the file's last member: close it
 }
 

@@ -9,8 +9,10 @@ its expected valid dates:
 - zg(lead, lat, lon) with the lead in hours and only a valid-time coordinate (the initialisation inferred);
 values against netCDF4-python's masked, scaled read (geopotential height = geopotential / 9.80665, WMO
 standard gravity); then `classify` on the small invented world's forecasts rewritten into the first two layouts
-gives the same probabilities as on the originals. Bad input: a lead without units, valid times that disagree
-with the reference time plus the lead, two initialisations beside a lead: a clear message naming the file."""
+gives the same probabilities as on the originals. Several initialisations in one file (an initialisation dimension beside
+the lead, a 2-D valid time) and hindcasts (one file per day of the year, the past years along a dimension) give
+the guidance of one file per initialisation. Bad input: a lead without units, valid times that disagree with the
+reference time plus the lead (1-D and 2-D): a clear message naming the file."""
 import datetime
 import glob
 import json
@@ -129,12 +131,27 @@ with netCDF4.Dataset(p, "w") as ds:
 check_read("zg(leadtime, lat, lon), lead in hours, only a valid-time coordinate (noleap)", p, 0,
            [datetime.date(2026, 2, 4 + i) for i in range(5)], [12.0] * 5, datetime.date(2026, 2, 4), single)
 
+def two_inits_bad_valid(q):
+    """Two initialisations along `run` whose 2-D valid times disagree, for the second, with run + lead."""
+    with netCDF4.Dataset(q, "w") as ds:
+        horizontal(ds)
+        ds.createDimension("run", 2)
+        ds.createDimension("lead", 3)
+        ld = ds.createVariable("lead", "i4", ("lead",))
+        ld.units, ld.standard_name, ld[:] = "days", "forecast_period", [0, 1, 2]
+        t = ds.createVariable("run", "f8", ("run",))
+        t.units, t[:] = "days since 2026-01-01", [0, 1]
+        vt = ds.createVariable("valid_time", "f8", ("run", "lead"))
+        vt.units, vt[:] = "days since 2026-01-01", [[0, 1, 2], [2, 3, 4]]
+        z = ds.createVariable("zg", "f4", ("run", "lead", "lat", "lon"))
+        z.units, z.coordinates, z[:] = "m", "valid_time", np.full((2, 3, len(LAT), len(LON)), 5500.0, np.float32)
+
+
 # ---- bad input: one clear message naming the file, exit code 3 (damaged/unreadable data)
 for name, write, words in [
         ("no_units.nc", lambda q: lead_days_file(q, init, leads, 3, field, lead_units=""), ["lead", "no units"]),
         ("disagree.nc", lambda q: lead_days_file(q, init, leads, 3, field, valid_shift_hours=6), ["disagrees"]),
-        ("two_inits.nc", lambda q: step_hours_file(q, datetime.datetime(2026, 1, 15), steps, 2, six, n_times=2),
-         ["2 initialisations", "one initialisation per file"])]:
+        ("two_inits.nc", two_inits_bad_valid, ["valid time 0 of initialisation 1", "disagrees"])]:
     q = os.path.join(tmp, name)
     write(q)
     r = run([BIN, "inspect", q])
@@ -216,6 +233,72 @@ for layout, files in layouts.items():
     diff = np.abs(p0 - p1).max() if same else float("inf")
     check(same and diff <= 1e-6, f"classify on the {layout} layout (lag 3): the same {p0.shape[0]} daily "
           f"probabilities as on the demo layout (max difference {diff:.1e})")
+
+
+
+def stacked(files, out, init_dim):
+    """The files' forecasts stacked along an initialisation dimension `init_dim` (its coordinate the
+    initialisations in days since 2000-01-01, the files' calendar) beside a lead `lead` in whole days, with a
+    2-D valid_time(init_dim, lead) named in `coordinates`."""
+    values, inits, cal = [], [], None
+    for path in files:
+        with netCDF4.Dataset(path) as ds:
+            var = next(v for v in ds.variables.values() if v.ndim == 4)
+            values.append(np.asarray(var[:], np.float32))
+            tv = ds["time"]
+            cal = tv.calendar
+            d = netCDF4.num2date(tv[0], tv.units, cal)
+            inits.append(netCDF4.date2num(datetime.datetime(d.year, d.month, d.day), "days since 2000-01-01", cal))
+            lat, lon = np.asarray(ds["latitude"][:]), np.asarray(ds["longitude"][:])
+    n = values[0].shape[1]
+    with netCDF4.Dataset(out, "w") as ds:
+        for name, axis, units in (("y", lat, "degrees_north"), ("x", lon, "degrees_east")):
+            ds.createDimension(name, len(axis))
+            v = ds.createVariable(name, "f4", (name,))
+            v.units, v[:] = units, axis
+        ds.createDimension(init_dim, len(files))
+        ds.createDimension("lead", n)
+        ds.createDimension("number", values[0].shape[0])
+        t = ds.createVariable(init_dim, "f8", (init_dim,))
+        t.units, t.calendar, t.standard_name, t[:] = "days since 2000-01-01", cal, "forecast_reference_time", inits
+        ld = ds.createVariable("lead", "i4", ("lead",))
+        ld.units, ld[:] = "days", np.arange(n)
+        vt = ds.createVariable("valid_time", "f8", (init_dim, "lead"))
+        vt.units, vt.calendar, vt[:] = "days since 2000-01-01", cal, np.add.outer(inits, np.arange(n))
+        nb = ds.createVariable("number", "i4", ("number",))
+        nb.standard_name, nb[:] = "realization", np.arange(values[0].shape[0])
+        z = ds.createVariable("gh", "f4", (init_dim, "number", "lead", "y", "x"))
+        z.units, z.coordinates, z[:] = "m", "valid_time", np.stack(values)
+
+
+# Several initialisations in one file: the three forecasts along `init` beside the lead.
+multi = os.path.join(tmp, "multi.nc")
+stacked(originals, multi, "init")
+g1, p1 = probabilities([multi], "multi")
+diff = np.abs(p0 - p1).max() if p0.shape == p1.shape else float("inf")
+check(diff <= 1e-6, f"three initialisations in one file (init, number, lead, y, x) with a 2-D valid_time: the same "
+      f"probabilities as three files (max difference {diff:.1e})")
+
+# Hindcasts: the reforecasts of each day of the year in one file, the past years along `hdate`; the drift from
+# them equals the drift from one file per reforecast.
+by_day = {}
+for path in sorted(glob.glob(f"{world}/reforecasts/*.nc")):
+    by_day.setdefault(os.path.basename(path)[7:11], []).append(path)  # rf_YYYYMMDD.nc: by month and day
+hind = os.path.join(tmp, "hindcasts")
+os.makedirs(hind)
+for md, files in by_day.items():
+    stacked(files, os.path.join(hind, f"hc_{md}.nc"), "hdate")
+outs = {}
+for name, refs in (("rf_files", f"{world}/reforecasts/*.nc"), ("rf_hindcast", f"{hind}/*.nc")):
+    out = os.path.join(tmp, name + ".json")
+    r = run([BIN, "classify", "--quiet", "--model", model, "--forecasts", *originals, "--reforecasts", refs, "--lag",
+             "3", "--out", out])
+    assert r.returncode == 0, r.stderr
+    g = json.load(open(out))
+    outs[name] = np.array([[d["probabilities"][s] for s in sorted(d["probabilities"])] for d in g["daily"]])
+diff = np.abs(outs["rf_files"] - outs["rf_hindcast"]).max()
+check(diff <= 1e-6, f"{len(by_day)} hindcast files (years along 'hdate', {len(glob.glob(world + '/reforecasts/*.nc'))} "
+      f"reforecasts in all) give the drift-corrected guidance of one file per reforecast (max difference {diff:.1e})")
 
 # A day short of its sub-daily steps before the last: refused, naming the file and the day.
 bad = os.path.join(tmp, "gap.nc")

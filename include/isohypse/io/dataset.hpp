@@ -84,6 +84,13 @@ struct DatasetInfo {
   std::string member_dim;             // empty if none
   std::vector<int> member_numbers;    // values of the member coordinate, if it has one
   std::optional<int> member_number;   // a per-member file's number (scalar realization/number variable or attribute)
+  // A lead layout with several initialisations in the file (an
+  // initialisation or hindcast-date dimension beside the lead): each one's
+  // reference time and valid times, in the order of that dimension; `times`
+  // and `reference_time` are then the first one's. Empty otherwise.
+  std::string init_dim;
+  std::vector<Instant> init_times;
+  std::vector<std::vector<Instant>> valid_by_init;
 
   bool lat_descending() const { return file_lat.n_elem > 1 && file_lat(0) > file_lat(file_lat.n_elem - 1); }
   // "0..360", "-180..180", "regional LO..HI" (not the whole circle) or
@@ -179,9 +186,10 @@ public:
   arma::fmat read(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member = 0) const;
   // The same in two steps, for repeated reads into the same buffers: the
   // stored values (netCDF-C or HDF5: one thread at a time), then unpack()
-  // on any thread. Throws as read().
+  // on any thread; `init` indexes init_times in a file of several
+  // initialisations. Throws as read().
   void read_raw(const DomainSelection& sel, std::size_t t0, std::size_t count, std::size_t member,
-                RawBlock& raw) const;
+                RawBlock& raw, std::size_t init = 0) const;
 
   // True when the variable's compressed chunks are read directly with HDF5
   // and inflated by unpack() (on the caller's thread) rather than inside

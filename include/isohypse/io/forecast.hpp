@@ -31,6 +31,7 @@ struct MemberSource {
   std::size_t file = 0;    // index into Initialisation::files
   std::size_t index = 0;   // index along the file's member dimension (0 if none)
   int number = 0;          // member number as labelled
+  std::size_t init_index = 0;  // the initialisation in a file of several (DatasetInfo::init_times), else 0
 };
 
 struct Initialisation {
