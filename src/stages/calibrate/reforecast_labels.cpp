@@ -157,127 +157,163 @@ void form_total(DriftGroup& g, const std::vector<DriftSum>& sums) {
   }
 }
 
-}  // namespace
+// One labelling run: the readers, the plan, and what is held between rounds.
+class Labelling {
+public:
+  Labelling(const RegimeModel& model, const CalibrateConfig& cfg, const ReforecastSet& set)
+      : model_(model), cfg_(cfg), set_(set), n_(set.inits.size()), plan_(make_plan(set, cfg.reforecast_window_days)),
+        reader_(in_plan_order(), set.regrid, cfg.variable), slots_(slot_ranges(reader_, n_)),
+        workers_([&] { return std::make_unique<Worker>(model); }),
+        batch_(std::max<std::size_t>(8, 4 * static_cast<std::size_t>(detail::resolve_threads(cfg.threads, n_)))),
+        sums_(n_), fields_(n_) {
+    out_.labels.resize(n_);
+    choose_held();
+  }
 
-ReforecastLabels label_reforecasts(const RegimeModel& model, const CalibrateConfig& cfg, const ReforecastSet& set,
-                                   const CalibrateProgress& report) {
-  const std::size_t n = set.inits.size();
-  Plan plan = make_plan(set, cfg.reforecast_window_days);
-  std::vector<const Initialisation*> all;
-  for (std::size_t r = 0; r < n; ++r) all.push_back(&set.inits[plan.order[r]]);  // the reader reads in plan order
-  EnsembleReader reader(all, set.regrid, cfg.variable);
-  const auto slots = slot_ranges(reader, n);  // by rank
-  std::mutex netcdf;
-  detail::StatePool<Worker> workers([&] { return std::make_unique<Worker>(model); });
-  const int nt = detail::resolve_threads(cfg.threads, n);
-  const std::size_t batch = std::max<std::size_t>(8, 4 * static_cast<std::size_t>(nt));
+  // Rounds: each reads the next batch in plan order and labels every
+  // initialisation whose drift neighbours were all read in earlier rounds.
+  ReforecastLabels run(const CalibrateProgress& report) {
+    std::size_t read_to = 0, labelled = 0;
+    std::vector<char> done(n_);
+    report("read and label", 0, static_cast<int>(n_));
+    while (labelled < n_) {
+      std::vector<std::size_t> ready;
+      for (std::size_t r = 0; r < read_to; ++r) {
+        const std::size_t i = plan_.order[r];
+        if (!done[i] && plan_.groups[plan_.group[i]].ready < read_to) ready.push_back(i);
+      }
+      form_totals(ready);
+      const std::size_t reads = std::min(batch_, n_ - read_to);
+      detail::parallel_for(ready.size() + reads, cfg_.threads, [&](std::size_t t) {
+        if (t < reads) read_one(read_to + t);
+        else label_one(ready[t - reads]);
+      });
+      read_to += reads;
+      for (std::size_t i : ready) {
+        done[i] = 1;
+        ++labelled;
+        release(i);
+      }
+      report("read and label", static_cast<int>(labelled), static_cast<int>(n_));
+    }
+    out_.threads = static_cast<int>(workers_.all().size());
+    for (const auto& w : workers_.all()) {
+      out_.read_s += w->times.read_s;
+      out_.decode_s += w->times.finish_s;
+    }
+    return std::move(out_);
+  }
+
+private:
+  std::vector<const Initialisation*> in_plan_order() const {
+    std::vector<const Initialisation*> all;
+    for (std::size_t r = 0; r < n_; ++r) all.push_back(&set_.inits[plan_.order[r]]);
+    return all;
+  }
 
   // An initialisation's fields are held from its read to its labels when
   // the labels come soon enough for cfg.held_fields_mb (always on the demo:
   // a few weeks of the year are held at a time, unless the drift windows
   // wrap round the year); the others are read a second time.
-  std::size_t init_bytes = 1;
-  for (const auto& in : set.inits)
-    init_bytes = std::max<std::size_t>(init_bytes, in.members.size() * model.grid.n_points() * static_cast<std::size_t>(in.n_leads) * sizeof(float));
-  const std::size_t hold = std::max(batch, static_cast<std::size_t>(cfg.held_fields_mb) * (std::size_t{1} << 20) / init_bytes);
-  std::vector<char> held(n);
-  std::vector<std::size_t> again_inits;
-  for (std::size_t i = 0; i < n; ++i) {
-    held[i] = plan.groups[plan.group[i]].ready - plan.rank[i] <= hold;
-    if (!held[i]) again_inits.push_back(i);
+  void choose_held() {
+    std::size_t init_bytes = 1;
+    for (const auto& in : set_.inits)
+      init_bytes = std::max<std::size_t>(init_bytes, in.members.size() * model_.grid.n_points() *
+                                                         static_cast<std::size_t>(in.n_leads) * sizeof(float));
+    const std::size_t hold =
+        std::max(batch_, static_cast<std::size_t>(cfg_.held_fields_mb) * (std::size_t{1} << 20) / init_bytes);
+    held_.assign(n_, 0);
+    std::vector<const Initialisation*> again;
+    for (std::size_t i = 0; i < n_; ++i) {
+      held_[i] = plan_.groups[plan_.group[i]].ready - plan_.rank[i] <= hold;
+      if (held_[i]) continue;
+      again_index_[i] = again.size();
+      again.push_back(&set_.inits[i]);
+    }
+    if (again.empty()) return;
+    again_ = std::make_unique<EnsembleReader>(again, set_.regrid, cfg_.variable);
+    again_slots_ = slot_ranges(*again_, again.size());
   }
-  std::vector<const Initialisation*> again_list;
-  for (std::size_t i : again_inits) again_list.push_back(&set.inits[i]);
-  std::unique_ptr<EnsembleReader> again;
-  std::vector<std::pair<std::size_t, std::size_t>> again_slots;
-  if (!again_list.empty()) {
-    again = std::make_unique<EnsembleReader>(again_list, set.regrid, cfg.variable);
-    again_slots = slot_ranges(*again, again_inits.size());
-  }
-  std::map<std::size_t, std::size_t> again_index;
-  for (std::size_t a = 0; a < again_inits.size(); ++a) again_index[again_inits[a]] = a;
-
-  std::vector<DriftSum> sums(n);
-  std::vector<std::vector<arma::fmat>> fields(n);
-  ReforecastLabels out;
-  out.labels.resize(n);
 
   // Reads (with the drift sums) of the initialisation at rank r.
-  auto read_one = [&](std::size_t r) {
-    const std::size_t i = plan.order[r];
-    const auto w = workers.lease();
-    const arma::fmat climate = model.climatology.evaluate(lead_dates(set.inits[i]));
-    if (held[i]) fields[i].reserve(slots[r].second - slots[r].first);  // a growing vector would copy the fields
-    for (std::size_t k = slots[r].first; k < slots[r].second; ++k) {
-      reader.fetch(k, netcdf, w->work, &w->times);
-      add_member(sums[i], w->work.heights, climate);
-      if (held[i]) fields[i].push_back(std::move(w->work.heights));  // the next read allocates afresh
+  void read_one(std::size_t r) {
+    const std::size_t i = plan_.order[r];
+    const auto w = workers_.lease();
+    const arma::fmat climate = model_.climatology.evaluate(lead_dates(set_.inits[i]));
+    if (held_[i]) fields_[i].reserve(slots_[r].second - slots_[r].first);  // a growing vector would copy them
+    for (std::size_t k = slots_[r].first; k < slots_[r].second; ++k) {
+      reader_.fetch(k, netcdf_, w->work, &w->times);
+      add_member(sums_[i], w->work.heights, climate);
+      if (held_[i]) fields_[i].push_back(std::move(w->work.heights));  // the next read allocates afresh
     }
-  };
+  }
+
   // The labels of initialisation i, against the other years' drift.
-  auto label_one = [&](std::size_t i) {
-    const auto w = workers.lease();
-    const std::vector<Date> dates = lead_dates(set.inits[i]);
-    const arma::fmat reference = model.climatology.evaluate(dates) +
-                                 other_years_drift(set, plan, sums, i, dates, cfg.lead_smoothing_days);
+  void label_one(std::size_t i) {
+    const auto w = workers_.lease();
+    const std::vector<Date> dates = lead_dates(set_.inits[i]);
+    const arma::fmat reference = model_.climatology.evaluate(dates) +
+                                 other_years_drift(set_, plan_, sums_, i, dates, cfg_.lead_smoothing_days);
     auto label = [&](const arma::fmat& heights) {
-      out.labels[i].push_back(w->labeller.label(heights, reference, dates, model.running_mean_days));
+      out_.labels[i].push_back(w->labeller.label(heights, reference, dates, model_.running_mean_days));
     };
-    if (held[i]) {
-      for (const arma::fmat& f : fields[i]) label(f);
-      std::vector<arma::fmat>().swap(fields[i]);
+    if (held_[i]) {
+      for (const arma::fmat& f : fields_[i]) label(f);
+      std::vector<arma::fmat>().swap(fields_[i]);
       return;
     }
-    const auto [k0, k1] = again_slots[again_index.at(i)];
+    const auto [k0, k1] = again_slots_[again_index_.at(i)];
     for (std::size_t k = k0; k < k1; ++k) {
-      again->fetch(k, netcdf, w->work, &w->times);
+      again_->fetch(k, netcdf_, w->work, &w->times);
       label(w->work.heights);
     }
-  };
+  }
 
-  // Rounds: each reads the next batch in plan order and labels every
-  // initialisation whose drift neighbours were all read in earlier rounds.
-  std::size_t read_to = 0, labelled = 0;
-  std::vector<char> done(n);
-  report("read and label", 0, static_cast<int>(n));
-  while (labelled < n) {
-    std::vector<std::size_t> ready;
-    for (std::size_t r = 0; r < read_to; ++r) {
-      const std::size_t i = plan.order[r];
-      if (!done[i] && plan.groups[plan.group[i]].ready < read_to) ready.push_back(i);
-    }
+  // The drift totals of the groups of `ready` not formed yet.
+  void form_totals(const std::vector<std::size_t>& ready) {
     std::vector<std::size_t> to_total;
     for (std::size_t i : ready) {
-      DriftGroup& g = plan.groups[plan.group[i]];
-      if (g.total.is_empty() && std::find(to_total.begin(), to_total.end(), plan.group[i]) == to_total.end())
-        to_total.push_back(plan.group[i]);
+      const std::size_t g = plan_.group[i];
+      if (plan_.groups[g].total.is_empty() && std::find(to_total.begin(), to_total.end(), g) == to_total.end())
+        to_total.push_back(g);
     }
-    detail::parallel_for(to_total.size(), cfg.threads, [&](std::size_t t) {
-      form_total(plan.groups[to_total[t]], sums);
-    });
-    const std::size_t reads = std::min(batch, n - read_to);
-    detail::parallel_for(ready.size() + reads, cfg.threads, [&](std::size_t t) {
-      if (t < reads) read_one(read_to + t);
-      else label_one(ready[t - reads]);
-    });
-    read_to += reads;
-    for (std::size_t i : ready) {
-      done[i] = 1;
-      ++labelled;
-      DriftGroup& g = plan.groups[plan.group[i]];
-      if (--g.waiting > 0) continue;
-      g.total.reset();  // the group is done: so are the sums no other group needs
-      for (std::size_t j : g.near)
-        if (--plan.users[j] == 0) sums[j].difference.reset();
-    }
-    report("read and label", static_cast<int>(labelled), static_cast<int>(n));
+    detail::parallel_for(to_total.size(), cfg_.threads,
+                         [&](std::size_t t) { form_total(plan_.groups[to_total[t]], sums_); });
   }
-  out.threads = static_cast<int>(workers.all().size());
-  for (const auto& w : workers.all()) {
-    out.read_s += w->times.read_s;
-    out.decode_s += w->times.finish_s;
+
+  // After i's labels: its group's total once the group is done, and the sums no other group needs.
+  void release(std::size_t i) {
+    DriftGroup& g = plan_.groups[plan_.group[i]];
+    if (--g.waiting > 0) return;
+    g.total.reset();
+    for (std::size_t j : g.near)
+      if (--plan_.users[j] == 0) sums_[j].difference.reset();
   }
-  return out;
+
+  const RegimeModel& model_;
+  const CalibrateConfig& cfg_;
+  const ReforecastSet& set_;
+  const std::size_t n_;
+  Plan plan_;
+  EnsembleReader reader_;
+  const std::vector<std::pair<std::size_t, std::size_t>> slots_;  // by rank
+  std::mutex netcdf_;
+  detail::StatePool<Worker> workers_;
+  const std::size_t batch_;
+  std::vector<char> held_;
+  std::unique_ptr<EnsembleReader> again_;
+  std::vector<std::pair<std::size_t, std::size_t>> again_slots_;
+  std::map<std::size_t, std::size_t> again_index_;
+  std::vector<DriftSum> sums_;
+  std::vector<std::vector<arma::fmat>> fields_;
+  ReforecastLabels out_;
+};
+
+}  // namespace
+
+ReforecastLabels label_reforecasts(const RegimeModel& model, const CalibrateConfig& cfg, const ReforecastSet& set,
+                                   const CalibrateProgress& report) {
+  return Labelling(model, cfg, set).run(report);
 }
 
 }  // namespace isohypse
