@@ -81,6 +81,10 @@ GribGrid read_grid(const Handle& h) {
   g.nj = h.get_long("Nj");
   if (g.ni < 1 || g.nj < 1 || g.ni > 1000000 || g.nj > 1000000)
     throw DataError(h.where() + ": grid of " + std::to_string(g.ni) + " x " + std::to_string(g.nj) + " points");
+  if (h.defined("numberOfDataPoints") && h.get_long("numberOfDataPoints") != g.ni * g.nj)
+    throw DataError(h.where() + ": " + std::to_string(h.get_long("numberOfDataPoints")) +
+                    " data points for a grid of Ni x Nj = " + std::to_string(g.ni) + " x " + std::to_string(g.nj) +
+                    ": the grid definition is damaged");
   g.i_scans_negatively = h.get_long("iScansNegatively") != 0;
   g.j_scans_positively = h.get_long("jScansPositively") != 0;
   g.j_points_consecutive = h.get_long("jPointsAreConsecutive") != 0;

@@ -128,7 +128,9 @@ void check_grid(const grib::Handle& h, GribIndex& index, std::string& first_wher
     first_where = h.where();
     return;
   }
-  if (!g.same_as(index.grid))
+  // GRIB 1 stores coordinates in millidegrees, GRIB 2 in microdegrees: one
+  // grid written in both editions agrees to a millidegree.
+  if (!g.same_as(index.grid, 1.5e-3))
     throw DataError(h.where() + ": grid " + g.describe() + " differs from " + index.grid.describe() + " of " +
                     first_where + "; isohypse reads one grid: interpolate the files to one grid first");
 }
@@ -210,14 +212,18 @@ void refuse_duplicates(const std::vector<GribMessage>& sorted) {
 }  // namespace
 
 bool GribGrid::same_as(const GribGrid& o, double tol) const {
-  auto close = [tol](const std::vector<double>& a, const std::vector<double>& b) {
+  // Longitudes compare modulo 360: GRIB 1 writers store 330 E as -30 E.
+  auto close = [tol](const std::vector<double>& a, const std::vector<double>& b, double turn) {
     if (a.size() != b.size()) return false;
-    for (std::size_t i = 0; i < a.size(); ++i)
-      if (std::abs(a[i] - b[i]) > tol) return false;
+    for (std::size_t i = 0; i < a.size(); ++i) {
+      double d = std::abs(a[i] - b[i]);
+      if (turn > 0) d = std::min(std::fmod(d, turn), turn - std::fmod(d, turn));
+      if (d > tol) return false;
+    }
     return true;
   };
   return type == o.type && ni == o.ni && nj == o.nj && j_points_consecutive == o.j_points_consecutive &&
-         close(latitudes, o.latitudes) && close(longitudes, o.longitudes);
+         close(latitudes, o.latitudes, 0.0) && close(longitudes, o.longitudes, 360.0);
 }
 
 std::string GribGrid::describe() const {
