@@ -12,9 +12,9 @@ if [[ "$MODE" != demo && "$MODE" != test ]]; then
 fi
 
 BUILD_PACKAGES=(build-essential cmake pkg-config libarmadillo-dev libopenblas-dev libhdf5-dev libnetcdf-dev libdeflate-dev
-  libspdlog-dev nlohmann-json3-dev doctest-dev libcli11-dev libcpp-httplib-dev)
+  libspdlog-dev nlohmann-json3-dev doctest-dev libcli11-dev libcpp-httplib-dev libeccodes-dev)
 TEST_PACKAGES=(python3 python3-numpy python3-scipy python3-sklearn python3-netcdf4 python3-h5py
-  python3-jsonschema libncarg-data netcdf-bin chromium chromium-driver)
+  python3-jsonschema python3-eccodes libncarg-data netcdf-bin chromium chromium-driver)
 PACKAGES=("${BUILD_PACKAGES[@]}")
 [[ "$MODE" == test ]] && PACKAGES+=("${TEST_PACKAGES[@]}")
 
