@@ -74,7 +74,10 @@ HeightDataset HeightDataset::open(const std::string& path, const std::string& va
 }
 
 DomainSelection HeightDataset::select(const std::optional<Domain>& domain) const {
-  const DatasetInfo& info = impl_->info;
+  return select_domain(impl_->info, domain);
+}
+
+DomainSelection select_domain(const DatasetInfo& info, const std::optional<Domain>& domain) {
   DomainSelection sel;
   const arma::uword nlat = info.file_lat.n_elem, nlon = info.file_lon.n_elem;
   // Half a grid step of tolerance at the domain's edges (1 degree for a

@@ -1,5 +1,7 @@
 #include "isohypse/io/forecast.hpp"
 
+#include "io/grib_forecast.hpp"
+
 #include <algorithm>
 #include <chrono>
 #include <cmath>
@@ -7,6 +9,7 @@
 #include <set>
 
 #include "isohypse/io/dataset.hpp"
+#include "io/grib_forecast.hpp"
 #include "isohypse/base/error.hpp"
 
 namespace isohypse {
@@ -26,11 +29,10 @@ Domain widened(const Domain& d, double lat_step, double lon_step) {
   return w;
 }
 
-DomainSelection select_for(const HeightDataset& ds, const Domain& domain, const Grid* target, Domain& used) {
-  const DatasetInfo& in = ds.info();
+DomainSelection select_for(const DatasetInfo& in, const Domain& domain, const Grid* target, Domain& used) {
   if (target) {  // the file has exactly the target's points: read just them, no interpolation
     try {
-      DomainSelection exact = ds.select(domain);
+      DomainSelection exact = select_domain(in, domain);
       if (exact.grid.same_as(*target)) {
         used = domain;
         return exact;
@@ -42,10 +44,10 @@ DomainSelection select_for(const HeightDataset& ds, const Domain& domain, const 
   Domain wide = widened(domain, axis_step(in.file_lat), axis_step(in.file_lon));
   try {
     used = wide;
-    return ds.select(wide);
+    return select_domain(in, wide);
   } catch (const InputError&) {
     used = domain;
-    return ds.select(domain);  // throws the coverage message if even this fails
+    return select_domain(in, domain);  // throws the coverage message if even this fails
   }
 }
 
@@ -144,13 +146,61 @@ void add_file_initialisation(Scan& scan, const std::string& p, const DatasetInfo
   }
 }
 
+// Every GRIB file's messages, grouped into initialisations and added to the scan.
+void add_grib_files(Scan& scan, const std::vector<std::string>& paths, const Domain& domain, const Grid* target) {
+  auto index = std::make_shared<const GribIndex>(scan_grib_heights(paths));
+  const DatasetInfo info = detail::grib_dataset_info(*index);
+  if (scan.calendar && *scan.calendar != info.calendar)
+    throw DataError(info.path + ": GRIB's proleptic Gregorian calendar differs from " +
+                    calendar_name(*scan.calendar) + " in " + scan.first_path);
+  Domain used;
+  const DomainSelection sel = select_for(info, domain, target, used);
+  if (!scan.calendar) {
+    scan.calendar = info.calendar;
+    scan.first_path = info.path;
+    scan.first_grid = sel.grid;
+  } else if (!sel.grid.same_as(scan.first_grid)) {
+    throw DataError(info.path + ": its grid differs from that of " + scan.first_path);
+  }
+  for (detail::GribInitialisation& gi : detail::grib_initialisations(*index)) {
+    const Date init = gi.init.date;
+    const std::map<int, std::vector<std::size_t>> steps = lead_days(info.path, init, gi.valid);
+    const std::int64_t key = day_number(init);
+    Initialisation& it = scan.by_init[key];
+    if (!it.files.empty())
+      throw DataError(info.path + ": the initialisation " + to_string(init) +
+                      " is in GRIB and in NetCDF files (" + it.files.front() + "): give it once");
+    it.init = init;
+    it.init_real = to_real_calendar(init);
+    it.n_leads = steps.rbegin()->first + 1;
+    it.native_grid = sel.grid;
+    it.read_domain = used;
+    for (const auto& [l, idx] : steps) it.lead_steps.push_back(idx);
+    std::set<std::string> files;
+    for (const auto& member_steps : gi.steps)
+      for (std::size_t i : member_steps) files.insert(index->messages[i].path);
+    it.files.assign(files.begin(), files.end());
+    it.grib = index;
+    it.grib_steps = std::move(gi.steps);
+    for (std::size_t m = 0; m < gi.members.size(); ++m) {
+      it.members.push_back({0, m, static_cast<int>(gi.members[m]), 0});
+      scan.numbers[key].insert(static_cast<int>(gi.members[m]));
+    }
+  }
+}
+
 }  // namespace
 
 std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths, const std::string& variable,
                                            const Domain& domain, const Grid* target) {
   if (paths.empty()) throw InputError("no forecast files given");
   Scan scan;
+  std::vector<std::string> grib;
   for (const std::string& p : paths) {
+    if (detail::is_grib_file(p)) {
+      grib.push_back(p);
+      continue;
+    }
     HeightDataset ds = HeightDataset::open(p, variable);
     const DatasetInfo& in = ds.info();
     if (in.times.empty()) throw DataError(p + ": no time steps");
@@ -158,7 +208,7 @@ std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths
       throw DataError(p + ": calendar " + calendar_name(in.calendar) + " differs from " +
                       calendar_name(*scan.calendar) + " in " + scan.first_path);
     Domain used;
-    DomainSelection sel = select_for(ds, domain, target, used);
+    DomainSelection sel = select_for(in, domain, target, used);
     if (!scan.calendar) {
       scan.calendar = in.calendar;
       scan.first_path = p;
@@ -176,6 +226,7 @@ std::vector<Initialisation> scan_forecasts(const std::vector<std::string>& paths
         add_file_initialisation(scan, p, in, in.init_times[k].date, in.valid_by_init[k], k, sel, used);
     }
   }
+  if (!grib.empty()) add_grib_files(scan, grib, domain, target);
   auto& by_init = scan.by_init;
   std::vector<Initialisation> out;
   for (auto& [k, v] : by_init) out.push_back(std::move(v));
@@ -293,6 +344,12 @@ void EnsembleReader::read(std::size_t k, RawBlock& raw) {
   const Slot& s = slots_.at(k);
   const Initialisation& in = *inits_[s.init];
   const MemberSource& ms = in.members[s.member];
+  if (in.grib) {  // decoded here, one member at a time (ecCodes: see DEVELOPERS.md)
+    thread_local GribDecodeScratch scratch;
+    const DatasetInfo info = detail::grib_dataset_info(*in.grib);
+    detail::read_grib_member(*in.grib, in.grib_steps.at(ms.index), select_domain(info, in.read_domain), raw, scratch);
+    return;
+  }
   const std::string& path = in.files[ms.file];
   auto it = open_.find(path);
   if (it == open_.end()) {

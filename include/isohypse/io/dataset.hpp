@@ -161,6 +161,12 @@ struct RawBlock {
 // when a chunk does not inflate.
 std::size_t unpack(RawBlock& raw, arma::fmat& out);
 
+// The part of a grid (info.file_lat, file_lon, path) that `domain` takes
+// (the whole grid when empty): HeightDataset::select, and the same for a
+// grid read otherwise (GRIB). Throws InputError naming info.path when the
+// grid does not cover the domain, listing both.
+DomainSelection select_domain(const DatasetInfo& info, const std::optional<Domain>& domain);
+
 class HeightDataset {
 public:
   // Opens `path`, chooses the variable (`variable` if given) and the level

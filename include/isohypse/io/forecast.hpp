@@ -23,6 +23,7 @@
 
 #include "isohypse/base/calendar.hpp"
 #include "isohypse/io/dataset.hpp"
+#include "isohypse/io/grib_index.hpp"
 #include "isohypse/base/field.hpp"
 
 namespace isohypse {
@@ -42,6 +43,10 @@ struct Initialisation {
   int n_leads = 0;           // lead days 0..n_leads-1, all present
   // Time indices per lead day (same in every file of the initialisation).
   std::vector<std::vector<std::size_t>> lead_steps;
+  // GRIB initialisations: the index of their messages, and per member
+  // (MemberSource::index) its messages by lead; null and empty for NetCDF.
+  std::shared_ptr<const GribIndex> grib;
+  std::vector<std::vector<std::size_t>> grib_steps;
   Grid native_grid;          // the files' grid over the selection read
   Domain read_domain;        // the domain read from the files (the regime domain plus a margin when available)
   std::string id() const { return to_string(init); }

@@ -33,11 +33,10 @@
 #include <vector>
 
 #include "isohypse/base/calendar.hpp"
+#include "isohypse/io/dataset.hpp"  // kStandardGravity
 
 namespace isohypse {
 
-// Standard gravity (WMO; CGPM 1901): geopotential / g0 = geopotential height.
-inline constexpr double kStandardGravity = 9.80665;
 
 // The grid of the messages, as stored.
 struct GribGrid {
