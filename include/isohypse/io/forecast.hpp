@@ -118,7 +118,7 @@ public:
   // (see unpack). Throws DataError naming the file, the member and the lead
   // day when a value is missing.
   void finish(std::size_t k, Work& work) const;
-  // read() under `netcdf`, then finish() outside it.
+  // read() under `netcdf` (GRIB: without it, ecCodes decoding on any thread), then finish() outside it.
   void fetch(std::size_t k, std::mutex& netcdf, Work& work, Times* times = nullptr);
 
 private:
