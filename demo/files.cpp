@@ -81,8 +81,6 @@ arma::mat truth_columns(const World& world, const std::vector<Date>& days) {
   return c;
 }
 
-std::vector<double> forecast_lat() { return axis(16.0, 84.0, 2.0); }
-std::vector<double> forecast_lon() { return axis(164.0, 326.0, 2.0); }
 
 std::size_t nearest_index(const std::vector<double>& axis_values, double x) {
   auto it = std::min_element(axis_values.begin(), axis_values.end(),
@@ -91,6 +89,9 @@ std::size_t nearest_index(const std::vector<double>& axis_values, double x) {
 }
 
 }  // namespace
+
+std::vector<double> forecast_lat() { return axis(16.0, 84.0, 2.0); }
+std::vector<double> forecast_lon() { return axis(164.0, 326.0, 2.0); }
 
 void write_reanalysis_year(const World& world, const Surface& surface, const std::vector<double>& lat,
                            const std::vector<double>& lon, int year, const Realities& realities,

@@ -47,6 +47,10 @@ Points forecast_points();
 std::vector<Trajectory> model_run(const World& world, const isohypse::Date& init, int members,
                                   ModelSystem system = ModelSystem::skilful);
 
+// The forecast grid (grids C and D): 16N-84N, 164E-326E every 2 degrees, ascending.
+std::vector<double> forecast_lat();
+std::vector<double> forecast_lon();
+
 // Sets C and D: the members of `runs` (from model_run, same init), `gh`
 // (number, time, latitude, longitude) in metres on the noleap calendar,
 // NetCDF-4 with deflate.

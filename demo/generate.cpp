@@ -8,6 +8,7 @@
 #include <sstream>
 
 #include "files.hpp"
+#include "grib_files.hpp"
 #include "processes.hpp"
 #include "isohypse/base/atomic_file.hpp"
 #include "isohypse/base/error.hpp"
@@ -283,6 +284,15 @@ void write_model_sets(const World& world, const Plan& plan, const Options& optio
   truth["forecasts_steps"] = {{"files", tally.finish("forecasts_steps")},
                               {"layout", "z(time=1, step, member, y, x) geopotential, step in hours, valid_time(step)"},
                               {"same_as", "forecasts/ of the same initialisations"}};
+  tally.start();
+  for (const Run& r : steps_runs) {
+    const std::string rel = "forecasts_grib/fc_" + compact(r.init) + ".grib2";
+    write_model_run_grib(grid, r.init, model_run(world, r.init, plan.fc_members, skilful), tally.path(rel));
+    tally.add(rel);
+  }
+  truth["forecasts_grib"] = {{"files", tally.finish("forecasts_grib")},
+                             {"format", "GRIB 2: gh at 500 hPa, one message per member and lead, 24-bit simple packing"},
+                             {"same_as", "forecasts/ of the same initialisations"}};
   truth["reforecasts"] = {
       {"files", write_runs(world, grid, reforecast_runs(plan, plan.rf_year_first, plan.rf_year_last, "reforecasts"),
                            plan.rf_members, skilful, "reforecast_members.csv", "reforecasts", options, tally)},
@@ -355,8 +365,8 @@ void generate(const Options& options, std::ostream& log) {
   const auto t_start = std::chrono::steady_clock::now();
   std::error_code ec;
   for (const char* sub :
-       {"reanalysis", "analysis", "forecasts", "forecasts_steps", "reforecasts", "forecasts_noskill", "reforecasts_noskill",
-        "truth"}) {
+       {"reanalysis", "analysis", "forecasts", "forecasts_steps", "forecasts_grib", "reforecasts", "forecasts_noskill",
+        "reforecasts_noskill", "truth"}) {
     const std::string name = sub;
     if (plan.only_reanalysis && name != "reanalysis" && !(plan.truth && name == "truth")) continue;
     fs::create_directories(fs::path(options.out) / sub, ec);

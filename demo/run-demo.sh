@@ -9,7 +9,7 @@ DATA=demo/data
 OUT=${ISOHYPSE_DEMO_OUT:-out}
 mkdir -p "$OUT"
 
-if [[ ! -f "$DATA/truth/truth.json" || ! -d "$DATA/reforecasts_noskill" || ! -d "$DATA/forecasts_steps" ]]; then
+if [[ ! -f "$DATA/truth/truth.json" || ! -d "$DATA/reforecasts_noskill" || ! -d "$DATA/forecasts_grib" ]]; then
   echo "== generating the synthetic demo world in $DATA/ (invented data, no real place or organisation)"
   build/isohypse-demo-world --out "$DATA" --size full
 fi
@@ -40,22 +40,25 @@ echo "== isohypse classify: this morning's guidance (issue date 2026-01-15, the 
   --calibration "$OUT/calibration.nc" --csv "$OUT/csv" --out "$OUT/guidance-2026-01-15.json"
 
 echo
-echo "== the same forecasts in a lead layout (z(time=1, step, member, y, x) in m2 s-2, the step in hours, valid_time(step)):"
-echo "   classify reads them by the CF rules; the raw probabilities equal those from the forecasts/ layout"
+echo "== the same forecasts in a lead layout (z(time=1, step, member, y, x) in m2 s-2, the step in hours,"
+echo "   valid_time(step)) and in GRIB 2 (one message per member and lead, 24 bits): classify reads both, and the"
+echo "   raw probabilities equal those from the forecasts/ layout"
 "$BIN" inspect "$DATA/forecasts_steps/fc_20260115.nc"
 mkdir -p "$OUT/layouts"
-for set in forecasts forecasts_steps; do
-  "$BIN" classify --quiet --model "$OUT/regimes.nc" --forecasts "$DATA/$set/fc_2026011[2-5].nc" \
+for set in forecasts:nc forecasts_steps:nc forecasts_grib:grib2; do
+  "$BIN" classify --quiet --model "$OUT/regimes.nc" --forecasts "$DATA/${set%%:*}/fc_2026011[2-5].${set##*:}" \
     --reforecasts "$DATA/reforecasts/*.nc" --lag 4 --weights exp:3 --issue-date 2026-01-15 \
-    --csv "$OUT/layouts/$set" --out "$OUT/layouts/guidance-$set.json"
+    --csv "$OUT/layouts/${set%%:*}" --out "$OUT/layouts/guidance-${set%%:*}.json"
 done
-if cmp -s "$OUT/layouts/forecasts/daily.csv" "$OUT/layouts/forecasts_steps/daily.csv" &&
-  cmp -s "$OUT/layouts/forecasts/windows.csv" "$OUT/layouts/forecasts_steps/windows.csv"; then
-  echo "   daily.csv and windows.csv identical for the two layouts"
-else
-  echo "   the two layouts' guidance differs: see $OUT/layouts/" >&2
-  exit 1
-fi
+for set in forecasts_steps forecasts_grib; do
+  if cmp -s "$OUT/layouts/forecasts/daily.csv" "$OUT/layouts/$set/daily.csv" &&
+    cmp -s "$OUT/layouts/forecasts/windows.csv" "$OUT/layouts/$set/windows.csv"; then
+    echo "   $set: daily.csv and windows.csv identical to those from forecasts/"
+  else
+    echo "   $set: the guidance differs from that of forecasts/: see $OUT/layouts/" >&2
+    exit 1
+  fi
+done
 
 echo
 echo "== a season of guidance: one issue a day, 2025-12-04 to 2026-02-26, into $OUT/archive/"

@@ -124,15 +124,17 @@ def main():
 
 def check_files_listed(world, truth):
     listed = set()
-    for key in ("reanalysis", "analysis", "forecasts", "forecasts_steps", "reforecasts", "forecasts_noskill",
-                "reforecasts_noskill"):
+    for key in ("reanalysis", "analysis", "forecasts", "forecasts_steps", "forecasts_grib", "reforecasts",
+                "forecasts_noskill", "reforecasts_noskill"):
         listed |= set(truth[key]["files"])
     listed |= set(truth["truth_files"])
     found = {os.path.relpath(p, world) for p in glob.glob(os.path.join(world, "*", "*"))}
     check(listed == found, f"truth.json lists exactly the {len(found)} files written")
     check(len(truth["reanalysis"]["files"]) == 8 and len(truth["forecasts"]["files"]) == 20,
           "small: 8 reanalysis years, 20 forecast initialisations")
+    grib = [os.path.basename(f).replace(".grib2", ".nc") for f in truth["forecasts_grib"]["files"]]
     steps = [os.path.basename(f) for f in truth["forecasts_steps"]["files"]]
+    check(sorted(grib) == sorted(steps), "the GRIB 2 set holds the lead layout's 4 initialisations")
     check(len(steps) == 4 and set(steps) <= {os.path.basename(f) for f in truth["forecasts"]["files"]},
           f"the lead layout holds 4 of the forecasts' initialisations again ({', '.join(steps)})")
 
