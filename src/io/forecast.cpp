@@ -323,8 +323,10 @@ struct EnsembleReader::OpenFile {
 EnsembleReader::EnsembleReader(std::vector<const Initialisation*> inits, const Regridder& to_target,
                                std::string variable)
     : inits_(std::move(inits)), to_target_(to_target), variable_(std::move(variable)) {
+  grib_selection_.resize(inits_.size());
   for (std::size_t i = 0; i < inits_.size(); ++i) {
     const Initialisation& in = *inits_[i];
+    if (in.grib) grib_selection_[i] = select_domain(detail::grib_dataset_info(*in.grib), in.read_domain);
     for (std::size_t f = 0; f < in.files.size(); ++f)
       for (std::size_t m = 0; m < in.members.size(); ++m)
         if (in.members[m].file == f) {
@@ -346,8 +348,7 @@ void EnsembleReader::read(std::size_t k, RawBlock& raw) {
   const MemberSource& ms = in.members[s.member];
   if (in.grib) {  // decoded here, on the calling thread (ecCodes is thread-safe as built: see DEVELOPERS.md)
     thread_local GribDecodeScratch scratch;
-    const DatasetInfo info = detail::grib_dataset_info(*in.grib);
-    detail::read_grib_member(*in.grib, in.grib_steps.at(ms.index), select_domain(info, in.read_domain), raw, scratch);
+    detail::read_grib_member(*in.grib, in.grib_steps.at(ms.index), grib_selection_[s.init], raw, scratch);
     return;
   }
   const std::string& path = in.files[ms.file];

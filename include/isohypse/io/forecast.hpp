@@ -130,6 +130,7 @@ private:
   std::vector<char> one_step_per_day_;  // per initialisation: no averaging needed
   std::map<std::string, std::unique_ptr<OpenFile>> open_;
   std::map<std::string, std::size_t> reads_left_;
+  std::vector<DomainSelection> grib_selection_;  // per initialisation read from GRIB: its part of the grid
 };
 
 // Calls use(m, heights) for every member m (an index into init.members),
