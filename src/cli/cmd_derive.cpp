@@ -78,7 +78,7 @@ struct Flags {
 void add_flags(CLI::App* sub, Flags& a) {
   sub->add_option("--config", a.config, "JSON config (see config/derive-example.json); flags override it");
   sub->add_option("--out", a.out, "Regime model file to write (NetCDF-4)")->required();
-  sub->add_option("--input", a.inputs, "Input file or quoted glob, repeatable (e.g. 'reanalysis/hgt500_*.nc')");
+  sub->add_option("--input", a.inputs, "Input file (NetCDF or GRIB) or quoted glob, repeatable (e.g. 'reanalysis/hgt500_*.nc')");
   add_variable_option(sub, a.variable);
   a.level_given = sub->add_option("--level", a.level, "Pressure level in hPa (default 500)");
   sub->add_option("--domain", a.domain,

@@ -26,7 +26,7 @@ void add_inspect(CLI::App& app) {
   };
   auto args = std::make_shared<Args>();
   CLI::App* sub = app.add_subcommand(
-      "inspect", "Describe height files (variables, grid, levels, time, packing, gaps), a regime model or a calibration");
+      "inspect", "Describe height files, NetCDF or GRIB (variables, grid, levels, time, packing, gaps), a regime model or a calibration");
   sub->add_option("files", args->files, "Files or quoted globs (e.g. 'data/hgt500_*.nc')")->required();
   sub->add_option("--variable", args->variable, "Height variable to describe (default: found automatically)");
   sub->add_option("--level", args->level, "Pressure level in hPa")->capture_default_str();

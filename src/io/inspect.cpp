@@ -8,6 +8,8 @@
 
 #include "isohypse/base/error.hpp"
 #include "isohypse/base/field.hpp"
+#include "io/grib_forecast.hpp"
+#include "io/inspect_grib.hpp"
 #include "isohypse/io/dataset.hpp"
 
 namespace isohypse {
@@ -39,9 +41,24 @@ nlohmann::json grid_json(const DatasetInfo& in) {
           {"global_in_longitude", in.global_in_lon()}};
 }
 
+// A GRIB file's description (inspect_grib.hpp), or its error.
+nlohmann::json describe_grib(const std::string& path, double level_hpa) {
+  nlohmann::json j;
+  j["file"] = path;
+  try {
+    j.update(detail::describe_grib_file(path, level_hpa));
+  } catch (const Error& e) {
+    j["format"] = "GRIB";
+    j["error"] = e.what();
+    j["error_kind"] = dynamic_cast<const InputError*>(&e) ? "input" : "data";
+  }
+  return j;
+}
+
 }  // namespace
 
 nlohmann::json describe_file(const std::string& path, const std::string& variable, double level_hpa) {
+  if (detail::is_grib_file(path)) return describe_grib(path, level_hpa);
   nlohmann::json j;
   j["file"] = path;
   try {
@@ -124,6 +141,10 @@ nlohmann::json describe_file(const std::string& path, const std::string& variabl
 std::string describe_text(const nlohmann::json& j) {
   std::ostringstream o;
   o << j["file"].get<std::string>() << "\n";
+  if (j.value("format", "") == "GRIB") {
+    if (j.contains("error")) return o.str() + "  format      GRIB\n  cannot use: " + j["error"].get<std::string>() + "\n";
+    return o.str() + detail::describe_grib_text(j);
+  }
   if (j.contains("format")) o << "  format      " << j["format"].get<std::string>() << "\n";
   if (j.contains("candidates")) {
     o << "  candidates  ";

@@ -4,11 +4,15 @@
 
 #include <algorithm>
 #include <cmath>
+#include <filesystem>
 #include <functional>
 #include <limits>
 #include <map>
 #include <set>
+#include <variant>
 
+#include "io/grib_forecast.hpp"
+#include "io/grib_record.hpp"
 #include "isohypse/base/error.hpp"
 #include "isohypse/io/dataset.hpp"
 
@@ -43,9 +47,46 @@ std::vector<std::string> expand_paths(const std::vector<std::string>& patterns) 
 
 namespace {
 
+// One file of a record: NetCDF (HeightDataset) or GRIB (GribRecordFile),
+// seen through the same three calls.
+class RecordFile {
+public:
+  explicit RecordFile(HeightDataset ds) : file_(std::move(ds)) {}
+  explicit RecordFile(detail::GribRecordFile g) : file_(std::move(g)) {}
+  const DatasetInfo& info() const {
+    return std::visit([](const auto& f) -> const DatasetInfo& { return f.info(); }, file_);
+  }
+  DomainSelection select(const std::optional<Domain>& domain) const {
+    return std::visit([&](const auto& f) { return f.select(domain); }, file_);
+  }
+  arma::fmat read(const DomainSelection& sel, std::size_t t0, std::size_t count) const {
+    return std::visit([&](const auto& f) { return f.read(sel, t0, count); }, file_);
+  }
+
+private:
+  std::variant<HeightDataset, detail::GribRecordFile> file_;
+};
+
+// Whether the record is GRIB (every file starts with "GRIB") or NetCDF (none
+// does); a mixed record is refused, naming one file of each kind. A missing
+// file counts as neither: its reader says so by name.
+bool record_is_grib(const std::vector<std::string>& paths) {
+  std::vector<std::string> grib, other;
+  for (const std::string& p : paths) {
+    std::error_code ec;
+    if (!std::filesystem::is_regular_file(p, ec)) continue;
+    (detail::is_grib_file(p) ? grib : other).push_back(p);
+  }
+  if (!grib.empty() && !other.empty())
+    throw InputError(grib.front() + " is GRIB but " + other.front() +
+                     " is not: a record is read from GRIB files only or from NetCDF files only (" +
+                     std::to_string(grib.size()) + " GRIB, " + std::to_string(other.size()) + " other)");
+  return !grib.empty();
+}
+
 // The open files of a record and each one's selection of the domain.
 struct OpenFiles {
-  std::vector<HeightDataset> sets;
+  std::vector<RecordFile> sets;
   std::vector<DomainSelection> sels;
 };
 
@@ -67,8 +108,10 @@ struct DayIndex {
 OpenFiles open_files(const std::vector<std::string>& paths, const ReadOptions& opt) {
   OpenFiles of;
   of.sets.reserve(paths.size());
+  const bool grib = record_is_grib(paths);
   for (const std::string& p : paths) {
-    of.sets.push_back(HeightDataset::open(p, opt.variable, opt.level_hpa));
+    if (grib) of.sets.emplace_back(detail::GribRecordFile::open(p, opt.variable, opt.level_hpa));
+    else of.sets.emplace_back(HeightDataset::open(p, opt.variable, opt.level_hpa));
     of.sels.push_back(of.sets.back().select(opt.domain));
     const DatasetInfo& a = of.sets.front().info();
     const DatasetInfo& b = of.sets.back().info();
@@ -90,7 +133,7 @@ OpenFiles open_files(const std::vector<std::string>& paths, const ReadOptions& o
 
 // Every step of every file within [from, to], ordered by day; a step at a
 // day and time of day already seen is a duplicate (the first is kept).
-DayIndex order_by_day(const std::vector<HeightDataset>& sets, const ReadOptions& opt, Calendar calendar) {
+DayIndex order_by_day(const std::vector<RecordFile>& sets, const ReadOptions& opt, Calendar calendar) {
   auto day_of = [calendar](const Date& d) { return day_number(Date{d.year, d.month, d.day, calendar}); };
   const std::int64_t from = opt.from ? day_of(*opt.from) : std::numeric_limits<std::int64_t>::min();
   const std::int64_t to = opt.to ? day_of(*opt.to) : std::numeric_limits<std::int64_t>::max();
@@ -113,7 +156,7 @@ DayIndex order_by_day(const std::vector<HeightDataset>& sets, const ReadOptions&
 
 // The most time steps any day has; more than one needs daily means
 // (DataError naming the file and the day otherwise).
-std::size_t steps_per_day(const DayIndex& days, const std::vector<HeightDataset>& sets, bool daily_means,
+std::size_t steps_per_day(const DayIndex& days, const std::vector<RecordFile>& sets, bool daily_means,
                           Calendar calendar) {
   std::size_t most = 0;
   for (const auto& [dn, steps] : days.by_day) most = std::max(most, steps.size());
