@@ -8,6 +8,7 @@
 #include "isohypse/base/atomic_file.hpp"
 #include "isohypse/base/error.hpp"
 #include "io/netcdf_file.hpp"
+#include "grib_files.hpp"
 
 namespace demo {
 
@@ -95,7 +96,7 @@ std::vector<double> forecast_lon() { return axis(164.0, 326.0, 2.0); }
 
 void write_reanalysis_year(const World& world, const Surface& surface, const std::vector<double>& lat,
                            const std::vector<double>& lon, int year, const Realities& realities,
-                           const std::string& path) {
+                           const std::string& path, const std::string& grib_path) {
   std::vector<Date> days;
   for (const Date& d : days_between_inclusive(Date{year, 1, 1, Calendar::Standard}, Date{year, 12, 31, Calendar::Standard}))
     if (std::find(realities.missing_days.begin(), realities.missing_days.end(), d) == realities.missing_days.end())
@@ -142,6 +143,15 @@ void write_reanalysis_year(const World& world, const Surface& surface, const std
     f.write_all(v_time, hours);
     f.write(v_z, {0, 0, 0}, {days.size(), lat.size(), lon.size()}, packed.data());
   });
+  if (grib_path.empty()) return;
+  // The GRIB copy holds the values the NetCDF file holds (unpacked), its fill values missing.
+  arma::mat unpacked(n_points, days.size());
+  for (std::size_t t = 0; t < days.size(); ++t)
+    for (std::size_t p = 0; p < n_points; ++p) {
+      const short k = packed[t * n_points + p];
+      unpacked(p, t) = k == kPackedFill ? arma::datum::nan : offset + scale * k;
+    }
+  write_reanalysis_year_grib(lat, lon, days, unpacked, grib_path);
 }
 
 void write_analysis(const World& world, const Date& first, const Date& last, double step, const std::string& path) {

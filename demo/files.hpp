@@ -27,10 +27,11 @@ struct Realities {
 
 // Set A: one year of daily 00 UTC geopotential (`z`, int16 packed per file),
 // NetCDF-4 classic model, on the axes given (latitude descending); `surface`
-// holds the world's terms on Points::product(lat, lon).
+// holds the world's terms on Points::product(lat, lon). A `grib_path` also
+// writes the file's values as GRIB 2 there (grib_files.hpp).
 void write_reanalysis_year(const World& world, const Surface& surface, const std::vector<double>& lat,
                            const std::vector<double>& lon, int year, const Realities& realities,
-                           const std::string& path);
+                           const std::string& path, const std::string& grib_path = "");
 
 // Set B: float heights `hgt` (time, level, latitude, longitude) at 850, 500
 // and 250 hPa, global at `step` degrees (latitude ascending, longitude

@@ -4,6 +4,7 @@
 #include <chrono>
 #include <cstdio>
 #include <filesystem>
+#include <map>
 #include <ostream>
 #include <sstream>
 
@@ -177,18 +178,30 @@ void write_reanalysis(const World& world, const Plan& plan, const Options& optio
   const std::vector<double> rean_lon =
       plan.regional ? axis(170, 320, plan.rean_step) : axis(-180, 180 - plan.rean_step, plan.rean_step);
   const Realities realities = plant_realities(options.seed, plan, rean_lat, rean_lon);
-  std::vector<std::string> rean_files;
-  for (int y = plan.rean_first; y <= plan.rean_last; ++y)
+  std::vector<std::string> rean_files, grib_files;
+  for (int y = plan.rean_first; y <= plan.rean_last; ++y) {
     rean_files.push_back("reanalysis/hgt500_" + std::to_string(y) + ".nc");
+    // The GRIB copy comes with the forecast sets (not with the benchmark's reanalysis-only worlds).
+    if (!plan.only_reanalysis) grib_files.push_back("reanalysis_grib/hgt500_" + std::to_string(y) + ".grib2");
+  }
   tally.start();
   const Surface rean_grid(world, Points::product(rean_lat, rean_lon));
   run_in_processes(rean_files.size(), options.processes, [&](std::size_t i) {
     write_reanalysis_year(world, rean_grid, rean_lat, rean_lon, plan.rean_first + static_cast<int>(i), realities,
-                          tally.path(rean_files[i]));
+                          tally.path(rean_files[i]), grib_files.empty() ? "" : tally.path(grib_files[i]));
   });
   for (const auto& rel : rean_files) tally.add(rel);
   json& rean = truth["reanalysis"];
   rean["files"] = tally.finish("reanalysis");
+  if (!grib_files.empty()) {
+    tally.start();
+    for (const auto& rel : grib_files) tally.add(rel);
+    truth["reanalysis_grib"] = {
+        {"files", tally.finish("reanalysis_grib")},
+        {"format", "GRIB 2: z (m2 s-2) at 500 hPa, one message a day, CCSDS packing at 16 bits, the NetCDF files' "
+                   "fill values as bitmap missing points (written with reanalysis/)"},
+        {"same_as", "reanalysis/ (its unpacked values)"}};
+  }
   rean["grid"] = grid_json(rean_lat, rean_lon);
   rean["missing_days"] = json::array();
   for (const Date& d : realities.missing_days) rean["missing_days"].push_back(isohypse::to_string(d));
@@ -252,6 +265,39 @@ std::string schedule(const Plan& plan, int year_first, int year_last) {
          std::to_string(year_last);
 }
 
+// The reforecasts that classify's drift needs for the GRIB forecast set
+// (`--reforecast-window kGribReforecastWindow` around its initialisations),
+// again in GRIB 2: one file per day of the year with the runs of every year.
+constexpr int kGribReforecastWindow = 3;
+
+void write_reforecasts_grib_set(const World& world, const Surface& grid, const Plan& plan,
+                                const std::vector<Run>& fc_runs, const std::vector<Run>& rf_runs, Tally& tally,
+                                json& truth) {
+  const int year = fc_runs.front().init.year;
+  const Date from = isohypse::add_days(fc_runs.front().init, -kGribReforecastWindow);
+  const Date to = isohypse::add_days(fc_runs.back().init, kGribReforecastWindow);
+  std::map<std::string, std::vector<GribRun>> by_day;  // "MMDD" -> runs in order of year
+  for (const Run& r : rf_runs) {
+    if (r.init.month == 2 && r.init.day == 29) continue;
+    const Date same_year = day(year, r.init.month, r.init.day);
+    if (same_year < from || to < same_year) continue;
+    by_day[compact(r.init).substr(4)].push_back({r.init, model_run(world, r.init, plan.rf_members)});
+  }
+  tally.start();
+  for (const auto& [mmdd, runs] : by_day) {
+    const std::string rel = "reforecasts_grib/rf_" + mmdd + ".grib2";
+    write_reforecasts_grib(grid, runs, tally.path(rel));
+    tally.add(rel);
+  }
+  truth["reforecasts_grib"] = {
+      {"files", tally.finish("reforecasts_grib")},
+      {"format", "GRIB 2: gh at 500 hPa, one file per day of the year with that day's reforecasts of every year, "
+                 "one message per member and lead, CCSDS packing at 16 bits"},
+      {"window_days", kGribReforecastWindow},
+      {"same_as", "reforecasts/ initialised within " + std::to_string(kGribReforecastWindow) +
+                      " days of the year of forecasts_grib/'s initialisations"}};
+}
+
 // B, C and D: the analysis, forecasts and reforecasts (one model on one grid),
 // with the member tables truth/forecast_members.csv and truth/reforecast_members.csv;
 // then C' and D', the no-skill system's forecasts and reforecasts (the same
@@ -293,12 +339,13 @@ void write_model_sets(const World& world, const Plan& plan, const Options& optio
   truth["forecasts_grib"] = {{"files", tally.finish("forecasts_grib")},
                              {"format", "GRIB 2: gh at 500 hPa, one message per member and lead, 24-bit simple packing"},
                              {"same_as", "forecasts/ of the same initialisations"}};
-  truth["reforecasts"] = {
-      {"files", write_runs(world, grid, reforecast_runs(plan, plan.rf_year_first, plan.rf_year_last, "reforecasts"),
-                           plan.rf_members, skilful, "reforecast_members.csv", "reforecasts", options, tally)},
-      {"members", plan.rf_members},
-      {"leads", kLeads},
-      {"schedule", schedule(plan, plan.rf_year_first, plan.rf_year_last)}};
+  const std::vector<Run> rf_runs = reforecast_runs(plan, plan.rf_year_first, plan.rf_year_last, "reforecasts");
+  truth["reforecasts"] = {{"files", write_runs(world, grid, rf_runs, plan.rf_members, skilful,
+                                               "reforecast_members.csv", "reforecasts", options, tally)},
+                          {"members", plan.rf_members},
+                          {"leads", kLeads},
+                          {"schedule", schedule(plan, plan.rf_year_first, plan.rf_year_last)}};
+  write_reforecasts_grib_set(world, grid, plan, steps_runs, rf_runs, tally, truth);
 
   const Date ns_first = plan.ns_fc_at_end ? isohypse::add_days(plan.fc_first, plan.fc_count - plan.ns_fc_count)
                                           : plan.ns_fc_first;
@@ -365,7 +412,8 @@ void generate(const Options& options, std::ostream& log) {
   const auto t_start = std::chrono::steady_clock::now();
   std::error_code ec;
   for (const char* sub :
-       {"reanalysis", "analysis", "forecasts", "forecasts_steps", "forecasts_grib", "reforecasts", "forecasts_noskill",
+       {"reanalysis", "reanalysis_grib", "analysis", "forecasts", "forecasts_steps", "forecasts_grib", "reforecasts",
+        "reforecasts_grib", "forecasts_noskill",
         "reforecasts_noskill", "truth"}) {
     const std::string name = sub;
     if (plan.only_reanalysis && name != "reanalysis" && !(plan.truth && name == "truth")) continue;

@@ -9,7 +9,7 @@ DATA=demo/data
 OUT=${ISOHYPSE_DEMO_OUT:-out}
 mkdir -p "$OUT"
 
-if [[ ! -f "$DATA/truth/truth.json" || ! -d "$DATA/reforecasts_noskill" || ! -d "$DATA/forecasts_grib" ]]; then
+if [[ ! -f "$DATA/truth/truth.json" || ! -d "$DATA/reforecasts_noskill" || ! -d "$DATA/reforecasts_grib" ]]; then
   echo "== generating the synthetic demo world in $DATA/ (invented data, no real place or organisation)"
   build/isohypse-demo-world --out "$DATA" --size full
 fi
@@ -20,7 +20,24 @@ echo "== isohypse inspect: what the files hold"
 
 echo
 echo "== isohypse derive: the regimes of 30 cold seasons"
-"$BIN" derive --config config/derive-example.json --out "$OUT/regimes.nc" --summary "$OUT/regimes-summary.json"
+"$BIN" derive --config config/derive-example.json --out "$OUT/regimes.nc" --summary "$OUT/regimes-summary.json" |
+  tee "$OUT/derive.log"
+
+echo
+echo "== the same reanalysis as GRIB 2 (reanalysis_grib/: one message a day, geopotential, CCSDS packing at 16 bits)"
+"$BIN" inspect "$DATA/reanalysis_grib/hgt500_1995.grib2"
+echo "   derive on the GRIB copy (same settings; its log in $OUT/derive-grib.log):"
+"$BIN" derive --config config/derive-example.json --input "$DATA/reanalysis_grib/*.grib2" \
+  --out "$OUT/regimes-grib.nc" --summary "$OUT/regimes-grib-summary.json" >"$OUT/derive-grib.log" 2>&1
+regime_table() { sed -n '/^id   frequency/,/^$/p' "$1"; }
+if [[ "$(regime_table "$OUT/derive.log")" == "$(regime_table "$OUT/derive-grib.log")" ]]; then
+  echo "   the same regimes, frequencies, persistence and names as from the NetCDF files:"
+  regime_table "$OUT/derive-grib.log" | sed 's/^/   /'
+else
+  echo "   the regimes from GRIB differ from those from NetCDF:" >&2
+  diff <(regime_table "$OUT/derive.log") <(regime_table "$OUT/derive-grib.log") >&2
+  exit 1
+fi
 
 echo
 echo "== isohypse calibrate: how far to trust the raw probabilities, learnt from the reforecasts of 2001-2020"
@@ -41,13 +58,18 @@ echo "== isohypse classify: this morning's guidance (issue date 2026-01-15, the 
 
 echo
 echo "== the same forecasts in a lead layout (z(time=1, step, member, y, x) in m2 s-2, the step in hours,"
-echo "   valid_time(step)) and in GRIB 2 (one message per member and lead, 24 bits): classify reads both, and the"
-echo "   raw probabilities equal those from the forecasts/ layout"
-"$BIN" inspect "$DATA/forecasts_steps/fc_20260115.nc"
+echo "   valid_time(step)) and in GRIB 2 (one message per member and lead, 24 bits), the GRIB set with its"
+echo "   reforecasts in GRIB 2 too (one file per day of the year holding every year's runs, CCSDS at 16 bits):"
+echo "   classify reads them all, and the raw probabilities equal those from the forecasts/ layout"
+echo "   (the drift from the reforecasts within 3 days of the year, which reforecasts_grib/ holds)"
+"$BIN" inspect "$DATA/forecasts_steps/fc_20260115.nc" "$DATA/forecasts_grib/fc_20260115.grib2" \
+  "$DATA/reforecasts_grib/rf_0115.grib2"
 mkdir -p "$OUT/layouts"
 for set in forecasts:nc forecasts_steps:nc forecasts_grib:grib2; do
+  reforecasts="$DATA/reforecasts/*.nc"
+  [[ ${set##*:} == grib2 ]] && reforecasts="$DATA/reforecasts_grib/*.grib2"
   "$BIN" classify --quiet --model "$OUT/regimes.nc" --forecasts "$DATA/${set%%:*}/fc_2026011[2-5].${set##*:}" \
-    --reforecasts "$DATA/reforecasts/*.nc" --lag 4 --weights exp:3 --issue-date 2026-01-15 \
+    --reforecasts "$reforecasts" --reforecast-window 3 --lag 4 --weights exp:3 --issue-date 2026-01-15 \
     --csv "$OUT/layouts/${set%%:*}" --out "$OUT/layouts/guidance-${set%%:*}.json"
 done
 for set in forecasts_steps forecasts_grib; do
@@ -89,6 +111,7 @@ echo
 echo "== done. Outputs:"
 echo "   $OUT/regimes.nc                 the regime model (NetCDF-4; open with ncdump -h, h5py or xarray)"
 echo "   $OUT/regimes-summary.json       the summary table as JSON"
+echo "   $OUT/regimes-grib.nc            the same regimes derived from the GRIB copy of the reanalysis"
 echo "   $OUT/guidance-2026-01-15.json   the guidance of 2026-01-15 (schema: config/guidance.schema.json)"
 echo "   $OUT/calibration.nc             the calibration (isohypse inspect describes it)"
 echo "   $OUT/csv/daily.csv, windows.csv for impact models (calibrated; daily_raw.csv, windows_raw.csv raw)"

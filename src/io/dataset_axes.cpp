@@ -35,21 +35,22 @@ double hpa_per_unit(const std::string& units) {
   return 0.0;
 }
 
+// A dimension's role, by the CF rules on its coordinate variable (units,
+// standard_name, axis), never by its name; members alone may also be known
+// by the names GRIB converters and ensemble writers give them (number,
+// member, ensemble, realization), which carry no CF unit.
 Role role_of(const nc::File& f, const nc::Dim& dim) {
   auto cv = f.coordinate_var(dim);
   const std::string units = cv ? f.text_att(cv->id, "units").value_or("") : "";
   const std::string sn = cv ? lower(f.text_att(cv->id, "standard_name").value_or("")) : "";
   const std::string axis = cv ? lower(f.text_att(cv->id, "axis").value_or("")) : "";
   const std::string n = lower(dim.name);
-  if (is_lat_units(units) || sn == "latitude" || axis == "y" || n == "lat" || n == "latitude") return Role::Lat;
-  if (is_lon_units(units) || sn == "longitude" || axis == "x" || n == "lon" || n == "longitude") return Role::Lon;
+  if (is_lat_units(units) || sn == "latitude" || sn == "grid_latitude" || axis == "y") return Role::Lat;
+  if (is_lon_units(units) || sn == "longitude" || sn == "grid_longitude" || axis == "x") return Role::Lon;
   // A lead: a duration ("days", "hours": no "since") or forecast_period, before the time axis (a lead may say axis T).
   if (duration_seconds_per_unit(units) || sn == "forecast_period") return Role::Lead;
-  if (lower(units).find(" since ") != std::string::npos || sn == "time" || axis == "t" || n == "time")
-    return Role::Time;
-  if (hpa_per_unit(units) > 0 || sn == "air_pressure" || axis == "z" || n == "level" || n == "lev" || n == "plev" ||
-      n == "isobaricinhpa" || n == "pressure_level" || n == "pressure")
-    return Role::Level;
+  if (lower(units).find(" since ") != std::string::npos || sn == "time" || axis == "t") return Role::Time;
+  if (hpa_per_unit(units) > 0 || sn == "air_pressure" || axis == "z") return Role::Level;
   if (sn == "realization" || n == "number" || n == "member" || n == "ensemble" || n == "realization" || n == "ens" ||
       n == "ensemble_member")
     return Role::Member;
@@ -291,12 +292,16 @@ AxisPositions axis_positions(const nc::File& f, const nc::Var& var, const std::v
   at.member = position_of(Role::Member);
   if (at.lat < 0 || at.lon < 0)
     throw DataError(info.path + ": variable '" + info.variable + "' (dims " + join(dim_names) +
-                    ") has no latitude/longitude dimensions (looked for units degrees_north/degrees_east)");
+                    ") has no latitude/longitude dimensions (looked for coordinates with units "
+                    "degrees_north/degrees_east, standard_name latitude/longitude or axis Y/X)");
   for (std::size_t i = 0; i < roles.size(); ++i)
     if (roles[i] == Role::Other && f.dim(var.dims[i]).length != 1)
       throw DataError(info.path + ": variable '" + info.variable + "' has dimension '" + dim_names[i] +
                       "' of length " + std::to_string(f.dim(var.dims[i]).length) +
-                      " that isohypse does not understand (expected time, level, member, latitude, longitude)");
+                      " whose coordinate says no axis isohypse reads (CF: time 'UNIT since DATE', a lead in "
+                      "duration units or standard_name forecast_period, a level in hPa/Pa or axis Z, members with "
+                      "standard_name realization, latitude/longitude in degrees_north/degrees_east); add the "
+                      "missing attribute to the coordinate variable");
   return at;
 }
 

@@ -111,6 +111,7 @@ def main():
         labels = read_labels(os.path.join(w1, "truth", "labels.csv"))
         check_files_listed(w1, truth)
         rean = check_reanalysis(w1, truth)
+        check_grib_copies(w1, truth)
         ana = check_analysis(w1)
         patterns = check_patterns(w1, truth, rean)
         check_labels(rean, patterns, labels, truth)
@@ -124,8 +125,8 @@ def main():
 
 def check_files_listed(world, truth):
     listed = set()
-    for key in ("reanalysis", "analysis", "forecasts", "forecasts_steps", "forecasts_grib", "reforecasts",
-                "forecasts_noskill", "reforecasts_noskill"):
+    for key in ("reanalysis", "reanalysis_grib", "analysis", "forecasts", "forecasts_steps", "forecasts_grib",
+                "reforecasts", "reforecasts_grib", "forecasts_noskill", "reforecasts_noskill"):
         listed |= set(truth[key]["files"])
     listed |= set(truth["truth_files"])
     found = {os.path.relpath(p, world) for p in glob.glob(os.path.join(world, "*", "*"))}
@@ -137,6 +138,66 @@ def check_files_listed(world, truth):
     check(sorted(grib) == sorted(steps), "the GRIB 2 set holds the lead layout's 4 initialisations")
     check(len(steps) == 4 and set(steps) <= {os.path.basename(f) for f in truth["forecasts"]["files"]},
           f"the lead layout holds 4 of the forecasts' initialisations again ({', '.join(steps)})")
+
+
+def grib_messages(path, *keys):
+    """Every message of a GRIB file as eccodes (Debian's python3-eccodes) decodes it: its keys, its values
+    (NaN where the bitmap says missing) and half its packing step, 2^E / 10^D / 2 (WMO FM 92 simple packing)."""
+    import eccodes as ec
+    out = []
+    with open(path, "rb") as f:
+        while (h := ec.codes_grib_new_from_file(f)) is not None:
+            v = ec.codes_get_values(h).astype(float)
+            if ec.codes_get(h, "bitmapPresent"):
+                v[v == ec.codes_get(h, "missingValue")] = np.nan
+            half = 2.0 ** ec.codes_get(h, "binaryScaleFactor") / 10.0 ** ec.codes_get(h, "decimalScaleFactor") / 2
+            out.append(({k: ec.codes_get(h, k) for k in keys}, v.reshape(ec.codes_get(h, "Nj"), -1), half))
+            ec.codes_release(h)
+    return out
+
+
+def check_grib_copies(world, truth):
+    """reanalysis_grib/ holds reanalysis/'s values (within the packing step, the fill values missing);
+    reforecasts_grib/ holds, one file per day of the year, the reforecasts of every year initialised within the
+    stated window of days of the GRIB forecasts' initialisations, with their values."""
+    worst, same_days, same_mask = 0.0, True, True
+    for path in sorted(glob.glob(os.path.join(world, "reanalysis", "hgt500_*.nc"))):
+        with netCDF4.Dataset(path) as ds:
+            z = np.ma.filled(ds["z"][:].astype(float), np.nan)
+            t = ds["time"]
+            days = [iso(d) for d in cftime.num2date(t[:], t.units, t.calendar)]
+        msgs = grib_messages(path.replace("reanalysis", "reanalysis_grib").replace(".nc", ".grib2"), "dataDate",
+                             "shortName", "level")
+        got = [str(m[0]["dataDate"]) for m in msgs]
+        same_days &= got == [d.replace("-", "") for d in days] and all(m[0]["shortName"] == "z" for m in msgs)
+        for (keys, v, half), ref in zip(msgs, z):
+            same_mask &= np.array_equal(np.isnan(v), np.isnan(ref))
+            worst = max(worst, np.nanmax(np.abs(v - ref)) / half)
+    check(same_days and same_mask and worst <= 1.0 + 1e-6,
+          f"reanalysis_grib/: the NetCDF years' days, fill values as bitmap missing points, values within half the "
+          f"packing step (worst {worst:.3f} of it)")
+    window = truth["reforecasts_grib"]["window_days"]
+    inits = [datetime.date(int(b[3:7]), int(b[7:9]), int(b[9:11]))
+             for b in (os.path.basename(f) for f in truth["forecasts_grib"]["files"])]
+    near = lambda d: any(abs((datetime.date(i.year, d.month, d.day) - i).days) <= window for i in inits)
+    expected = sorted(os.path.basename(f) for f in truth["reforecasts"]["files"]
+                      if near(datetime.date(int(f[-11:-7]), int(f[-7:-5]), int(f[-5:-3]))))
+    found, worst = [], 0.0
+    for path in truth["reforecasts_grib"]["files"]:
+        msgs = grib_messages(os.path.join(world, path), "dataDate", "perturbationNumber", "forecastTime")
+        found += sorted({f"rf_{m[0]['dataDate']}.nc" for m in msgs})
+        first = msgs[0][0]
+        with netCDF4.Dataset(os.path.join(world, "reforecasts", f"rf_{first['dataDate']}.nc")) as ds:
+            gh = np.asarray(ds["gh"][:], float)  # (number, time, latitude ascending, longitude), metres
+        for keys, v, half in msgs:
+            if keys["dataDate"] == first["dataDate"]:
+                ref = gh[keys["perturbationNumber"], keys["forecastTime"] // 24][::-1]
+                worst = max(worst, np.abs(v - ref).max() / half)
+    check(sorted(found) == expected and len(expected) > 0,
+          f"reforecasts_grib/ holds the {len(expected)} reforecasts within {window} days of the year of the GRIB "
+          f"forecasts ({len(found)} found)")
+    check(worst <= 1.0 + 1e-6, f"reforecasts_grib/: each file's first year equals its NetCDF reforecast within half "
+          f"the packing step (worst {worst:.3f} of it)")
 
 
 def check_reanalysis(world, truth):

@@ -24,6 +24,19 @@ holes = heights.copy()
 holes[:, lat >= 60, :] = np.nan                  # nothing north of 60N, ever
 gappy = os.path.join(tmp, "hgt500_2001_no_arctic.nc")
 write_heights(gappy, holes, lat, lon, first, fill_value=-9999.0)
+# Axes are known by the CF rules, never by a dimension's name (project rule): a latitude named 'lat' whose
+# coordinate lost its units is refused, naming the file and what was looked for; a time named 'time' without
+# units is refused too.
+import netCDF4  # noqa: E402
+no_lat_units = os.path.join(tmp, "hgt500_2001_lat_without_units.nc")
+write_heights(no_lat_units, heights, lat, lon, first)
+with netCDF4.Dataset(no_lat_units, "a") as ds:
+    ds["lat"].delncattr("units")
+no_time_units = os.path.join(tmp, "hgt500_2001_time_without_units.nc")
+write_heights(no_time_units, heights, lat, lon, first)
+with netCDF4.Dataset(no_time_units, "a") as ds:
+    ds["time"].delncattr("units")
+    ds["time"].delncattr("calendar")
 fast = write_config(tmp, FAST)
 misspelt = write_config(tmp, {"regimes": {"classifiabilty_runs": 10}}, "misspelt.json")
 many_eofs = write_config(tmp, {**FAST, "eof": {"count": 40}}, "many_eofs.json")
@@ -41,6 +54,10 @@ cases = [
      [os.path.basename(gappy), "missing"]),
     ("a domain outside the grid", ["--input", year, "--config", fast, "--domain", "-60,-30,0,360"],
      [os.path.basename(year), "-60"]),
+    ("a latitude coordinate without units", ["--input", no_lat_units, "--config", fast],
+     [os.path.basename(no_lat_units), "latitude", "degrees_north"]),
+    ("a time coordinate without units", ["--input", no_time_units, "--config", fast],
+     [os.path.basename(no_time_units), "'time'", "since"]),
     ("--months 13", ["--input", year, "--config", fast, "--months", "13"], ["--months", "13"]),
     # Flags that were once ignored when out of range, now checked with the
     # config's own settings (DeriveConfig::validate).
