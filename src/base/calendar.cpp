@@ -350,6 +350,17 @@ TimeUnits parse_time_units(std::string_view units, Calendar cal) {
   return tu;
 }
 
+namespace {
+
+[[noreturn]] void throw_outside_years(double value, const TimeUnits& units) {
+  std::ostringstream v;
+  v << value;
+  throw DataError("time value " + v.str() + " in '" + units.text +
+                  "' lies outside the years 1-9999 that isohypse reads (a damaged or mislabelled time)");
+}
+
+}  // namespace
+
 Instant decode_time(double value, const TimeUnits& units) {
   if (!std::isfinite(value)) throw DataError("time value is missing or not finite (units '" + units.text + "')");
   if (units.step == TimeUnits::Step::Months) {
@@ -357,13 +368,19 @@ Instant decode_time(double value, const TimeUnits& units) {
     if (std::abs(value - whole) > 1e-6)
       throw DataError("time value " + std::to_string(value) + " in '" + units.text +
                       "' is not a whole number of months: isohypse decodes 'months since' as calendar months only");
+    if (std::abs(whole) > 12.0 * 10000.0) throw_outside_years(value, units);
     return Instant{add_months(units.epoch, static_cast<std::int64_t>(whole)), 0.0};
   }
   // Whole seconds first: float time values like 0.99999994 days mean midnight.
   double total = std::round(value * units.seconds_per_unit + units.epoch_seconds_of_day);
   double days = std::floor(total / 86400.0);
   double sod = total - days * 86400.0;
-  return Instant{add_days(units.epoch, static_cast<std::int64_t>(days)), sod};
+  // Years 1-9999 only (issue 15): a damaged time value is refused before it can overflow the day arithmetic.
+  constexpr double kMostDays = 366.0 * 10000.0;
+  if (std::abs(days) > kMostDays) throw_outside_years(value, units);
+  const Instant t{add_days(units.epoch, static_cast<std::int64_t>(days)), sod};
+  if (t.date.year < 1 || t.date.year > 9999) throw_outside_years(value, units);
+  return t;
 }
 
 std::optional<double> duration_seconds_per_unit(std::string_view units) {

@@ -73,6 +73,13 @@ void run_calibrate(CalibrateConfig cfg, const Outputs& o) {
   cfg.method = parse_calibration_method(o.method);
   cfg.model_file = o.model;
   cfg.validate();
+  RunOutputs run;  // outputs checked against the inputs and for writability before any work
+  run.input("--model", o.model);
+  add_inputs(run, "--reforecasts", cfg.reforecasts);
+  add_inputs(run, "--observed", cfg.observed);
+  run.output("--out", o.out);
+  run.output("--cases", o.cases);
+  run.check();
   Stopwatch clock;
   const RegimeModel model = read_regime_model(o.model);
   const double model_s = clock.lap();
@@ -82,8 +89,9 @@ void run_calibrate(CalibrateConfig cfg, const Outputs& o) {
   const Calibration c = calibrate_reforecasts(model, cfg, terminal_progress(tty), &t, o.cases.empty() ? nullptr : &cases);
   if (tty) std::cerr << "\r" << std::string(60, ' ') << "\r";
   clock.lap();
-  write_calibration(c, o.out);
-  if (!o.cases.empty()) write_file_atomically(o.cases, cases);
+  write_calibration(c, run.stage(o.out));
+  if (!o.cases.empty()) write_file_atomically(run.stage(o.cases), cases);
+  run.commit();
   const double write_s = clock.lap();
   if (o.timings) print_timings(t, model_s, write_s);
   if (!o.quiet) {

@@ -1,4 +1,5 @@
 // isohypse classify: lagged-ensemble forecasts in, regime guidance out.
+#include <filesystem>
 #include <unistd.h>
 
 #include <algorithm>
@@ -103,6 +104,17 @@ void print_timings(const ClassifyTimings& tm, const CommandTimes& cmd, bool csv)
 
 void run_classify(const ClassifyConfig& cfg, const Outputs& o) {
   cfg.validate();  // a bad setting is refused before the model is read
+  RunOutputs run;  // outputs checked against the inputs and for writability before any work
+  run.input("--model", o.model);
+  add_inputs(run, "--forecasts", cfg.forecasts);
+  add_inputs(run, "--reforecasts", cfg.reforecasts);
+  add_inputs(run, "--analysis", cfg.analysis);
+  run.input("--calibration", cfg.calibration);
+  run.output("--out", o.out);
+  std::vector<std::string> tables = {"daily.csv", "windows.csv"};
+  if (!cfg.calibration.empty()) tables.insert(tables.end(), {"daily_raw.csv", "windows_raw.csv"});
+  run.output_folder("--csv", o.csv, tables);
+  run.check();
   CommandTimes cmd;
   const auto t_start = Clock::now();
   const RegimeModel model = read_regime_model(o.model);
@@ -112,8 +124,11 @@ void run_classify(const ClassifyConfig& cfg, const Outputs& o) {
   const nlohmann::json g = classify_forecasts(model, cfg, terminal_progress(tty), &tm);
   if (tty) std::cerr << "\r" << std::string(60, ' ') << "\r";
   const auto t_write = Clock::now();
-  write_file_atomically(o.out, g.dump(1) + "\n");
-  if (!o.csv.empty()) write_guidance_csv(g, o.csv);
+  write_file_atomically(run.stage(o.out), g.dump(1) + "\n");
+  if (!o.csv.empty())
+    for (const auto& [name, text] : guidance_csv_files(g))
+      write_file_atomically(run.stage((std::filesystem::path(o.csv) / name).string()), text);
+  run.commit();
   cmd.write_s = seconds_since(t_write);
   cmd.total_s = seconds_since(t_start);
   if (o.timings) print_timings(tm, cmd, !o.csv.empty());

@@ -159,11 +159,18 @@ void add_derive(CLI::App& app) {
       print_plan(cfg, a->out);
       return;
     }
+    RunOutputs run;  // outputs checked against the inputs and for writability before any work
+    run.input("--config", a->config);
+    add_inputs(run, "--input", cfg.inputs);
+    run.output("--out", a->out);
+    run.output("--summary", a->summary);
+    run.check();
     ProgressLine line;
     RegimeModel model = derive_regimes(cfg, std::ref(line));
     line.end();
-    write_regime_model(model, a->out);
-    if (!a->summary.empty()) write_file_atomically(a->summary, model_summary(model).dump(2) + "\n");
+    write_regime_model(model, run.stage(a->out));
+    if (!a->summary.empty()) write_file_atomically(run.stage(a->summary), model_summary(model).dump(2) + "\n");
+    run.commit();
     std::cout << summary_text(model) << "\nregime model written to " << a->out << "\n";
     if (!a->summary.empty()) std::cout << "summary written to " << a->summary << "\n";
   });

@@ -55,10 +55,18 @@ void add_verify(CLI::App& app) {
                 "record");
   sub->callback([cfg, files] {
     cfg->validate();  // before the model is read: a bad flag fails at once
+    RunOutputs run;    // outputs checked against the inputs and for writability before any work
+    run.input("--model", files->model);
+    add_inputs(run, "--guidance", cfg->guidance, true);
+    add_inputs(run, "--observed", cfg->observed);
+    run.output("--out", files->out);
+    run.output("--html", files->html);
+    run.check();
     const RegimeModel model = read_regime_model(files->model);
     const nlohmann::json rep = verify_guidance(model, *cfg);
-    write_file_atomically(files->out, rep.dump(1) + "\n");
-    if (!files->html.empty()) write_file_atomically(files->html, verification_html(rep));
+    write_file_atomically(run.stage(files->out), rep.dump(1) + "\n");
+    if (!files->html.empty()) write_file_atomically(run.stage(files->html), verification_html(rep));
+    run.commit();
     std::cout << verification_text(rep) << "\nreport written to " << files->out << "\n";
     if (!files->html.empty()) std::cout << "page written to " << files->html << "\n";
   });

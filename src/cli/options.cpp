@@ -1,6 +1,9 @@
 #include "cli/options.hpp"
 
+#include <filesystem>
+
 #include "isohypse/base/error.hpp"
+#include "isohypse/io/reader.hpp"
 
 namespace isohypse::cli {
 
@@ -36,6 +39,21 @@ CLI::Option* add_date_option(CLI::App* sub, const std::string& flag, std::option
   return sub->add_option_function<std::string>(
       flag, [&date, flag](const std::string& text) { date = parse_date(text, Calendar::ProlepticGregorian, flag); },
       help);
+}
+
+void add_inputs(RunOutputs& run, const std::string& flag, const std::vector<std::string>& patterns, bool folders) {
+  for (const std::string& pattern : patterns) {
+    std::error_code ec;
+    if (folders && std::filesystem::is_directory(pattern, ec)) {
+      run.input_folder(flag, pattern);
+      continue;
+    }
+    try {
+      run.inputs(flag, expand_paths({pattern}));
+    } catch (const InputError&) {
+      // Nothing matches: the stage's reader says so, by name, in its own words.
+    }
+  }
 }
 
 }  // namespace isohypse::cli

@@ -10,6 +10,7 @@
 #include <vector>
 
 #include "isohypse/base/calendar.hpp"
+#include "isohypse/base/run_outputs.hpp"
 #include "isohypse/base/vocabulary.hpp"
 #include "isohypse/numerics/ensemble_stats.hpp"
 
@@ -25,5 +26,11 @@ CLI::Option* add_threads_option(CLI::App* sub, int& threads);
 CLI::Option* add_weights_option(CLI::App* sub, Weighting& weights);
 // A date flag, YYYY-MM-DD in the real (proleptic Gregorian) calendar.
 CLI::Option* add_date_option(CLI::App* sub, const std::string& flag, std::optional<Date>& date, const std::string& help);
+
+// Declares the files of `patterns` (paths, globs and, with folders = true,
+// folders) as inputs of `run`; a pattern that matches nothing is left to the
+// stage's reader to report.
+void add_inputs(RunOutputs& run, const std::string& flag, const std::vector<std::string>& patterns,
+                bool folders = false);
 
 }  // namespace isohypse::cli

@@ -58,6 +58,7 @@ HeightDataset HeightDataset::open(const std::string& path, const std::string& va
   const nc::File& f = impl->file;
   DatasetInfo& info = impl->info;
   info.path = path;
+  info.level_hpa = level_hpa;
   info.format = f.format_name();
   info.candidates = detail::find_candidates(f);
   impl->var = detail::choose_height_variable(f, info, variable);
@@ -232,6 +233,7 @@ void HeightDataset::read_raw(const DomainSelection& sel, std::size_t t0, std::si
   raw.lat_descending = info.lat_descending();
   raw.packing = info.packing;
   raw.to_metres = info.to_metres;
+  raw.level_hpa = info.level_hpa;
   raw.path = info.path;
   raw.boxes.clear();
   const std::vector<Wanted> wanted = boxes_to_read(info, sel);
@@ -256,7 +258,53 @@ void HeightDataset::read_raw(const DomainSelection& sel, std::size_t t0, std::si
   }
 }
 
+HeightRange plausible_heights(double level_hpa) {
+  constexpr double kT0 = 288.15, kLapse = 0.0065, kP0 = 1013.25, kExponent = 0.190263;  // ICAO troposphere
+  constexpr double kTropopauseHpa = 226.32, kScaleHeight = 6341.62;                    // R T / g at 216.65 K
+  const double z = level_hpa >= kTropopauseHpa
+                       ? kT0 / kLapse * (1.0 - std::pow(level_hpa / kP0, kExponent))
+                       : 11000.0 + kScaleHeight * std::log(kTropopauseHpa / level_hpa);
+  return {z - std::max(600.0, 0.28 * std::abs(z)), z + std::max(600.0, 0.17 * std::abs(z))};
+}
+
+namespace {
+
+std::size_t unpack_values(RawBlock& raw, arma::fmat& out);
+
+// Values outside the level's plausible heights become missing; returns how
+// many. More than 1 % of the block is refused (see unpack).
+std::size_t drop_implausible(const RawBlock& raw, arma::fmat& out) {
+  const HeightRange r = plausible_heights(raw.level_hpa);
+  const auto lo = static_cast<float>(r.lo), hi = static_cast<float>(r.hi);
+  std::size_t n = 0;
+  float found_lo = std::numeric_limits<float>::max(), found_hi = std::numeric_limits<float>::lowest();
+  for (float& v : out) {
+    if (!(v < lo || v > hi)) continue;  // NaN (already missing) passes
+    found_lo = std::min(found_lo, v);
+    found_hi = std::max(found_hi, v);
+    v = std::numeric_limits<float>::quiet_NaN();
+    ++n;
+  }
+  if (n > 0 && static_cast<double>(n) > 0.01 * static_cast<double>(out.n_elem))
+    throw DataError(raw.path + ": " + std::to_string(n) + " of " + std::to_string(out.n_elem) +
+                    " values read lie outside the plausible heights of " + number_text(raw.level_hpa) + " hPa (" +
+                    number_text(std::round(r.lo)) + " to " + number_text(std::round(r.hi)) + " m; found " +
+                    number_text(found_lo) + " to " + number_text(found_hi) +
+                    " m): wrong units (geopotential given as metres?), another level or a damaged file");
+  return n;
+}
+
+}  // namespace
+
 std::size_t unpack(RawBlock& raw, arma::fmat& out) {
+  const std::size_t missing = unpack_values(raw, out);
+  return std::isnan(raw.level_hpa) ? missing : missing + drop_implausible(raw, out);
+}
+
+namespace {
+
+// The values in metres, missing codes and invalid values as NaN (see unpack).
+std::size_t unpack_values(RawBlock& raw, arma::fmat& out) {
   for (RawBlock::Box& box : raw.boxes)
     if (!box.inflated) {  // compressed chunks: inflated here, on the caller's thread
       detail::inflate_chunks(box.stored, raw.values.data() + box.offset, raw.path);
@@ -313,6 +361,8 @@ std::size_t unpack(RawBlock& raw, arma::fmat& out) {
       }
   return n_missing;
 }
+
+}  // namespace
 
 bool HeightDataset::inflates_chunks() const {
   const Impl& im = *impl_;

@@ -309,6 +309,14 @@ void read_horizontal_axes(const nc::File& f, const nc::Var& var, const AxisPosit
   info.file_lat = arma::vec(coordinate_values(f, var, at.lat, "latitude", info.path));
   info.file_lon = arma::vec(coordinate_values(f, var, at.lon, "longitude", info.path));
   const arma::vec& lat = info.file_lat;
+  for (arma::uword i = 0; i < lat.n_elem; ++i)
+    if (!(std::abs(lat(i)) <= 90.0 + 1e-6))
+      throw DataError(info.path + ": latitude " + number_text(lat(i)) + " (index " + std::to_string(i) +
+                      ") lies beyond -90..90 degrees: a damaged or mislabelled latitude coordinate");
+  for (arma::uword i = 0; i < info.file_lon.n_elem; ++i)
+    if (!(std::abs(info.file_lon(i)) <= 720.0))
+      throw DataError(info.path + ": longitude " + number_text(info.file_lon(i)) + " (index " + std::to_string(i) +
+                      ") lies beyond -720..720 degrees: a damaged or mislabelled longitude coordinate");
   for (arma::uword i = 1; i < lat.n_elem; ++i)
     if ((lat(i) - lat(i - 1)) * (lat(1) - lat(0)) <= 0) throw DataError(info.path + ": latitudes are not monotonic");
   for (arma::uword i = 1; i < info.file_lon.n_elem; ++i)

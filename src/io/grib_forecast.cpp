@@ -94,6 +94,7 @@ void read_grib_member(const GribIndex& index, const std::vector<std::size_t>& st
   raw.lat_descending = g.latitudes.size() > 1 && g.latitudes.front() > g.latitudes.back();
   raw.packing = Packing{};  // decoded values are metres, NaN where missing
   raw.to_metres = 1.0;
+  raw.level_hpa = index.messages.at(steps.front()).level_hpa;
   raw.values.resize(steps.size() * ni * nj);
   std::vector<float> field;
   for (std::size_t t = 0; t < steps.size(); ++t) {

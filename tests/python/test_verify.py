@@ -242,6 +242,16 @@ string_p = os.path.join(bad, "string-probability.json")
 json.dump(doc, open(string_p, "w"))
 refused_with(["--guidance", string_p], 3, [string_p, "daily[2]", f"probability of '{states[0]}' is a string"],
              "a probability that is a string")
+for version in (5, 0, "4", None):  # issue 15: a later, impossible, textual or missing format version
+    doc = json.loads(good_text)
+    if version is None:
+        del doc["format_version"]
+    else:
+        doc["format_version"] = version
+    path = os.path.join(bad, f"format-version-{version}.json")
+    json.dump(doc, open(path, "w"))
+    words = [path, "format_version", "versions 1 to 4"] if version is not None else [path, "format_version"]
+    refused_with(["--guidance", path], 3, words, f"guidance of format version {version!r}")
 
 # 7. Intervals from moving blocks of consecutive issue dates (Kuensch 1989): blocks of the lag span + 7 days by
 #    default, the block length and count beside every interval and on the page; no interval below 3 blocks.

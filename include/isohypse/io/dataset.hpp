@@ -25,6 +25,7 @@
 
 #include <armadillo>
 #include <memory>
+#include <limits>
 #include <optional>
 #include <string>
 #include <vector>
@@ -75,6 +76,7 @@ struct DatasetInfo {
   std::vector<double> levels;         // hPa, empty when there is no level dimension
   std::string level_note;             // how the level was chosen (for inspect)
   std::size_t level_index = 0;        // into levels (0 without a level dimension)
+  double level_hpa = 500.0;           // the level read (hPa): plausible_heights() checks against it
   Calendar calendar = Calendar::Standard;
   std::string time_units;             // as in the file, "UNIT since DATE"
   std::vector<Instant> times;         // decoded, in file order
@@ -152,13 +154,28 @@ struct RawBlock {
   bool lat_descending = false;
   Packing packing;
   double to_metres = 1.0;
+  double level_hpa = std::numeric_limits<double>::quiet_NaN();  // NaN: no plausibility check
 };
+
+// The heights a pressure level can plausibly have, in metres: the ICAO
+// standard atmosphere's height of the level (ICAO 1993, Manual of the ICAO
+// Standard Atmosphere, Doc 7488: 288.15 K and 6.5 K/km up to 11 km, then
+// isothermal at 216.65 K) less 28 % (at least 600 m) and plus 17 % (at least
+// 600 m). At 500 hPa that is 4,014-6,522 m, the common-practice range of
+// about 4,000-6,500 m; at 850 hPa 857-2,057 m; at 250 hPa 7,461-12,125 m (rounded).
+struct HeightRange {
+  double lo, hi;
+};
+HeightRange plausible_heights(double level_hpa);
 
 // Heights in metres (n_points x count, NaN where missing; the points in the
 // output grid's order, see field.hpp) from a raw block, inflating its
 // compressed chunks first; returns how many values were missing. `out`
 // keeps its memory when its size holds. Throws DataError naming the file
-// when a chunk does not inflate.
+// when a chunk does not inflate. With raw.level_hpa set, a value outside
+// plausible_heights() is missing too (and counted); when more than 1 % of
+// the block is, the block is refused (DataError naming the file, the range
+// found and the range expected: wrong units or a damaged file).
 std::size_t unpack(RawBlock& raw, arma::fmat& out);
 
 // The part of a grid (info.file_lat, file_lon, path) that `domain` takes

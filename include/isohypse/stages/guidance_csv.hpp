@@ -4,6 +4,8 @@
 
 #include <nlohmann/json.hpp>
 #include <string>
+#include <utility>
+#include <vector>
 
 namespace isohypse {
 
@@ -19,5 +21,8 @@ namespace isohypse {
 // document from classify_forecasts. Throws InputError when DIR cannot be
 // created or a file cannot be written.
 void write_guidance_csv(const nlohmann::json& guidance, const std::string& dir);
+// The same tables, each file name with its text (every table is made before
+// any is returned: a malformed document throws and gives none).
+std::vector<std::pair<std::string, std::string>> guidance_csv_files(const nlohmann::json& guidance);
 
 }  // namespace isohypse

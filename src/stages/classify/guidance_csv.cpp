@@ -58,18 +58,23 @@ std::string windows_csv(const json& g, const std::string& prefix) {
 
 }  // namespace
 
-void write_guidance_csv(const json& g, const std::string& dir) {
-  std::error_code ec;
-  std::filesystem::create_directories(dir, ec);
-  if (ec) throw InputError(dir + ": cannot create the folder: " + ec.message());
+std::vector<std::pair<std::string, std::string>> guidance_csv_files(const json& g) {
   const bool calibrated = g.contains("calibration") && g.at("calibration").value("applied", false);
-  // Every table is made before any is written: a malformed document leaves no file.
   std::vector<std::pair<std::string, std::string>> files = {{"daily.csv", daily_csv(g, "")},
                                                             {"windows.csv", windows_csv(g, "")}};
   if (calibrated) {
     files.emplace_back("daily_raw.csv", daily_csv(g, "raw_"));
     files.emplace_back("windows_raw.csv", windows_csv(g, "raw_"));
   }
+  return files;
+}
+
+void write_guidance_csv(const json& g, const std::string& dir) {
+  // Every table is made before any is written: a malformed document leaves no file.
+  const auto files = guidance_csv_files(g);
+  std::error_code ec;
+  std::filesystem::create_directories(dir, ec);
+  if (ec) throw InputError(dir + ": cannot create the folder: " + ec.message());
   for (const auto& [name, text] : files) write_file_atomically((std::filesystem::path(dir) / name).string(), text);
 }
 

@@ -8,6 +8,7 @@
 #include "isohypse/base/atomic_file.hpp"
 #include "isohypse/base/error.hpp"
 #include "isohypse/io/reader.hpp"
+#include "isohypse/stages/classify.hpp"
 
 namespace isohypse::verification {
 
@@ -219,7 +220,17 @@ bool calibration_applied(const json& g, const std::string& file) {
   return applied.get<bool>();
 }
 
+// Versions 1-3 (before calibration) are read on purpose: a season's archive
+// may span an upgrade. A later version, or none, is refused by name.
+void check_format_version(const json& g, const std::string& file) {
+  const json& v = member(g, "format_version", file, "guidance");
+  if (!v.is_number_integer() || v.get<long long>() < 1 || v.get<long long>() > kGuidanceFormatVersion)
+    bad_guidance(file, "format_version is " + v.dump() + "; this isohypse reads guidance of format versions 1 to " +
+                           std::to_string(kGuidanceFormatVersion) + " (a later version needs a later isohypse)");
+}
+
 GuidanceIssue parse_issue(const json& g, const std::string& file, const std::vector<std::string>& states) {
+  check_format_version(g, file);
   GuidanceIssue issue;
   issue.file = file;
   issue.issue = date_value(member(g, "issue_date", file, "guidance"), file, "issue_date");
