@@ -71,8 +71,8 @@ long member_number(const grib::Handle& h) {
 // over the same parameter tables (definitions/grib*/paramId.def, shortName.def,
 // units.def and their localConcepts: one entry each, with the same
 // conditions), so a paramId names one shortName and units. Each evaluation
-// costs about 0.3 ms of CPU (ecCodes 2.28 on the project machine), and the
-// three were three quarters of the scan (bench/README.md, "classify from
+// costs 0.17-0.31 ms of CPU (ecCodes 2.28, two runs on the project machine), and the
+// three were most of the scan (bench/README.md, "classify from
 // GRIB"). An unknown parameter (paramId 0) is looked up every time.
 class ParameterNames {
 public:
