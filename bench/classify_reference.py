@@ -232,13 +232,16 @@ def most_likely(p):
     return int(np.nonzero(p >= p.max() - 1e-12)[0][0])
 
 
-def classify_files(model, paths, issue=None, scheme="equal", log=None):
-    """The whole reference. Returns a dict of numpy arrays (and timings)."""
+def classify_files(model, paths, issue=None, scheme="equal", log=None, read=read_forecast):
+    """The whole reference. Returns a dict of numpy arrays (and timings).
+    read(path, model) -> (init, heights (members, leads, points)) reads one
+    initialisation's file (read_forecast, or the GRIB reader of
+    bench/classify_grib_reference.py)."""
     timing = {}
     t0 = time.perf_counter()
     inits, heights = [], []
     for p in paths:
-        init, z = read_forecast(p, model)
+        init, z = read(p, model)
         inits.append(init)
         heights.append(z)
     timing["read"] = time.perf_counter() - t0

@@ -88,7 +88,11 @@ void print_timings(const ClassifyTimings& tm, const CommandTimes& cmd, bool csv)
   row("scan: metadata of every forecast and reforecast file", tm.scan_s);
   row("references: climatology or reforecast model climate", tm.reference_s);
   row("members, on " + std::to_string(tm.threads) + " threads", tm.members_wall_s);
-  row("  read with netCDF-C (one thread at a time)", tm.read_s);
+  const char* read_row = tm.grib_initialisations == 0 ? "  read with netCDF-C (one thread at a time)"
+                         : tm.grib_initialisations == tm.initialisations
+                             ? "  read and decoded with ecCodes (GRIB, on every thread)"
+                             : "  read: netCDF-C (one thread at a time), ecCodes (GRIB)";
+  row(read_row, tm.read_s);
   row("  unpacked to metres, daily means, regridding", tm.unpack_s);
   row("  anomalies, projection, nearest centroid", tm.label_s);
   row("statistics: probabilities, windows, persistence", tm.statistics_s);

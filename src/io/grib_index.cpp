@@ -66,17 +66,39 @@ long member_number(const grib::Handle& h) {
   return n;
 }
 
+// shortName and units of a parameter, looked up once per (edition, centre,
+// paramId). ecCodes evaluates paramId, shortName and units as three concepts
+// over the same parameter tables (definitions/grib*/paramId.def, shortName.def,
+// units.def and their localConcepts: one entry each, with the same
+// conditions), so a paramId names one shortName and units. Each evaluation
+// costs 0.17-0.31 ms of CPU (ecCodes 2.28, two runs on the project machine), and the
+// three were most of the scan (bench/README.md, "classify from
+// GRIB"). An unknown parameter (paramId 0) is looked up every time.
+class ParameterNames {
+public:
+  const std::pair<std::string, std::string>& of(const grib::Handle& h, long edition, long param_id) {
+    const auto key = std::make_tuple(edition, h.defined("centre") ? h.get_long("centre") : -1L, param_id);
+    auto it = names_.find(key);
+    if (it != names_.end() && param_id != 0) return it->second;
+    auto names = std::make_pair(h.get_string("shortName"), h.get_string("units"));
+    return names_.insert_or_assign(key, std::move(names)).first->second;
+  }
+
+private:
+  std::map<std::tuple<long, long, long>, std::pair<std::string, std::string>> names_;
+};
+
 // Everything the index keeps about one message, its parameter and level
 // read first so that other messages are skipped cheaply.
-GribMessage describe_message(const grib::Handle& h, const std::string& path, std::uint64_t offset) {
+GribMessage describe_message(const grib::Handle& h, const std::string& path, std::uint64_t offset,
+                             ParameterNames& names) {
   GribMessage m;
   m.path = path;
   m.offset = offset;
   m.length = static_cast<std::uint64_t>(h.get_long("totalLength"));
   m.edition = h.get_long("edition");
   m.param_id = h.get_long("paramId");
-  m.short_name = h.get_string("shortName");
-  m.units = h.get_string("units");
+  std::tie(m.short_name, m.units) = names.of(h, m.edition, m.param_id);
   m.type_of_level = h.get_string("typeOfLevel");
   return m;
 }
@@ -154,7 +176,7 @@ void check_file_end(const std::string& path, std::FILE* f, std::uint64_t end_of_
 
 // One file: every message read, the heights at the level kept.
 void scan_file(const std::string& path, const GribScanOptions& o, GribIndex& index, std::string& first_where,
-               grib::GridCache& cache) {
+               grib::GridCache& cache, ParameterNames& names) {
   std::error_code ec;
   if (!std::filesystem::exists(path, ec)) throw InputError(path + ": no such file");
   if (std::filesystem::is_directory(path, ec)) throw InputError(path + ": is a folder, not a file");
@@ -169,7 +191,7 @@ void scan_file(const std::string& path, const GribScanOptions& o, GribIndex& ind
     if (raw && codes_get_message_offset(raw, &offset) != 0) offset = -1;
     grib::Handle h(raw, path + ": message at byte " + std::to_string(offset));
     if (!h.valid()) break;
-    GribMessage m = describe_message(h, path, static_cast<std::uint64_t>(offset));
+    GribMessage m = describe_message(h, path, static_cast<std::uint64_t>(offset), names);
     end_of_last = m.offset + m.length;
     const auto to_metres = height_to_metres(m.param_id, m.short_name);
     if (!to_metres) {
@@ -271,7 +293,8 @@ GribIndex scan_grib_heights(const std::vector<std::string>& paths, const GribSca
   index.paths = paths;
   std::string first_where;
   grib::GridCache cache;
-  for (const std::string& path : paths) scan_file(path, options, index, first_where, cache);
+  ParameterNames names;
+  for (const std::string& path : paths) scan_file(path, options, index, first_where, cache, names);
   std::stable_sort(index.messages.begin(), index.messages.end(),
                    [](const GribMessage& a, const GribMessage& b) { return order_key(a) < order_key(b); });
   refuse_duplicates(index.messages);

@@ -60,7 +60,9 @@ struct ClassifyConfig {
 struct ClassifyTimings {
   double scan_s = 0;          // metadata of every forecast and reforecast file
   double reference_s = 0;     // climatology, or the model climate from reforecasts (read here)
-  double read_s = 0;          // forecast members: netCDF-C reads (one thread at a time)
+  double read_s = 0;          // forecast members: netCDF-C reads (one thread at a time), GRIB decoding (any thread)
+  int grib_initialisations = 0;  // of the chosen initialisations, those read from GRIB
+  int initialisations = 0;       // chosen initialisations
   double unpack_s = 0;        // ... unpacked to metres, daily means, regridded
   double label_s = 0;         // anomalies, projection, labels (and --members detail)
   double members_wall_s = 0;  // the three above, on `threads` threads

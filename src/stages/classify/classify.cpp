@@ -54,6 +54,8 @@ nlohmann::json classify_forecasts(const RegimeModel& model, const ClassifyConfig
   const LaggedEnsemble ensemble = choose_lagged_ensemble(model, cfg, report);
   const std::vector<Initialisation> reforecasts = scan_reforecasts(model, cfg, ensemble, report);
   time.scan_s = clock.lap();
+  time.initialisations = static_cast<int>(ensemble.chosen.size());
+  for (const Initialisation* in : ensemble.chosen) time.grib_initialisations += in->grib != nullptr;
 
   const ModelClimate climate = build_model_climate(model, cfg, ensemble, reforecasts, report);
   time.reference_s = clock.lap();
