@@ -84,7 +84,8 @@ void add_inspect(CLI::App& app) {
         last_failure = j;
       }
       if (args->json) all.push_back(j);
-      else if (!j.contains("error") || paths.size() > 1) std::cout << describe_text(j) << "\n";
+      else if (!j.contains("error") || paths.size() > 1 || j.contains("values_problem"))
+        std::cout << describe_text(j) << "\n";
     }
     if (args->json) std::cout << (paths.size() == 1 ? all[0] : all).dump(2) << "\n";
     if (failures == 1 && paths.size() == 1) {

@@ -55,6 +55,19 @@ nlohmann::json describe_grib(const std::string& path, double level_hpa) {
   return j;
 }
 
+// The missing values, or (values implausible for the level) the problem:
+// the description stands, the values cannot be used.
+void count_missing_values(const HeightDataset& ds, nlohmann::json& j) {
+  try {
+    j["missing_values"] = ds.count_missing();
+  } catch (const DataError& e) {
+    j["missing_values"] = nullptr;
+    j["values_problem"] = e.what();
+    j["error"] = e.what();
+    j["error_kind"] = "data";
+  }
+}
+
 }  // namespace
 
 nlohmann::json describe_file(const std::string& path, const std::string& variable, double level_hpa) {
@@ -125,8 +138,8 @@ nlohmann::json describe_file(const std::string& path, const std::string& variabl
                     {"add_offset", pk.add_offset}, {"missing_codes", pk.missing}};
     if (pk.valid_min) j["packing"]["valid_min"] = *pk.valid_min;
     if (pk.valid_max) j["packing"]["valid_max"] = *pk.valid_max;
-    j["missing_values"] = ds.count_missing();
     j["chunks_inflated_by_isohypse"] = ds.inflates_chunks();
+    count_missing_values(ds, j);
   } catch (const Error& e) {
     j["error"] = e.what();
     j["error_kind"] = dynamic_cast<const InputError*>(&e) ? "input" : "data";
@@ -157,7 +170,7 @@ std::string describe_text(const nlohmann::json& j) {
     }
     o << "\n";
   }
-  if (j.contains("error")) {
+  if (j.contains("error") && !j.contains("values_problem")) {
     o << "  cannot use: " << j["error"].get<std::string>() << "\n";
     return o.str();
   }
@@ -201,7 +214,8 @@ std::string describe_text(const nlohmann::json& j) {
     o << " x " << pk["scale_factor"].get<double>() << " + " << pk["add_offset"].get<double>();
   o << "; missing codes";
   for (const auto& m : pk["missing_codes"]) o << " " << m.get<double>();
-  o << "; " << j["missing_values"] << " missing values in " << j["variable"].get<std::string>() << "\n";
+  if (j["missing_values"].is_null()) o << "\n  values      cannot be used: " << j["values_problem"].get<std::string>() << "\n";
+  else o << "; " << j["missing_values"] << " missing values in " << j["variable"].get<std::string>() << "\n";
   if (j.value("chunks_inflated_by_isohypse", false))
     o << "  storage     compressed chunks, read directly and inflated by isohypse on every core\n";
   return o.str();
