@@ -1,5 +1,6 @@
 #include "isohypse/io/grib_decode.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <cstring>
 #include <fstream>
@@ -57,17 +58,50 @@ void to_latitude_major(const std::vector<double>& values, const GribGrid& g, dou
     for (std::size_t j = 0; j < nj; ++j) out[j * ni + i] = static_cast<float>(values[i * nj + j] * scale);
 }
 
+// Simple packing unpacked here (GribMessage::SimplePacking): the X are
+// big-endian bit fields of `bits` bits, one after another; bits 0 is a
+// constant field R / 10^D.
+void unpack_simple(const GribMessage& m, const std::vector<unsigned char>& bytes, std::vector<double>& values) {
+  const GribMessage::SimplePacking& p = *m.simple;
+  const auto bits = static_cast<unsigned>(m.bits_per_value);
+  const double two_e = std::ldexp(1.0, static_cast<int>(p.binary_scale));
+  const double ten_d = std::pow(10.0, -static_cast<double>(p.decimal_scale));
+  values.resize(static_cast<std::size_t>(p.values));
+  const unsigned char* data = bytes.data() + p.data_offset;
+  if (bits == 0) {
+    std::fill(values.begin(), values.end(), p.reference * ten_d);
+    return;
+  }
+  const std::uint64_t mask = (std::uint64_t{1} << bits) - 1;
+  std::uint64_t acc = 0;
+  unsigned have = 0;
+  for (double& v : values) {
+    while (have < bits) {
+      acc = (acc << 8) | *data++;
+      have += 8;
+    }
+    const std::uint64_t x = (acc >> (have - bits)) & mask;
+    have -= bits;
+    acc &= (std::uint64_t{1} << have) - 1;
+    v = (p.reference + static_cast<double>(x) * two_e) * ten_d;
+  }
+}
+
 }  // namespace
 
 void decode_grib_field(const GribMessage& message, const GribGrid& grid, std::vector<float>& out,
                        GribDecodeScratch& scratch) {
   read_message_bytes(message, scratch.bytes);
-  const grib::Handle h = grib::Handle::from_message(scratch.bytes.data(), scratch.bytes.size(), message.where());
-  h.get_doubles("values", scratch.values);
+  if (message.simple) {
+    unpack_simple(message, scratch.bytes, scratch.values);
+  } else {
+    const grib::Handle h = grib::Handle::from_message(scratch.bytes.data(), scratch.bytes.size(), message.where());
+    h.get_doubles("values", scratch.values);
+    apply_bitmap(h, scratch.values);
+  }
   if (scratch.values.size() != grid.n_points())
     throw DataError(message.where() + ": " + std::to_string(scratch.values.size()) + " values for a grid of " +
                     std::to_string(grid.ni) + " x " + std::to_string(grid.nj) + " points");
-  apply_bitmap(h, scratch.values);
   to_latitude_major(scratch.values, grid, message.to_metres, out);
 }
 

@@ -8,6 +8,7 @@
 #include <filesystem>
 #include <map>
 #include <memory>
+#include <optional>
 #include <sstream>
 #include <tuple>
 
@@ -88,6 +89,51 @@ private:
   std::map<std::tuple<long, long, long>, std::pair<std::string, std::string>> names_;
 };
 
+// z (129) or gh (156) straight from the codes the message carries, for an
+// instantaneous field: GRIB 2 discipline 0, category 3, number 4 or 5 (WMO
+// code table 4.2) with product definition template 4.0 or 4.1; GRIB 1
+// parameter 6 or 7 of WMO table 2 (versions 1-3) or 129 or 156 of
+// ECMWF's table 128, with time range indicator 0, 1 or 10. ecCodes' paramId
+// gives the same for these (checked for several centres with python3-eccodes),
+// but evaluates it as a concept over every parameter table, 0.17 ms a
+// message; everything else (time means among them) is left to paramId.
+std::optional<long> height_param_from_codes(const grib::Handle& h, long edition) {
+  auto pick = [](long code, long z, long gh) -> std::optional<long> {
+    if (code == z) return kParamGeopotential;
+    if (code == gh) return kParamGeopotentialHeight;
+    return std::nullopt;
+  };
+  if (edition == 2) {
+    if (h.get_long("discipline") != 0 || h.get_long("parameterCategory") != 3) return std::nullopt;
+    const long pdt = h.get_long("productDefinitionTemplateNumber");
+    if (pdt != 0 && pdt != 1) return std::nullopt;
+    return pick(h.get_long("parameterNumber"), 4, 5);
+  }
+  if (edition != 1) return std::nullopt;
+  const long range = h.get_long("timeRangeIndicator");
+  if (range != 0 && range != 1 && range != 10) return std::nullopt;
+  const long table = h.get_long("table2Version"), code = h.get_long("indicatorOfParameter");
+  if (table >= 1 && table <= 3) return pick(code, 6, 7);
+  if (table == 128) return pick(code, 129, 156);
+  return std::nullopt;
+}
+
+// Simple packing without a bitmap: what grib_decode needs to unpack the
+// values itself (GribMessage::SimplePacking); nullopt otherwise.
+std::optional<GribMessage::SimplePacking> simple_packing(const grib::Handle& h, const GribMessage& m) {
+  if (m.packing != "grid_simple" || m.bits_per_value < 0 || m.bits_per_value > 32) return std::nullopt;
+  if (h.defined("bitmapPresent") && h.get_long("bitmapPresent") != 0) return std::nullopt;
+  GribMessage::SimplePacking p;
+  p.reference = h.get_double("referenceValue");
+  p.binary_scale = h.get_long("binaryScaleFactor");
+  p.decimal_scale = h.get_long("decimalScaleFactor");
+  p.data_offset = static_cast<std::uint64_t>(h.get_long("offsetBeforeData"));
+  p.values = static_cast<std::uint64_t>(h.get_long("numberOfValues"));
+  const std::uint64_t bytes = (p.values * static_cast<std::uint64_t>(m.bits_per_value) + 7) / 8;
+  if (p.data_offset + bytes + 4 > m.length) return std::nullopt;  // let ecCodes judge such a message
+  return p;
+}
+
 // Everything the index keeps about one message, its parameter and level
 // read first so that other messages are skipped cheaply.
 GribMessage describe_message(const grib::Handle& h, const std::string& path, std::uint64_t offset,
@@ -97,7 +143,8 @@ GribMessage describe_message(const grib::Handle& h, const std::string& path, std
   m.offset = offset;
   m.length = static_cast<std::uint64_t>(h.get_long("totalLength"));
   m.edition = h.get_long("edition");
-  m.param_id = h.get_long("paramId");
+  m.param_id = height_param_from_codes(h, m.edition).value_or(0);
+  if (m.param_id == 0) m.param_id = h.get_long("paramId");
   std::tie(m.short_name, m.units) = names.of(h, m.edition, m.param_id);
   m.type_of_level = h.get_string("typeOfLevel");
   return m;
@@ -110,6 +157,7 @@ void describe_field(const grib::Handle& h, GribMessage& m) {
   m.lead_hours = step_to_hours(h.get_long("endStep"), h.get_long("stepUnits"), h.where());
   m.packing = h.get_string("packingType");
   m.bits_per_value = h.defined("bitsPerValue") ? h.get_long("bitsPerValue") : 0;
+  m.simple = simple_packing(h, m);
 }
 
 // What one file held besides the messages kept, for the refusal message.

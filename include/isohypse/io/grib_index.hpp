@@ -75,6 +75,18 @@ struct GribMessage {
   double lead_hours = 0.0;     // end of the step (range) in hours
   std::string packing;         // packingType ("grid_simple", "grid_ccsds", ...)
   long bits_per_value = 0;
+  // Simple packing without a bitmap (WMO FM 92 GRIB 1 and 2, data
+  // representation template 5.0): value = (R + X 2^E) / 10^D, X the
+  // bits_per_value-bit unsigned integers from byte data_offset of the
+  // message on. grib_decode unpacks these itself, on any thread.
+  struct SimplePacking {
+    double reference = 0.0;        // R (referenceValue)
+    long binary_scale = 0;         // E (binaryScaleFactor)
+    long decimal_scale = 0;        // D (decimalScaleFactor)
+    std::uint64_t data_offset = 0; // offsetBeforeData, from the message's start
+    std::uint64_t values = 0;      // numberOfValues
+  };
+  std::optional<SimplePacking> simple;
 
   // "FILE: message at byte B": the start of every message about it.
   std::string where() const;
