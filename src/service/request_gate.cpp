@@ -20,6 +20,7 @@
 #include <mutex>
 #include <nlohmann/json.hpp>
 #include <string>
+#include <string_view>
 #include <thread>
 #include <vector>
 
@@ -72,8 +73,9 @@ bool write_until(int fd, const char* data, std::size_t size, Clock::time_point d
 // bytes, then end of stream; answers go to the socket within the deadline.
 class ReadStream : public httplib::Stream {
 public:
-  ReadStream(int fd, const std::string& bytes, Clock::time_point deadline)
-      : fd_(fd), bytes_(bytes), deadline_(deadline) {}
+  // continued: the gate already sent "100 Continue" (httplib would send a second one after the body).
+  ReadStream(int fd, const std::string& bytes, Clock::time_point deadline, bool continued)
+      : fd_(fd), bytes_(bytes), deadline_(deadline), continued_(continued) {}
   bool is_readable() const override { return pos_ < bytes_.size(); }
   bool is_writable() const override { return Clock::now() < deadline_; }
   ssize_t read(char* ptr, std::size_t size) override {
@@ -83,6 +85,11 @@ public:
     return static_cast<ssize_t>(n);
   }
   ssize_t write(const char* ptr, std::size_t size) override {
+    static constexpr std::string_view kContinue = "HTTP/1.1 100 Continue\r\n\r\n";
+    if (continued_ && std::string_view(ptr, size) == kContinue) {
+      continued_ = false;
+      return static_cast<ssize_t>(size);
+    }
     std::size_t done = 0;
     const bool all = write_until(fd_, ptr, size, deadline_, &done);
     return all || done > 0 ? static_cast<ssize_t>(done) : -1;
@@ -103,6 +110,7 @@ private:
   const std::string& bytes_;
   std::size_t pos_ = 0;
   Clock::time_point deadline_;
+  bool continued_;
 };
 
 const char* status_text(int status) {
@@ -152,6 +160,7 @@ private:
   struct Ready {
     Conn conn;
     std::string request;
+    bool continued = false;  // the gate sent "100 Continue" for it
   };
   void loop();
   void take_new();
@@ -294,7 +303,9 @@ bool RequestGate::receive(Conn& c) {
   char buf[16 * 1024];
   // Never hold more than one request's worth: the framing refuses anything longer first.
   const std::size_t cap = limits_.max_head_bytes + 2 * limits_.max_body_bytes + limits_.max_chunks * 16 + sizeof buf;
-  for (;;) {
+  // At most 4 reads per turn, so that a client sending as fast as loopback allows (also one that is being
+  // refused and keeps sending) cannot keep the gate thread from the others.
+  for (int reads = 0; reads < 4; ++reads) {
     const ssize_t n = ::recv(c.fd, buf, sizeof buf, 0);
     if (n == 0) return false;
     if (n < 0) return errno == EAGAIN || errno == EWOULDBLOCK || errno == EINTR;
@@ -303,6 +314,7 @@ bool RequestGate::receive(Conn& c) {
     c.in.append(buf, static_cast<std::size_t>(n));
     if (c.in.size() >= cap) return true;  // advance() refuses it
   }
+  return true;
 }
 
 // Frames what arrived. A complete request goes to `ready` (true: the connection is handed over); a refusal is sent
@@ -324,6 +336,7 @@ bool RequestGate::advance(Conn& c, std::vector<Ready>& ready) {
   }
   Ready req;
   req.request = c.in.substr(0, r.end);
+  req.continued = c.sent_continue;
   c.in.erase(0, r.end);
   c.framing = RequestFraming();
   c.sent_continue = false;
@@ -369,7 +382,7 @@ void RequestGate::work() {
     bool keep = false;
     try {
       const bool last = r.conn.served + 1 >= limits_.keep_alive_max_count;
-      keep = server_.serve_request(r.conn.fd, r.request, last, limits_.deadline_seconds);
+      keep = server_.serve_request(r.conn.fd, r.request, last, limits_.deadline_seconds, r.continued);
     } catch (const std::exception& e) {
       spdlog::error("request from {}: {}", r.conn.peer, e.what());
     }
@@ -428,8 +441,8 @@ bool GatedServer::process_and_close_socket(socket_t sock) {
   return true;
 }
 
-bool GatedServer::serve_request(int fd, const std::string& bytes, bool last, int deadline_seconds) {
-  ReadStream stream(fd, bytes, Clock::now() + std::chrono::seconds(deadline_seconds));
+bool GatedServer::serve_request(int fd, const std::string& bytes, bool last, int deadline_seconds, bool continued) {
+  ReadStream stream(fd, bytes, Clock::now() + std::chrono::seconds(deadline_seconds), continued);
   bool closed = false;
   const bool ok = process_request(stream, last, closed, nullptr);
   return ok && !closed && !last;

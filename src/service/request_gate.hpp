@@ -68,9 +68,11 @@ public:
   void stop_gate();
 
   // Runs one complete request held in `bytes` on socket `fd` through
-  // httplib's request processing (routing, handlers, logger). Returns true
-  // when the connection may stay open. For the gate's workers.
-  bool serve_request(int fd, const std::string& bytes, bool last, int deadline_seconds);
+  // httplib's request processing (routing, handlers, logger), its answer
+  // written within deadline_seconds; `continued`: the gate already answered
+  // "Expect: 100-continue". Returns true when the connection may stay open.
+  // For the gate's workers.
+  bool serve_request(int fd, const std::string& bytes, bool last, int deadline_seconds, bool continued);
 
 private:
   bool process_and_close_socket(socket_t sock) override;  // hands the socket to the gate
