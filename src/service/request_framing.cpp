@@ -59,9 +59,11 @@ FramingResult RequestFraming::head(const std::string& in, const GateLimits& limi
   const std::size_t from = scanned_ >= 3 ? scanned_ - 3 : 0;
   const std::size_t end = in.find("\r\n\r\n", from);
   const std::size_t upto = end == std::string::npos ? in.size() : end + 2;
-  lines_ += static_cast<std::size_t>(std::count(in.begin() + static_cast<std::ptrdiff_t>(std::max(scanned_, from)),
-                                                in.begin() + static_cast<std::ptrdiff_t>(upto), '\n'));
-  scanned_ = upto;
+  // The line ends not yet counted; the head's end may lie before what was searched (its last bytes were there).
+  if (upto > scanned_)
+    lines_ += static_cast<std::size_t>(std::count(in.begin() + static_cast<std::ptrdiff_t>(scanned_),
+                                                  in.begin() + static_cast<std::ptrdiff_t>(upto), '\n'));
+  scanned_ = std::max(scanned_, upto);
   const std::size_t first_line = in.find('\n');
   if ((first_line == std::string::npos ? in.size() : first_line) > limits.max_request_line)
     return refusal(414, "the request line exceeds " + bytes(limits.max_request_line));
