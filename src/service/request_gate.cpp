@@ -347,7 +347,8 @@ bool RequestGate::advance(Conn& c, std::vector<Ready>& ready) {
 
 void RequestGate::refuse(Conn& c, int status, const std::string& message) {
   const std::string text = refusal_text(status, message);
-  write_until(c.fd, text.data(), text.size(), Clock::now() + std::chrono::seconds(1), nullptr);
+  // One attempt, never a wait: the gate thread serves every connection (a client that reads nothing loses it).
+  write_until(c.fd, text.data(), text.size(), Clock::now(), nullptr);
   spdlog::warn("refused {} to {}: {}", status, c.peer, message);
   ::shutdown(c.fd, SHUT_WR);
   c.lingering = true;
