@@ -1,7 +1,10 @@
 #include "service/verification_cache.hpp"
 
+#include <spdlog/spdlog.h>
+
 #include "isohypse/base/calendar.hpp"
 #include "isohypse/base/error.hpp"
+#include "isohypse/base/stopwatch.hpp"
 #include "isohypse/stages/verify.hpp"
 
 namespace isohypse {
@@ -57,13 +60,18 @@ HttpAnswer VerificationCache::verify(const std::vector<std::string>& dates, cons
   if (!range.from.empty()) vc.from = parse_date(range.from, Calendar::ProlepticGregorian, "from");
   if (!range.to.empty()) vc.to = parse_date(range.to, Calendar::ProlepticGregorian, "to");
   vc.all_months = range.all_months;
+  const Stopwatch clock;
+  HttpAnswer answer;
   try {
     // netCDF-C is not thread-safe: the service's lock is held only while the observed files are read.
-    return {200, verify_guidance(model_, vc, netcdf_).dump()};
+    answer = {200, verify_guidance(model_, vc, netcdf_).dump()};
   } catch (const Error& e) {
     // The archive is there but cannot be verified: the same answer until the archive changes.
-    return error_answer(e, "verification");
+    answer = error_answer(e, "verification");
   }
+  spdlog::info("verification of {} issue(s) ({} to {}): {} in {:.0f} ms", dates.size(), dates.front(), dates.back(),
+               answer.status, clock.total() * 1000);
+  return answer;
 }
 
 }  // namespace isohypse

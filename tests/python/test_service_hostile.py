@@ -247,6 +247,37 @@ try:
     check(ok, "a link to a file inside the inbox is classified")
     check(health_ok(), "the service still answers after all of it")
 
+    # --- verification runs one at a time: five different ranges asked for at once
+    queries = ["issued_to=2025-12-02", "issued_to=2025-12-02&all_months=true", "from=2025-12-01", "from=2025-12-02",
+               "to=2025-12-31"]
+    answers = [None] * len(queries)
+    start = threading.Barrier(len(queries))
+
+    def verify(i):
+        start.wait()
+        status, _, body = server.get("/api/v1/verification?" + queries[i])
+        answers[i] = (status, json.loads(body))
+
+    asked = [threading.Thread(target=verify, args=(i,)) for i in range(len(queries))]
+    for t in asked:
+        t.start()
+    for t in asked:
+        t.join()
+    busy = [a for a in answers if a[0] == 503]
+    check(all(a[0] in (200, 400, 503) for a in answers) and any(a[0] == 200 for a in answers) and
+          all("retry" in a[1]["error"] for a in busy),
+          f"five verifications at once: statuses {[a[0] for a in answers]}")
+    runs = []
+    for m in re.finditer(r"(\d\d):(\d\d):(\d\d\.\d{3}) info verification of .*? in (\d+) ms",
+                         open(server.log_path).read()):
+        end = int(m.group(1)) * 3600 + int(m.group(2)) * 60 + float(m.group(3))
+        runs.append((end - int(m.group(4)) / 1000, end))
+    runs = sorted(runs)[-(len(queries) - len(busy)):]
+    overlap = max((a[1] - b[0] for a, b in zip(runs, runs[1:])), default=0)
+    check(len(runs) >= 2 and overlap < 0.003,
+          f"their runs in the log do not overlap: {len(runs)} runs, "
+          f"{', '.join(f'{e - s_:.3f} s' for s_, e in runs)}, largest overlap {overlap * 1000:.1f} ms")
+
     # --- --listen on every interface warns; loopback does not
     log = open(server.log_path).read()
     check("TLS" not in log, "listening on 127.0.0.1: no network warning")
