@@ -53,10 +53,21 @@ void log_to_stderr() {
   spdlog::set_pattern("%Y-%m-%dT%H:%M:%S.%e %^%l%$ %v");
 }
 
+// Only the loopback interface keeps the service on this machine.
+bool is_loopback(const std::string& host) {
+  return host == "localhost" || host == "::1" || host == "[::1]" || host.rfind("127.", 0) == 0;
+}
+
 void serve(ServiceConfig cfg) {
   if (const char* t = std::getenv("ISOHYPSE_TOKEN"); t && *t) cfg.token = t;
   if (cfg.token.empty()) spdlog::warn("no write token (ISOHYPSE_TOKEN): POST /api/v1/runs answers 401");
   log_to_stderr();
+  if (!is_loopback(cfg.host()))
+    spdlog::warn("--listen {}: the service will answer every client that can reach this address on the network, "
+                 "in plain HTTP (no TLS: the write token and the answers travel readable). Put it behind a TLS "
+                 "reverse proxy (README, \"The service\") and listen on 127.0.0.1, or keep this address to a "
+                 "trusted network.",
+                 cfg.listen);
   // Signals are taken by this thread only (sigwait), so the service's threads never see them.
   sigset_t sigs;
   sigemptyset(&sigs);

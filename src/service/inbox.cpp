@@ -15,6 +15,7 @@ namespace isohypse {
 
 namespace fs = std::filesystem;
 
+
 namespace {
 
 void make_folder(const std::string& path) {
@@ -34,6 +35,37 @@ std::string move_into(const std::string& from, const std::string& folder) {
   for (int i = 1; fs::exists(to); ++i) to = fs::path(folder) / (name + "." + std::to_string(i));
   fs::rename(from, to);  // same file system: atomic
   return to.string();
+}
+
+// A file that fails to open is retried while it changed within this many polls or seconds (a writer that paused),
+// and quarantined only once it has stayed the same for both and still cannot be read. The seconds matter when
+// polls are quick: a copy that stalls for a few seconds is common practice on a loaded disk or network share.
+constexpr int kSettlePolls = 3;
+constexpr auto kSettleTime = std::chrono::seconds(5);
+
+using Clock = std::chrono::steady_clock;
+
+// Where a symbolic link in the inbox leads, when that is a regular file inside the inbox folder; else "" and
+// `why` says what is wrong. A link out of the inbox would let whoever can write the inbox make the service read
+// (and move into processed/ a link to) any file it can read.
+std::string link_target_inside(const fs::path& link, const fs::path& inbox, std::string& why) {
+  std::error_code ec;
+  const fs::path target = fs::canonical(link, ec);
+  if (ec) {
+    why = "a symbolic link that leads nowhere (" + ec.message() + ")";
+    return {};
+  }
+  const fs::path root = fs::canonical(inbox, ec);
+  const auto rel = target.lexically_relative(root);
+  if (ec || rel.empty() || *rel.begin() == "..") {
+    why = "a symbolic link to " + target.string() + ", outside the inbox " + root.string() + ": refused";
+    return {};
+  }
+  if (!fs::is_regular_file(target, ec)) {
+    why = "a symbolic link to " + target.string() + ", which is not a regular file";
+    return {};
+  }
+  return target.string();
 }
 
 // The initialisation of one file, metadata only.
@@ -77,38 +109,61 @@ bool Inbox::scan_entry(const std::string& name, Entry& e) {
     e.scanned = true;
     return true;
   } catch (const Error& ex) {
-    quarantine(path, ex.what());
+    if (e.settled()) {
+      e.retrying = false;
+      quarantine(path, ex.what());
+      return false;
+    }
+    // Still settling: a writer that paused leaves a file that cannot be read yet. Tried again next poll.
+    if (!e.retrying)
+      spdlog::info("inbox: {} cannot be read yet ({}); it changed within the last {} polls or {} s, so it is tried again",
+                   path, ex.what(), kSettlePolls, kSettleTime.count());
+    e.retrying = true;
     return false;
   }
 }
 
-std::vector<InboxGroup> Inbox::poll() {
+// The inbox's forecast files now, each with its size, time and how many polls it has stayed so; links out of
+// the inbox are quarantined on the way.
+std::map<std::string, Inbox::Entry> Inbox::listing() {
   std::map<std::string, Entry> now;
   std::error_code ec;
   for (const auto& de : fs::directory_iterator(folder_, ec)) {
     const std::string name = de.path().filename().string();
     std::error_code fec;
-    if (!de.is_regular_file(fec) || !is_forecast_name(name)) continue;
+    if (!is_forecast_name(name)) continue;
+    if (de.is_symlink(fec)) {
+      std::string why;
+      if (link_target_inside(de.path(), folder_, why).empty()) {
+        quarantine(de.path().string(), why);
+        continue;
+      }
+    }
+    if (!de.is_regular_file(fec)) continue;
     Entry e;
+    e.changed_at = Clock::now();
     e.size = de.file_size(fec);
     e.mtime = de.last_write_time(fec).time_since_epoch().count();
     if (fec) continue;  // vanished between listing and stat
     auto old = files_.find(name);
     if (old != files_.end() && old->second.size == e.size && old->second.mtime == e.mtime) {
       e = old->second;
-      e.stable = true;
+      ++e.stable_polls;
     }
     now[name] = e;
   }
   if (ec) spdlog::error("inbox: cannot list {}: {}", folder_, ec.message());
-  files_ = std::move(now);
+  return now;
+}
 
+std::vector<InboxGroup> Inbox::poll() {
+  files_ = listing();
   std::map<std::string, InboxGroup> by_date;
-  bool settled = true;  // no file changed since the previous poll
+  bool settled = true;  // no file changed since the previous poll, every file could be read
   for (auto it = files_.begin(); it != files_.end();) {
     Entry& e = it->second;
-    if (e.stable && !e.scanned && !scan_entry(it->first, e)) {
-      it = files_.erase(it);
+    if (e.stable_polls >= 1 && !e.scanned && !scan_entry(it->first, e) && !e.retrying) {
+      it = files_.erase(it);  // quarantined
       continue;
     }
     if (!e.scanned) settled = false;
@@ -139,9 +194,24 @@ std::vector<InboxGroup> Inbox::group(const std::vector<std::string>& names,
       throw InputError("'" + name + "' is not a forecast file (*.nc) in the inbox");
   }
   for (const auto& name : names) {
-    Entry e;
+    const std::string path = (fs::path(folder_) / name).string();
+    std::string why;
+    if (fs::is_symlink(path) && link_target_inside(path, folder_, why).empty()) {
+      quarantine(path, why);
+      rejected.emplace_back(name, why);
+      continue;
+    }
+    Entry e;  // a file the poller has not yet seen settle counts as changing
+    if (auto known = files_.find(name); known != files_.end()) {
+      e.stable_polls = known->second.stable_polls;
+      e.changed_at = known->second.changed_at;
+    }
     if (!scan_entry(name, e)) {
-      rejected.emplace_back(name, "cannot be read (see quarantine/" + name + ".reason.txt)");
+      rejected.emplace_back(name, e.retrying ? "cannot be read yet and changed within the last " +
+                                                   std::to_string(kSettlePolls) + " polls or " +
+                                                   std::to_string(kSettleTime.count()) +
+                                                   " s (still being written?): left in the inbox"
+                                             : "cannot be read (see quarantine/" + name + ".reason.txt)");
       continue;
     }
     InboxGroup& g = by_date[e.date];
@@ -154,18 +224,33 @@ std::vector<InboxGroup> Inbox::group(const std::vector<std::string>& names,
   return out;
 }
 
-std::vector<std::pair<std::string, std::string>> Inbox::check(const InboxGroup& group, const Grid& target) {
+std::vector<std::pair<std::string, std::string>> Inbox::check(const InboxGroup& group, const Grid& target,
+                                                               std::vector<std::string>& waiting) {
   std::vector<std::pair<std::string, std::string>> bad;
   for (const auto& path : group.files) {
     try {
       Initialisation in = scan_one(path, variable_, domain_);
       read_members(in, Regridder(in.native_grid, target, path), variable_);
     } catch (const Error& ex) {
-      bad.emplace_back(fs::path(path).filename().string(), ex.what());
+      const std::string name = fs::path(path).filename().string();
+      auto known = files_.find(name);
+      if (known == files_.end() || !known->second.settled()) {
+        // Its header could be read but not its values: a writer that paused. Scanned again when it settles.
+        spdlog::info("inbox: {} cannot be read yet ({}); it changed within the last {} polls or {} s, so it is tried "
+                     "again", path, ex.what(), kSettlePolls, kSettleTime.count());
+        if (known != files_.end()) known->second.scanned = false;
+        waiting.push_back(name);
+        continue;
+      }
+      bad.emplace_back(name, ex.what());
       quarantine(path, ex.what());
     }
   }
   return bad;
+}
+
+bool Inbox::Entry::settled() const {
+  return stable_polls >= kSettlePolls && Clock::now() - changed_at >= kSettleTime;
 }
 
 void Inbox::quarantine(const std::string& path, const std::string& reason) {

@@ -34,6 +34,7 @@ const char* reason_phrase(int status) {
     case 405: return "method not allowed";
     case 413: return "request body too large";
     case 414: return "request URI too long";
+    case 431: return "request header fields too large";
     case 422: return "cannot be processed";
     case 503: return "service unavailable";
     default: return status >= 500 ? "internal error" : "request refused";
@@ -212,13 +213,19 @@ void post_run(const ServiceParts& p, const Request& req, Response& res) {
 
 }  // namespace
 
+GateLimits gate_limits(const ServiceConfig& config) {
+  GateLimits limits;
+  limits.threads = config.threads;
+  limits.max_body_bytes = config.max_body_bytes;
+  limits.deadline_seconds = config.timeout_seconds;
+  return limits;
+}
+
 void configure_server(httplib::Server& server, const ServiceConfig& config) {
-  server.new_task_queue = [n = config.threads] { return new httplib::ThreadPool(static_cast<size_t>(n)); };
+  // The gate (request_gate.hpp) bounds what a request may hold and how long it may take; these are a second line.
   server.set_payload_max_length(config.max_body_bytes);
   server.set_read_timeout(config.timeout_seconds, 0);
   server.set_write_timeout(config.timeout_seconds, 0);
-  server.set_keep_alive_timeout(2);  // idle browsers must not hold the worker threads
-  server.set_keep_alive_max_count(1000);
   server.set_tcp_nodelay(true);  // headers and body go out in separate writes: without it, delayed ACKs add 40 ms
 
   static thread_local std::chrono::steady_clock::time_point started;

@@ -12,6 +12,7 @@
 #include "isohypse/service/inbox.hpp"
 #include "isohypse/service/service_config.hpp"
 #include "service/model_view.hpp"
+#include "service/request_gate.hpp"
 #include "service/verification_cache.hpp"
 #include "service/worker.hpp"
 
@@ -28,8 +29,12 @@ struct ServiceParts {
   VerificationCache& verification;
 };
 
-// Threads, body size limit, timeouts, a log line per request, JSON bodies
-// for the server's own refusals (no such route, body too large).
+// The gate's limits from the settings: threads, body size, the whole-request
+// deadline (timeout_seconds); the head limits are the gate's defaults.
+GateLimits gate_limits(const ServiceConfig& config);
+
+// Body size limit, timeouts, a log line per request, JSON bodies for the
+// server's own refusals (no such route, body too large).
 void configure_server(httplib::Server& server, const ServiceConfig& config);
 
 // The API of include/isohypse/service/service.hpp.

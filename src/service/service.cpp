@@ -41,7 +41,7 @@ struct Service::Impl {
   ModelView view;
   Worker worker;
   VerificationCache verification;
-  httplib::Server server;
+  GatedServer server;
   std::thread http_thread;
 
   explicit Impl(ServiceConfig c)
@@ -51,7 +51,8 @@ struct Service::Impl {
         inbox(config.inbox, model.domain, config.variable, config.members),
         view(model, config.land_mask),
         worker(config, model, inbox, archive, netcdf),
-        verification(config, model, archive, netcdf) {
+        verification(config, model, archive, netcdf),
+        server(gate_limits(config)) {
     configure_server(server, config);
     add_routes(server, ServiceParts{config, model, archive, inbox, view, worker, verification});
   }

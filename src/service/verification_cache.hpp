@@ -5,11 +5,15 @@
 // a page reloaded many times verifies once. An archive that cannot be
 // verified (no observations for its valid dates, guidance of another
 // model) is answered with the status of its error (http_errors.hpp), and
-// that answer is kept too.
+// that answer is kept too. One verification runs at a time (a second waits
+// its turn, a third is answered 503), and the service's netCDF lock is held
+// only while it reads the observed files, so classification runs between.
 #pragma once
 
+#include <atomic>
 #include <map>
 #include <mutex>
+#include <optional>
 #include <string>
 
 #include "isohypse/numerics/regime_model.hpp"
@@ -39,17 +43,21 @@ public:
   // on valid dates in [from, to], of archive generation `generation`. Throws
   // HttpError 404 when the archive holds no such issue; verify's "no
   // guidance valid between" and "no observations between" come back as its
-  // answer (400). Thread-safe.
+  // answer (400); HttpError 503 when one verification runs and another
+  // already waits. Thread-safe.
   HttpAnswer answer(const VerificationRange& range, unsigned generation);
 
 private:
   HttpAnswer verify(const std::vector<std::string>& dates, const VerificationRange& range);
+  std::optional<HttpAnswer> cached(const std::string& key);
 
   const ServiceConfig& config_;
   const RegimeModel& model_;
   const GuidanceArchive& archive_;
   std::mutex& netcdf_;
-  std::mutex mutex_;
+  std::mutex mutex_;    // answers_
+  std::mutex running_;  // one verification at a time
+  std::atomic<int> queued_{0};
   std::map<std::string, HttpAnswer> answers_;  // "from|to|issued_from|issued_to|all_months|generation" -> answer
 };
 

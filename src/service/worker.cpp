@@ -148,12 +148,18 @@ HttpAnswer Worker::run_job(const std::vector<std::string>& files) {
 json Worker::run_group(const InboxGroup& g) {
   Run run(g);
   std::lock_guard lock(netcdf_);
-  const auto bad = inbox_.check(g, model_.grid);
+  std::vector<std::string> waiting;
+  const auto bad = inbox_.check(g, model_.grid, waiting);
   if (!bad.empty()) {
     run.summary["quarantined"] = json::array();
     for (const auto& [name, why] : bad) run.summary["quarantined"].push_back({{"file", name}, {"reason", why}});
     return finish(run, "quarantined",
                   std::to_string(bad.size()) + " unreadable file(s) moved to quarantine; the rest wait");
+  }
+  if (!waiting.empty()) {
+    run.summary["waiting"] = waiting;
+    return finish(run, "waiting",
+                  std::to_string(waiting.size()) + " file(s) cannot be read yet and are still changing; tried again");
   }
   json guidance;
   try {

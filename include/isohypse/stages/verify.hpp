@@ -10,6 +10,7 @@
 // Sciences, 3rd ed.; see scores.hpp for each formula's source.
 #pragma once
 
+#include <mutex>
 #include <nlohmann/json.hpp>
 #include <optional>
 #include <string>
@@ -79,5 +80,10 @@ struct VerifyConfig {
 // a required key or holds a value of the wrong type; InternalError for a
 // broken precondition between its own steps (a bug).
 nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& config);
+
+// The same, holding `read_lock` only while the observed files are read (a
+// caller that reads netCDF on other threads shares its lock: netCDF-C is not
+// thread-safe); loading the guidance (JSON) and the scoring run without it.
+nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& config, std::mutex& read_lock);
 
 }  // namespace isohypse

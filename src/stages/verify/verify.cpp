@@ -1,5 +1,6 @@
 #include "isohypse/stages/verify.hpp"
 
+#include <mutex>
 #include <string>
 
 #include "isohypse/base/error.hpp"
@@ -70,11 +71,19 @@ void VerifyConfig::validate() const {
 }
 
 nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& config) {
+  std::mutex unshared;
+  return verify_guidance(model, config, unshared);
+}
+
+nlohmann::json verify_guidance(const RegimeModel& model, const VerifyConfig& config, std::mutex& read_lock) {
   using namespace verification;
   config.validate();
   const StateClimatology climatology = state_climatology(model, config.all_months);
   const GuidanceSet guidance = load_guidance(model, climatology.states, config.guidance);
-  const ObservedSequence observed = observed_labels(model, config);
+  const ObservedSequence observed = [&] {
+    std::lock_guard lock(read_lock);  // the only netCDF reading of verify
+    return observed_labels(model, config);
+  }();
   const Cases cases = build_cases(guidance, observed, climatology.states.size(), config, model.months);
   require_reference_months(climatology, cases, model.path);
   Findings found;
