@@ -211,17 +211,21 @@ std::vector<Trajectory> model_run(const World& world, const Date& init, int memb
   return runs;
 }
 
+arma::mat member_heights(const Surface& surface, const std::vector<Trajectory>& runs) {
+  const auto members = static_cast<arma::uword>(runs.size());
+  arma::mat coefs(runs.front().coefs.n_rows, members * kLeads);
+  for (arma::uword m = 0; m < members; ++m) coefs.cols(m * kLeads, (m + 1) * kLeads - 1) = runs[m].coefs;
+  // Rounded to 0.5 m: the low mantissa bits are then zero, and deflate (with
+  // shuffle) packs the floats to a quarter, twice as fast as at 1/16 m.
+  return arma::round(surface.heights(coefs) * 2.0) / 2.0;
+}
+
 void write_model_run(const Surface& surface, const Date& init, const std::vector<Trajectory>& runs,
                      const std::string& path) {
   const std::vector<double> lat = forecast_lat(), lon = forecast_lon();
   const auto members = static_cast<arma::uword>(runs.size());
-  arma::mat coefs(runs.front().coefs.n_rows, members * kLeads);
-  for (arma::uword m = 0; m < members; ++m) coefs.cols(m * kLeads, (m + 1) * kLeads - 1) = runs[m].coefs;
-  const arma::mat h = surface.heights(coefs);
-  // Rounded to 0.5 m: the low mantissa bits are then zero, and deflate (with
-  // shuffle) packs the floats to a quarter, twice as fast as at 1/16 m.
-  std::vector<float> values(h.n_elem);
-  for (arma::uword i = 0; i < h.n_elem; ++i) values[i] = static_cast<float>(std::round(h(i) * 2.0) / 2.0);
+  const arma::mat h = member_heights(surface, runs);
+  const std::vector<float> values(h.begin(), h.end());
 
   const std::string units = "days since " + isohypse::to_string(init) + " 00:00:00";
   std::vector<double> time(kLeads), number(members);
@@ -266,17 +270,15 @@ void write_model_run_steps(const Surface& surface, const Date& init, const std::
                            const std::string& path) {
   const std::vector<double> lat = forecast_lat(), lon = forecast_lon();
   const auto members = static_cast<arma::uword>(runs.size());
-  arma::mat coefs(runs.front().coefs.n_rows, members * kLeads);
-  for (arma::uword m = 0; m < members; ++m) coefs.cols(m * kLeads, (m + 1) * kLeads - 1) = runs[m].coefs;
-  const arma::mat h = surface.heights(coefs);  // points x (member, lead)
-  // Stored (step, member, point) as geopotential, the heights rounded to 0.5 m as write_model_run rounds them.
+  const arma::mat h = member_heights(surface, runs);
+  // Stored (step, member, point) as geopotential.
   const std::size_t points = h.n_rows;
   std::vector<float> values(h.n_elem);
   for (arma::uword m = 0; m < members; ++m)
     for (arma::uword l = 0; l < static_cast<arma::uword>(kLeads); ++l)
       for (std::size_t p = 0; p < points; ++p)
         values[(l * members + m) * points + p] =
-            static_cast<float>(std::round(h(p, m * kLeads + l) * 2.0) / 2.0 * 9.80665);
+            static_cast<float>(h(p, m * kLeads + l) * 9.80665);
   const std::string units = "hours since " + isohypse::to_string(init) + " 00:00:00";
   std::vector<double> step(kLeads), valid(kLeads), member(members);
   for (std::size_t l = 0; l < step.size(); ++l) step[l] = valid[l] = 24.0 * static_cast<double>(l);

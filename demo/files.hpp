@@ -52,6 +52,11 @@ std::vector<Trajectory> model_run(const World& world, const isohypse::Date& init
 std::vector<double> forecast_lat();
 std::vector<double> forecast_lon();
 
+// The heights (m) of every member and lead of `runs` (one initialisation,
+// from model_run) on `surface`, rounded to 0.5 m as every forecast file
+// stores them: points x (member, lead), member-major.
+arma::mat member_heights(const Surface& surface, const std::vector<Trajectory>& runs);
+
 // Sets C and D: the members of `runs` (from model_run, same init), `gh`
 // (number, time, latitude, longitude) in metres on the noleap calendar,
 // NetCDF-4 with deflate.

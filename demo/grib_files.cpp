@@ -97,9 +97,7 @@ void append_run(const Surface& surface, const Date& init, const std::vector<Traj
                 MessageFile& file) {
   const std::size_t n_lat = forecast_lat().size(), n_lon = forecast_lon().size();
   const auto members = static_cast<arma::uword>(runs.size());
-  arma::mat coefs(runs.front().coefs.n_rows, members * kLeads);
-  for (arma::uword m = 0; m < members; ++m) coefs.cols(m * kLeads, (m + 1) * kLeads - 1) = runs[m].coefs;
-  const arma::mat h = surface.heights(coefs);  // points (latitude-major, ascending) x (member, lead)
+  const arma::mat h = member_heights(surface, runs);  // points (latitude-major, ascending) x (member, lead)
   set_long(msg, "dataDate", init.year * 10000L + init.month * 100L + init.day);
   std::vector<double> values(n_lat * n_lon);
   for (arma::uword m = 0; m < members; ++m)
@@ -107,11 +105,10 @@ void append_run(const Surface& surface, const Date& init, const std::vector<Traj
       set_long(msg, "typeOfProcessedData", m == 0 ? 3 : 4);  // control, perturbed
       set_long(msg, "perturbationNumber", static_cast<long>(m));
       set_long(msg, "forecastTime", 24L * l);
-      // Rows north to south; the heights rounded to 0.5 m as the NetCDF files round them.
+      // Rows north to south.
       for (std::size_t j = 0; j < n_lat; ++j)
         for (std::size_t i = 0; i < n_lon; ++i)
-          values[j * n_lon + i] =
-              std::round(h((n_lat - 1 - j) * n_lon + i, m * kLeads + static_cast<arma::uword>(l)) * 2.0) / 2.0;
+          values[j * n_lon + i] = h((n_lat - 1 - j) * n_lon + i, m * kLeads + static_cast<arma::uword>(l));
       must(codes_set_double_array(msg, "values", values.data(), values.size()), "values");
       file.append(msg);
     }
