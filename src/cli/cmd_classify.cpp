@@ -115,9 +115,7 @@ void run_classify(const ClassifyConfig& cfg, const Outputs& o) {
   add_inputs(run, "--analysis", cfg.analysis);
   run.input("--calibration", cfg.calibration);
   run.output("--out", o.out);
-  std::vector<std::string> tables = {"daily.csv", "windows.csv"};
-  if (!cfg.calibration.empty()) tables.insert(tables.end(), {"daily_raw.csv", "windows_raw.csv"});
-  run.output_folder("--csv", o.csv, tables);
+  run.output_folder("--csv", o.csv, guidance_csv_names(!cfg.calibration.empty()));
   run.check();
   CommandTimes cmd;
   const auto t_start = Clock::now();

@@ -21,6 +21,9 @@ namespace isohypse {
 // document from classify_forecasts. Throws InputError when DIR cannot be
 // created or a file cannot be written.
 void write_guidance_csv(const nlohmann::json& guidance, const std::string& dir);
+// The names of those files: daily.csv and windows.csv, and with
+// `calibrated` daily_raw.csv and windows_raw.csv.
+std::vector<std::string> guidance_csv_names(bool calibrated);
 // The same tables, each file name with its text (every table is made before
 // any is returned: a malformed document throws and gives none).
 std::vector<std::pair<std::string, std::string>> guidance_csv_files(const nlohmann::json& guidance);

@@ -58,13 +58,20 @@ std::string windows_csv(const json& g, const std::string& prefix) {
 
 }  // namespace
 
+std::vector<std::string> guidance_csv_names(bool calibrated) {
+  std::vector<std::string> names = {"daily.csv", "windows.csv"};
+  if (calibrated) names.insert(names.end(), {"daily_raw.csv", "windows_raw.csv"});
+  return names;
+}
+
 std::vector<std::pair<std::string, std::string>> guidance_csv_files(const json& g) {
   const bool calibrated = g.contains("calibration") && g.at("calibration").value("applied", false);
-  std::vector<std::pair<std::string, std::string>> files = {{"daily.csv", daily_csv(g, "")},
-                                                            {"windows.csv", windows_csv(g, "")}};
+  const std::vector<std::string> names = guidance_csv_names(calibrated);
+  std::vector<std::pair<std::string, std::string>> files = {{names[0], daily_csv(g, "")},
+                                                            {names[1], windows_csv(g, "")}};
   if (calibrated) {
-    files.emplace_back("daily_raw.csv", daily_csv(g, "raw_"));
-    files.emplace_back("windows_raw.csv", windows_csv(g, "raw_"));
+    files.emplace_back(names[2], daily_csv(g, "raw_"));
+    files.emplace_back(names[3], windows_csv(g, "raw_"));
   }
   return files;
 }
