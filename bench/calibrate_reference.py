@@ -67,6 +67,7 @@ from sklearn.linear_model import LogisticRegression
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 from classify_reference import (Model, init_weights, lagged_probabilities, read_forecast, real_date,  # noqa: E402
                                 running_mean, year_position)
+from gnu_time import gnu_time  # noqa: E402
 
 WINDOWS = [(1, 3), (4, 7), (8, 14), (15, 28), (29, 45)]
 MIN_CASES = 30  # per lead (include/isohypse/stages/calibrate.hpp kMinCasesPerLead)
@@ -461,20 +462,6 @@ def compare(a):
         print(f"largest logistic coefficient difference (the fit on every year, intercepts centred): {big:.2e}")
     print("answers agree" if ok else f"ANSWERS DIFFER (tolerance {a.tolerance:g})")
     return 0 if ok else 1
-
-
-def gnu_time(path):
-    """Wall and CPU seconds and peak RSS (MB) from a /usr/bin/time -v report."""
-    v = {}
-    with open(path) as f:
-        for line in f:
-            key, _, value = line.strip().rpartition(": ")
-            v[key] = value
-    wall = 0.0
-    for part in v["Elapsed (wall clock) time (h:mm:ss or m:ss)"].split(":"):
-        wall = wall * 60 + float(part)
-    cpu = float(v["User time (seconds)"]) + float(v["System time (seconds)"])
-    return wall, cpu, float(v["Maximum resident set size (kbytes)"]) / 1024
 
 
 def isohypse_timings(path):

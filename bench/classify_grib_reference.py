@@ -39,6 +39,7 @@ import numpy as np
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 import classify_reference as ref  # noqa: E402  (the NetCDF reference: the same steps)
+from gnu_time import gnu_time  # noqa: E402
 
 
 def grid_pick(h, model, path):
@@ -93,20 +94,6 @@ def read_grib_forecast(path, model):
     return start, heights
 
 
-def time_report(path):
-    """wall (s), CPU user+system (s), peak RSS (MB) from /usr/bin/time -v's report."""
-    got = {}
-    with open(path) as f:
-        for line in f:
-            key, _, value = line.strip().rpartition(": ")
-            got[key] = value
-    wall = 0.0
-    for part in got["Elapsed (wall clock) time (h:mm:ss or m:ss)"].split(":"):
-        wall = wall * 60 + float(part)
-    cpu = float(got["User time (seconds)"]) + float(got["System time (seconds)"])
-    return wall, cpu, float(got["Maximum resident set size (kbytes)"]) / 1024.0
-
-
 def daily(g):
     return {d["valid_date"]: (d["members"], d["probabilities"]) for d in g["daily"]}
 
@@ -136,7 +123,7 @@ def compare(a):
     r["inits"] = [str(s) for s in r["inits"]]
     differ, ties, worst_ref = ref.compare_guidance(g_grib, r)
     against = grib_against_netcdf(g_grib, g_netcdf)
-    runs = [time_report(p) for p in (a.time_grib, a.time_netcdf, a.time_ref)]
+    runs = [gnu_time(p) for p in (a.time_grib, a.time_netcdf, a.time_ref)]
     print(f"{'':24s}{'isohypse, GRIB':>16s}{'isohypse, NetCDF':>18s}{'python3-eccodes':>17s}{'ratio':>8s}")
     for i, (what, fmt) in enumerate((("wall time (s)", "{:.2f}"), ("CPU time, user+sys (s)", "{:.2f}"),
                                      ("peak memory (MB)", "{:.0f}"))):
