@@ -19,6 +19,7 @@ import numpy as np
 
 from common import BIN, check, finish, run, scratch
 from daily_season import small_world_model
+from grib_data import set_regular_grid
 
 G0 = 9.80665
 tmp = scratch()
@@ -42,14 +43,7 @@ def messages(path, bits, geopotential=False, south_to_north=False):
             lats = lat
             if not south_to_north:
                 rows, lats = rows[::-1], lat[::-1]
-            for k, v in (("Ni", len(lon)), ("Nj", len(lat)), ("latitudeOfFirstGridPointInDegrees", lats[0]),
-                         ("latitudeOfLastGridPointInDegrees", lats[-1]),
-                         ("longitudeOfFirstGridPointInDegrees", lon[0] % 360),
-                         ("longitudeOfLastGridPointInDegrees", lon[-1] % 360),
-                         ("iDirectionIncrementInDegrees", abs(lon[1] - lon[0])),
-                         ("jDirectionIncrementInDegrees", abs(lat[1] - lat[0])),
-                         ("jScansPositively", 1 if south_to_north else 0)):
-                ec.codes_set(h, k, v)
+            set_regular_grid(h, lats, lon)
             ec.codes_set(h, "productDefinitionTemplateNumber", 1)
             ec.codes_set(h, "typeOfProcessedData", 3 if m == 0 else 4)
             ec.codes_set(h, "perturbationNumber", m)

@@ -26,6 +26,7 @@ import netCDF4
 import numpy as np
 
 from common import BIN, BUILD, check, finish, run, scratch
+from grib_data import set_regular_grid
 
 G0 = 9.80665
 MISSING = 9999.0e10  # the value that marks a missing point when writing (ecCodes' bitmap)
@@ -49,14 +50,7 @@ def read_year(path):
 def message(sample, values, lat, lon, date, hour, param, level, bits):
     """One GRIB message of `values` (lat, lon) on the rows of `lat` as given."""
     h = ec.codes_grib_new_from_samples(sample)
-    for k, v in (("Ni", len(lon)), ("Nj", len(lat)), ("latitudeOfFirstGridPointInDegrees", lat[0]),
-                 ("latitudeOfLastGridPointInDegrees", lat[-1]),
-                 ("longitudeOfFirstGridPointInDegrees", lon[0] % 360),
-                 ("longitudeOfLastGridPointInDegrees", lon[-1] % 360),
-                 ("iDirectionIncrementInDegrees", abs(lon[1] - lon[0])),
-                 ("jDirectionIncrementInDegrees", abs(lat[1] - lat[0])),
-                 ("jScansPositively", 1 if lat[1] > lat[0] else 0)):
-        ec.codes_set(h, k, v)
+    set_regular_grid(h, lat, lon)
     ec.codes_set(h, "paramId", param)
     ec.codes_set(h, "typeOfLevel", "isobaricInhPa")
     ec.codes_set(h, "level", level)
