@@ -269,42 +269,91 @@ HeightRange plausible_heights(double level_hpa) {
 
 namespace {
 
-std::size_t unpack_values(RawBlock& raw, arma::fmat& out);
-
-// Values outside the level's plausible heights become missing; returns how
-// many. More than 1 % of the block is refused (see unpack).
-std::size_t drop_implausible(const RawBlock& raw, arma::fmat& out) {
-  const HeightRange r = plausible_heights(raw.level_hpa);
-  const auto lo = static_cast<float>(r.lo), hi = static_cast<float>(r.hi);
-  std::size_t n = 0;
-  float found_lo = std::numeric_limits<float>::max(), found_hi = std::numeric_limits<float>::lowest();
-  for (float& v : out) {
-    if (!(v < lo || v > hi)) continue;  // NaN (already missing) passes
-    found_lo = std::min(found_lo, v);
-    found_hi = std::max(found_hi, v);
-    v = std::numeric_limits<float>::quiet_NaN();
-    ++n;
+// Unpacking (see unpack) in one branch-free expression per value, so that it
+// vectorises: a missing code, a value outside the valid range or a
+// non-finite value is missing; a value outside [lo, hi] metres implausible.
+// Both become NaN and are counted apart. Absent codes are NaN, which never
+// compares equal.
+class Unpacker {
+public:
+  Unpacker(const RawBlock& raw, float lo, float hi) : lo_(lo), hi_(hi) {
+    const Packing& pk = raw.packing;
+    miss0_ = pk.missing.size() > 0 ? static_cast<float>(pk.missing[0]) : kNaN;
+    miss1_ = pk.missing.size() > 1 ? static_cast<float>(pk.missing[1]) : kNaN;
+    // Without a valid range, the finite floats: +-Inf and NaN fail either way.
+    vmin_ = pk.valid_min ? static_cast<float>(*pk.valid_min) : std::numeric_limits<float>::lowest();
+    vmax_ = pk.valid_max ? static_cast<float>(*pk.valid_max) : std::numeric_limits<float>::max();
+    for (std::size_t i = 2; i < pk.missing.size(); ++i) more_codes_.push_back(static_cast<float>(pk.missing[i]));
+    scale_ = pk.scale_factor * raw.to_metres;
+    offset_ = pk.add_offset * raw.to_metres;
   }
-  if (n > 0 && static_cast<double>(n) > 0.01 * static_cast<double>(out.n_elem))
-    throw DataError(raw.path + ": " + std::to_string(n) + " of " + std::to_string(out.n_elem) +
-                    " values read lie outside the plausible heights of " + number_text(raw.level_hpa) + " hPa (" +
-                    number_text(std::round(r.lo)) + " to " + number_text(std::round(r.hi)) + " m; found " +
-                    number_text(found_lo) + " to " + number_text(found_hi) +
-                    " m): wrong units (geopotential given as metres?), another level or a damaged file");
-  return n;
+  bool has_more_codes() const { return !more_codes_.empty(); }
+  bool missing(float v) const {  // bitwise, not short-circuit: no branches
+    return static_cast<bool>(!(v >= vmin_) | !(v <= vmax_) | (v == miss0_) | (v == miss1_) |
+                             (std::abs(v) == kInf));
+  }
+  bool missing_code(float v) const {
+    return missing(v) || std::find(more_codes_.begin(), more_codes_.end(), v) != more_codes_.end();
+  }
+  float metres(float v) const { return static_cast<float>(v * scale_ + offset_); }
+  bool implausible(float y) const { return static_cast<bool>((y < lo_) | (y > hi_)); }
+
+  // One run of n values (stride s) into dst, counting into missing_ and implausible_.
+  void run(const float* src, std::size_t n, std::size_t s, float* dst) {
+    if (more_codes_.empty() && s == 1) {  // the usual case, vectorised
+      unsigned missing_here = 0, implausible_here = 0;  // vectorised counts beside the values
+      for (std::size_t j = 0; j < n; ++j) {
+        const float v = src[j], y = metres(v);
+        const bool bad = missing(v), odd = !bad & implausible(y);
+        missing_here += bad;
+        implausible_here += odd;
+        dst[j] = (bad | odd) ? kNaN : y;
+      }
+      missing_ += missing_here;
+      implausible_ += implausible_here;
+      return;
+    }
+    for (std::size_t j = 0; j < n; ++j) {
+      const float v = src[j * s], y = metres(v);
+      const bool bad = missing_code(v), odd = !bad && implausible(y);
+      missing_ += bad;
+      implausible_ += odd;
+      dst[j] = (bad || odd) ? kNaN : y;
+    }
+  }
+  std::size_t missing_count() const { return missing_; }
+  std::size_t implausible_count() const { return implausible_; }
+
+private:
+  static constexpr float kInf = std::numeric_limits<float>::infinity();
+  static constexpr float kNaN = std::numeric_limits<float>::quiet_NaN();
+  float lo_, hi_, miss0_, miss1_, vmin_, vmax_;
+  std::vector<float> more_codes_;  // missing_value with more than two codes (rare): the slower loop
+  double scale_, offset_;
+  std::size_t missing_ = 0, implausible_ = 0;
+};
+
+// The refusal of a block with more than 1 % implausible values, with the
+// range of those values (looked for again: the rare path).
+[[noreturn]] void refuse_implausible(const RawBlock& raw, const Unpacker& u, const HeightRange& r,
+                                     std::size_t n_values) {
+  float found_lo = std::numeric_limits<float>::max(), found_hi = std::numeric_limits<float>::lowest();
+  for (float v : raw.values) {
+    const float y = u.metres(v);
+    if (u.missing_code(v) || !u.implausible(y)) continue;
+    found_lo = std::min(found_lo, y);
+    found_hi = std::max(found_hi, y);
+  }
+  throw DataError(raw.path + ": " + std::to_string(u.implausible_count()) + " of " + std::to_string(n_values) +
+                  " values read lie outside the plausible heights of " + number_text(raw.level_hpa) + " hPa (" +
+                  number_text(std::round(r.lo)) + " to " + number_text(std::round(r.hi)) + " m; found " +
+                  number_text(found_lo) + " to " + number_text(found_hi) +
+                  " m): wrong units (geopotential given as metres?), another level or a damaged file");
 }
 
 }  // namespace
 
 std::size_t unpack(RawBlock& raw, arma::fmat& out) {
-  const std::size_t missing = unpack_values(raw, out);
-  return std::isnan(raw.level_hpa) ? missing : missing + drop_implausible(raw, out);
-}
-
-namespace {
-
-// The values in metres, missing codes and invalid values as NaN (see unpack).
-std::size_t unpack_values(RawBlock& raw, arma::fmat& out) {
   for (RawBlock::Box& box : raw.boxes)
     if (!box.inflated) {  // compressed chunks: inflated here, on the caller's thread
       detail::inflate_chunks(box.stored, raw.values.data() + box.offset, raw.path);
@@ -312,25 +361,11 @@ std::size_t unpack_values(RawBlock& raw, arma::fmat& out) {
     }
   const std::size_t nlat = raw.nlat, nlon_out = raw.nlon_out, count = raw.count;
   out.set_size(nlat * nlon_out, count);  // every element is written below
-  std::size_t n_missing = 0;
-  if (count == 0) return n_missing;
-  // Unpacking as one branch-free expression per value (it vectorises): a
-  // missing code, a value outside the valid range or a non-finite value
-  // becomes NaN. Absent codes are NaN, which never compares equal.
-  const Packing& pk = raw.packing;
+  if (count == 0) return 0;
+  const bool check = !std::isnan(raw.level_hpa);
+  const HeightRange r = check ? plausible_heights(raw.level_hpa) : HeightRange{0.0, 0.0};
   constexpr float kInf = std::numeric_limits<float>::infinity();
-  constexpr float kNaN = std::numeric_limits<float>::quiet_NaN();
-  const float miss0 = pk.missing.size() > 0 ? static_cast<float>(pk.missing[0]) : kNaN;
-  const float miss1 = pk.missing.size() > 1 ? static_cast<float>(pk.missing[1]) : kNaN;
-  // Without a valid range, the finite floats: +-Inf and NaN fail either way.
-  const float vmin = pk.valid_min ? static_cast<float>(*pk.valid_min) : std::numeric_limits<float>::lowest();
-  const float vmax = pk.valid_max ? static_cast<float>(*pk.valid_max) : std::numeric_limits<float>::max();
-  std::vector<float> more_codes;  // missing_value with more than two codes (rare): the slower loop
-  for (std::size_t i = 2; i < pk.missing.size(); ++i) more_codes.push_back(static_cast<float>(pk.missing[i]));
-  const double scale = pk.scale_factor * raw.to_metres, offset = pk.add_offset * raw.to_metres;
-  auto is_bad = [=](float v) {  // bitwise, not short-circuit: no branches
-    return static_cast<bool>(!(v >= vmin) | !(v <= vmax) | (v == miss0) | (v == miss1) | (std::abs(v) == kInf));
-  };
+  Unpacker u(raw, check ? static_cast<float>(r.lo) : -kInf, check ? static_cast<float>(r.hi) : kInf);
   for (const RawBlock::Box& box : raw.boxes)
     for (const auto& run : box.runs)
       for (std::size_t t = 0; t < count; ++t) {
@@ -339,30 +374,13 @@ std::size_t unpack_values(RawBlock& raw, arma::fmat& out) {
           const std::size_t oi = raw.lat_descending ? nlat - 1 - i : i;
           const float* src =
               raw.values.data() + box.offset + t * box.s_time + (box.lat_skip + i) * box.s_lat + run.start * box.s_lon;
-          float* dst = col + oi * nlon_out + run.out_offset;
-          if (more_codes.empty() && box.s_lon == 1) {  // the usual case, vectorised
-            unsigned bad_here = 0;  // a vectorised count beside the values
-            for (std::size_t j = 0; j < run.count; ++j) {
-              const float v = src[j];
-              const bool bad = is_bad(v);
-              bad_here += bad;
-              dst[j] = bad ? kNaN : static_cast<float>(v * scale + offset);
-            }
-            n_missing += bad_here;
-          } else {
-            for (std::size_t j = 0; j < run.count; ++j) {
-              const float v = src[j * box.s_lon];
-              const bool bad = is_bad(v) || std::find(more_codes.begin(), more_codes.end(), v) != more_codes.end();
-              n_missing += bad;
-              dst[j] = bad ? kNaN : static_cast<float>(v * scale + offset);
-            }
-          }
+          u.run(src, run.count, box.s_lon, col + oi * nlon_out + run.out_offset);
         }
       }
-  return n_missing;
+  if (static_cast<double>(u.implausible_count()) > 0.01 * static_cast<double>(out.n_elem))
+    refuse_implausible(raw, u, r, out.n_elem);
+  return u.missing_count() + u.implausible_count();
 }
-
-}  // namespace
 
 bool HeightDataset::inflates_chunks() const {
   const Impl& im = *impl_;
